@@ -146,6 +146,12 @@ func remlScore(y, varY []float64, tau2 float64) float64 {
 	return s
 }
 
+// remlLLSlack is the relative amount by which a Fisher-scoring step may
+// lower the restricted log-likelihood before it is halved. Near the maximum
+// the likelihood changes by less than its rounding error (about 1e-16
+// relative), and halving on noise would stall the iteration.
+const remlLLSlack = 1e-12
+
 // tau2REML is the REML estimator on validated variances: Fisher scoring from
 // start with step halving, and bisection on the score as fallback.
 func tau2REML(y, varY []float64, start, tol float64, maxIter int) (float64, bool, int) {
@@ -166,20 +172,18 @@ func tau2REML(y, varY []float64, start, tol float64, maxIter int) (float64, bool
 		if math.IsNaN(step) || math.IsInf(step, 0) {
 			break
 		}
+		full := math.Abs(math.Max(0, t+step) - t)
 		next := math.Max(0, t+step)
 		llNext, sNext, iNext := remlParts(y, varY, next)
-		for halve := 0; halve < 60 && !(llNext >= ll); halve++ {
+		slack := remlLLSlack * (1 + math.Abs(ll))
+		for halve := 0; halve < 60 && !(llNext >= ll-slack); halve++ {
 			// The full step lowered the likelihood: halve it.
 			step *= 0.5
 			next = math.Max(0, t+step)
 			llNext, sNext, iNext = remlParts(y, varY, next)
 		}
-		moved := math.Abs(next - t)
 		t, ll, score, info = next, llNext, sNext, iNext
-		if moved <= tol*(t+scale) {
-			if t == 0 && score > 0 {
-				continue
-			}
+		if full <= tol*(t+scale) {
 			return t, true, iter
 		}
 	}

@@ -5,6 +5,9 @@ Run with Debian's interpreter (it has statsmodels and scipy):
 
     /usr/bin/python3 testdata/reference/pool_statsmodels.py > testdata/reference/pool_statsmodels.txt
 
+It also writes the datasets to testdata/reference/pool_datasets.csv for
+pool_reml.R.
+
 It prints Go struct literals that are pasted into analysis/pool_statsmodels_test.go.
 Calls used:
     statsmodels.stats.meta_analysis.combine_effects(eff, var, method_re="dl")
@@ -91,6 +94,13 @@ def f(x):
 def vec(a):
     return "{" + ", ".join(f(x) for x in a) + "}"
 
+
+# The same datasets for testdata/reference/pool_reml.R.
+with open(__file__.replace("pool_statsmodels.py", "pool_datasets.csv"), "w") as out:
+    out.write("dataset,effect,se_effect\n")
+    for name, y, se in datasets:
+        for yi, si in zip(y, se):
+            out.write(f"{name},{float(yi)!r},{float(si)!r}\n")
 
 print("// statsmodels", statsmodels.__version__, "numpy", np.__version__)
 for name, y, se in datasets:
