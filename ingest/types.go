@@ -108,6 +108,7 @@ type Trial struct {
 	OverallStatus   string
 	LastKnownStatus string
 	WhyStopped      string
+	StatusVerified  string // statusVerifiedDate, yyyy-MM
 
 	StudyType         string
 	Phases            []string
@@ -166,6 +167,9 @@ type Outcome struct {
 	Dispersion      string // normalized code, e.g. STANDARD_DEVIATION; "" when absent; the text itself when unknown
 	Unit            string
 	DenomUnits      string // denomUnitsSelected; "" means participants
+	UnitsAnalyzed   string // typeUnitsAnalyzed; "" means participants
+	AnticipatedPost string // anticipatedPostingDate, with NOT_POSTED
+	CalculatePct    *bool
 	Groups          []Group
 	Denoms          []Denom // outcome-level denominators
 	Classes         []Class
@@ -238,6 +242,13 @@ type Analysis struct {
 	StatisticalComment string
 	EstimateComment    string
 	NonInferiorityType string
+
+	CILowerComment        string
+	CIUpperComment        string
+	PValueComment         string
+	TestedNonInferiority  *bool
+	NonInferiorityComment string
+	OtherDescription      string // otherAnalysisDescription
 }
 
 // Review is one published meta-analysis (a row of reviews.csv).
