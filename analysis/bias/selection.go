@@ -1,0 +1,583 @@
+package bias
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Defaults of SelectionSettings.
+const (
+	// DefaultSelectionCutpoint is the one-sided p value of the single cut
+	// point of the three-parameter selection model (McShane, Böckenholt &
+	// Hansen 2016, Perspect Psychol Sci 11:730-749): two-sided 0.05 in the
+	// favourable direction.
+	DefaultSelectionCutpoint = 0.025
+	// DefaultSelectionTol is the gradient tolerance of the optimizer when
+	// SelectionSettings.Tol is zero: the largest absolute component of the
+	// gradient of the negative log-likelihood, with effects divided by the
+	// root mean within-study variance so the tolerance has no units. At
+	// 1e-7 the estimates are stable to about seven digits, well above the
+	// rounding error of the sums (about 1e-13 for k = 1000).
+	DefaultSelectionTol = 1e-7
+	// DefaultSelectionMaxIter caps the Newton iterations when
+	// SelectionSettings.MaxIter is zero; fits of a handful of parameters
+	// converge in well under 50, more when tau² heads to zero.
+	DefaultSelectionMaxIter = 200
+	// tau2BoundaryRel is tau², relative to the mean within-study variance,
+	// below which tau² is treated as estimated at its boundary zero: its
+	// log-scale parameter then drifts towards minus infinity and has no
+	// usable standard error.
+	tau2BoundaryRel = 1e-6
+	// hessianStep is the central-difference step for differentiating the
+	// analytic gradient on the unit-free optimizer scale; about the cube
+	// root of machine epsilon, the usual choice for central differences
+	// (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, sec. 8.1).
+	hessianStep = 6e-6
+	// armijoC is the sufficient-decrease constant of the backtracking line
+	// search (Nocedal & Wright 2006, sec. 3.1, who suggest 1e-4).
+	armijoC = 1e-4
+	// maxNewtonStep caps each component of a Newton step on the optimizer
+	// scale (log tau² and log weights change by at most a factor e^5 per
+	// step), which keeps exp from overflowing far from the optimum.
+	maxNewtonStep = 5.0
+)
+
+// SelectionSettings configures SelectionModel.
+type SelectionSettings struct {
+	// Cutpoints are one-sided p values in the favourable direction,
+	// strictly increasing in (0, 1); nil means {0.025}.
+	Cutpoints []float64
+	// Direction is +1 if favourable effects are positive, -1 if negative,
+	// 0 for the sign of the fixed-effect estimate.
+	Direction float64
+	// Tol is the gradient tolerance (see DefaultSelectionTol); 0 means the
+	// default.
+	Tol float64
+	// MaxIter caps the optimizer iterations; 0 means the default.
+	MaxIter int
+}
+
+// SelectionResult is the fit of a step-function selection model.
+type SelectionResult struct {
+	// Cutpoints are the one-sided p-value cut points used; interval j runs
+	// from Cutpoints[j-1] (0 for the first) to Cutpoints[j] (1 for the last).
+	Cutpoints []float64
+	// Estimate is the selection-adjusted mean effect on the input scale and
+	// SE its standard error; Tau2 the between-study variance (squared effect
+	// units) and Tau2SE its standard error (NaN when tau² is at zero).
+	Estimate, SE, Tau2, Tau2SE float64
+	// Weights are the relative probabilities of publication of each p
+	// interval, the first fixed at 1 (its WeightsSE is 0).
+	Weights, WeightsSE []float64
+	// Counts is the number of studies in each p interval.
+	Counts []int
+	// LogLik is the maximised log-likelihood of the selection model and
+	// LogLikNull that of the random-effects model without selection (all
+	// weights 1); LRT = 2 (LogLik - LogLikNull) on LRTDF = len(Cutpoints)
+	// degrees of freedom, LRTP its chi-square p value.
+	LogLik, LogLikNull, LRT float64
+	LRTDF                   int
+	LRTP                    float64
+	// UnadjustedEstimate, UnadjustedSE and UnadjustedTau2 are the
+	// maximum-likelihood random-effects fit without selection.
+	UnadjustedEstimate, UnadjustedSE, UnadjustedTau2 float64
+	// Direction is the sign of the favourable effect used.
+	Direction float64
+	// Converged says whether both fits met the gradient tolerance;
+	// Iterations counts the Newton iterations of the selection fit;
+	// Message says how the fit ended and notes boundary estimates.
+	Converged  bool
+	Iterations int
+	Message    string
+}
+
+// SelectionModel fits the step-function selection model of Vevea and
+// Hedges (1995, Psychometrika 60:419-435) with random effects. Before
+// selection y_i ~ N(mu, tau² + se_i²). A study is observed with a
+// probability proportional to the weight ω_j of the interval j that holds
+// its one-sided p value in the favourable direction,
+//
+//	p_i = 1 - Φ(d·y_i / se_i),   d = Direction,
+//
+// with intervals cut at the one-sided Cutpoints a_1 < ... < a_J and ω_1 = 1.
+// The log-likelihood is
+//
+//	ℓ = Σ_i [ log ω_j(i) + log φ((y_i - mu)/σ_i) - log σ_i - log A_i ],
+//	σ_i² = tau² + se_i²,  A_i = Σ_j ω_j P(p in interval j | mu, σ_i),
+//
+// where interval j corresponds to d·y between se_i·Φ⁻¹(1 - a_j) and
+// se_i·Φ⁻¹(1 - a_{j-1}). It is maximised by a damped Newton method (analytic
+// gradient, central-difference Hessian, backtracking line search; see
+// minimize) over (mu, log tau², log ω_2, ..., log ω_{J+1}), on
+// effects divided by the root mean within-study variance. The default one
+// cut at 0.025 is the three-parameter model (McShane, Böckenholt & Hansen
+// 2016, Perspect Psychol Sci 11:730-749).
+//
+// Standard errors come from the inverse of the observed information: the
+// Hessian of the negative log-likelihood, obtained by central differences
+// of the analytic gradient on the optimizer scale
+// and carried to the natural scale by the delta method (SE(tau²) =
+// tau²·SE(log tau²), SE(ω) = ω·SE(log ω)). When tau² is at its boundary
+// (below 1e-6 of the mean within-study variance) its row is dropped, the
+// other standard errors are conditional on tau² = 0, Tau2SE is NaN and
+// Message says so.
+//
+// The likelihood-ratio test compares with the same model with all weights
+// fixed at 1 (the maximum-likelihood random-effects model, also returned
+// as Unadjusted*), chi-square with J degrees of freedom.
+//
+// Units: effects and standard errors on the raw scale; Estimate and SE in
+// effect units, Tau2 in squared units; weights are unitless. Edges: k < 3
+// and fewer studies than free parameters + 1 are errors; a p interval that
+// holds no study is an error wrapping ErrEmptyInterval naming the interval
+// (its weight is not identified). If the optimizer stops before the
+// gradient tolerance is met the result is returned with Converged false and
+// an error wrapping ErrNoConvergence.
+func SelectionModel(effects, seEffects []float64, s SelectionSettings) (SelectionResult, error) {
+	if err := checkStudies(effects, seEffects, 3); err != nil {
+		return SelectionResult{}, fmt.Errorf("selection model: %w", err)
+	}
+	cuts := s.Cutpoints
+	if cuts == nil {
+		cuts = []float64{DefaultSelectionCutpoint}
+	}
+	for i, a := range cuts {
+		if !(a > 0 && a < 1) || (i > 0 && !(a > cuts[i-1])) {
+			return SelectionResult{}, fmt.Errorf("selection model: cut points %v not strictly increasing in (0, 1): %w", cuts, ErrBadSetting)
+		}
+	}
+	tol := s.Tol
+	if tol == 0 {
+		tol = DefaultSelectionTol
+	}
+	maxIter := s.MaxIter
+	if maxIter == 0 {
+		maxIter = DefaultSelectionMaxIter
+	}
+	if !(tol > 0) || maxIter < 0 {
+		return SelectionResult{}, fmt.Errorf("selection model: tolerance %g, max iterations %d: %w", tol, maxIter, ErrBadSetting)
+	}
+	k := len(effects)
+	nParam := len(cuts) + 2
+	if k < nParam+1 {
+		return SelectionResult{}, fmt.Errorf("selection model: %d studies for %d parameters: %w", k, nParam, ErrTooFewStudies)
+	}
+	direction := s.Direction
+	if direction == 0 {
+		fe, _ := fixedEffect(effects, seEffects)
+		direction = sign(fe)
+	} else {
+		direction = sign(direction)
+	}
+
+	m := newSelModel(effects, seEffects, cuts, direction)
+	r := SelectionResult{
+		Cutpoints: append([]float64(nil), cuts...),
+		Direction: direction,
+		LRTDF:     len(cuts),
+		Counts:    make([]int, m.nInt),
+	}
+	for _, j := range m.interval {
+		r.Counts[j]++
+	}
+	for j, c := range r.Counts {
+		if c == 0 {
+			lo, hi := 0.0, 1.0
+			if j > 0 {
+				lo = cuts[j-1]
+			}
+			if j < len(cuts) {
+				hi = cuts[j]
+			}
+			return r, fmt.Errorf("selection model: no study with one-sided p in [%g, %g): %w", lo, hi, ErrEmptyInterval)
+		}
+	}
+	// Null fit: weights fixed at 1.
+	fe, _ := fixedEffect(m.y, m.se)
+	nullX := []float64{fe, math.Log(max(m.tau2Start(fe), 0.01))}
+	m.free = false
+	_, nullOK, nullMsg := m.minimize(nullX, tol, maxIter)
+	r.LogLikNull = -m.nll(nullX, nil) - float64(k)*math.Log(m.scale)
+	r.UnadjustedEstimate = direction * nullX[0] * m.scale
+	r.UnadjustedTau2 = math.Exp(nullX[1]) * m.scale * m.scale
+	if seNull, ok := m.standardErrors(nullX); ok {
+		r.UnadjustedSE = seNull[0] * m.scale
+	} else {
+		r.UnadjustedSE = math.NaN()
+	}
+
+	// Selection fit, started at the null fit with all weights 1.
+	m.free = true
+	x := make([]float64, nParam)
+	copy(x, nullX)
+	iter, ok, msg := m.minimize(x, tol, maxIter)
+	r.Iterations = iter
+	r.LogLik = -m.nll(x, nil) - float64(k)*math.Log(m.scale)
+	r.LRT = max(0, 2*(r.LogLik-r.LogLikNull))
+	r.LRTP = distuv.ChiSquared{K: float64(len(cuts))}.Survival(r.LRT)
+	r.Estimate = direction * x[0] * m.scale
+	tau2Scaled := math.Exp(x[1])
+	r.Tau2 = tau2Scaled * m.scale * m.scale
+	r.Weights = make([]float64, m.nInt)
+	r.WeightsSE = make([]float64, m.nInt)
+	r.Weights[0] = 1
+	for j := 1; j < m.nInt; j++ {
+		r.Weights[j] = math.Exp(x[j+1])
+	}
+	boundary := tau2Scaled < tau2BoundaryRel
+	if boundary {
+		r.Tau2 = 0
+	}
+	seX, seOK := m.standardErrorsMaybeBoundary(x, boundary)
+	r.SE, r.Tau2SE = math.NaN(), math.NaN()
+	for j := 1; j < m.nInt; j++ {
+		r.WeightsSE[j] = math.NaN()
+	}
+	if seOK {
+		r.SE = seX[0] * m.scale
+		if !boundary {
+			r.Tau2SE = r.Tau2 * seX[1]
+		}
+		for j := 1; j < m.nInt; j++ {
+			r.WeightsSE[j] = r.Weights[j] * seX[j+1]
+		}
+	}
+
+	r.Converged = ok && nullOK
+	switch {
+	case !nullOK:
+		r.Message = "fit without selection did not converge: " + nullMsg
+	case !ok:
+		r.Message = "selection fit did not converge: " + msg
+	default:
+		r.Message = fmt.Sprintf("converged in %d iterations", r.Iterations)
+	}
+	if boundary {
+		r.Message += "; tau² estimated at zero, its standard error is not reported and the other standard errors assume tau² = 0"
+	}
+	if !seOK {
+		r.Message += "; observed information not positive definite, standard errors not reported"
+	}
+	if !r.Converged {
+		return r, fmt.Errorf("selection model: %s: %w", r.Message, ErrNoConvergence)
+	}
+	return r, nil
+}
+
+// selModel holds the working-scale data of a selection-model fit: effects
+// multiplied by the direction and divided by scale.
+type selModel struct {
+	y, se, varY []float64
+	// cutZ[j] is Φ⁻¹(1 - a_j) for the J cut points (decreasing in j);
+	// interval j holds d·y/se in (cutZ[j], cutZ[j-1]] with cutZ[-1] = +Inf
+	// and cutZ[J] = -Inf.
+	cutZ     []float64
+	interval []int
+	nInt     int
+	scale    float64
+	free     bool // weights are free parameters (else all fixed at 1)
+	// scratch for the per-interval terms of one study
+	omega, dA []float64
+}
+
+func newSelModel(effects, seEffects, cuts []float64, direction float64) *selModel {
+	k := len(effects)
+	var sumVar float64
+	for _, se := range seEffects {
+		sumVar += se * se
+	}
+	scale := math.Sqrt(sumVar / float64(k))
+	nInt := len(cuts) + 1
+	buf := make([]float64, 3*k+len(cuts)+2*nInt)
+	m := &selModel{
+		y: buf[:k], se: buf[k : 2*k], varY: buf[2*k : 3*k],
+		cutZ:     buf[3*k : 3*k+len(cuts)],
+		omega:    buf[3*k+len(cuts) : 3*k+len(cuts)+nInt],
+		dA:       buf[3*k+len(cuts)+nInt:],
+		interval: make([]int, k),
+		nInt:     nInt,
+		scale:    scale,
+	}
+	for j, a := range cuts {
+		m.cutZ[j] = distuv.UnitNormal.Quantile(1 - a)
+	}
+	for i, y := range effects {
+		m.y[i] = direction * y / scale
+		m.se[i] = seEffects[i] / scale
+		m.varY[i] = m.se[i] * m.se[i]
+		z := m.y[i] / m.se[i]
+		j := 0
+		for j < len(m.cutZ) && !(z > m.cutZ[j]) {
+			j++
+		}
+		m.interval[i] = j
+	}
+	return m
+}
+
+// tau2Start is the DerSimonian-Laird moment estimate of tau² on the working
+// scale, used only as a starting value.
+func (m *selModel) tau2Start(fe float64) float64 {
+	var q, sumW, sumW2 float64
+	for i, y := range m.y {
+		w := 1 / m.varY[i]
+		q += w * (y - fe) * (y - fe)
+		sumW += w
+		sumW2 += w * w
+	}
+	return (q - float64(len(m.y)-1)) / (sumW - sumW2/sumW)
+}
+
+// normCDF and normSF are Φ and 1 - Φ via erfc, accurate in both tails.
+func normCDF(u float64) float64 { return 0.5 * math.Erfc(-u/math.Sqrt2) }
+func normSF(u float64) float64  { return 0.5 * math.Erfc(u/math.Sqrt2) }
+
+// normPDFTimes returns φ(u) and u·φ(u), both 0 at ±Inf.
+func normPDFTimes(u float64) (pdf, updf float64) {
+	if math.IsInf(u, 0) {
+		return 0, 0
+	}
+	pdf = math.Exp(-0.5*u*u) / math.Sqrt(2*math.Pi)
+	return pdf, u * pdf
+}
+
+// nll returns the negative log-likelihood on the working scale at x, and its gradient
+// in grad when grad is not nil. x = (mu, log tau², log ω_2, ...) when
+// m.free, (mu, log tau²) otherwise.
+func (m *selModel) nll(x, grad []float64) float64 {
+	mu, tau2 := x[0], math.Exp(x[1])
+	for j := range m.omega {
+		m.omega[j] = 1
+	}
+	if m.free {
+		for j := 1; j < m.nInt; j++ {
+			m.omega[j] = math.Exp(x[j+1])
+		}
+	}
+	for j := range grad {
+		grad[j] = 0
+	}
+	const halfLog2Pi = 0.91893853320467274178 // log(2π)/2
+	var f float64
+	for i, y := range m.y {
+		varTot := tau2 + m.varY[i]
+		sigma := math.Sqrt(varTot)
+		r := y - mu
+		f += halfLog2Pi + math.Log(sigma) + r*r/(2*varTot)
+		var dMu, dSigma float64 // derivatives of ℓ_i
+		dMu = r / varTot
+		dSigma = -1/sigma + r*r/(varTot*sigma)
+		if m.free {
+			jObs := m.interval[i]
+			f -= math.Log(m.omega[jObs])
+			// A_i and its derivatives
+			var a, aMu, aSigma float64
+			uPrev := math.Inf(1)
+			for j := 0; j < m.nInt; j++ {
+				u := math.Inf(-1)
+				if j < len(m.cutZ) {
+					u = (m.se[i]*m.cutZ[j] - mu) / sigma
+				}
+				var p float64
+				if u > 0 {
+					p = normSF(u) - normSF(uPrev)
+				} else {
+					p = normCDF(uPrev) - normCDF(u)
+				}
+				pdfU, upU := normPDFTimes(u)
+				pdfP, upP := normPDFTimes(uPrev)
+				m.dA[j] = p
+				a += m.omega[j] * p
+				aMu += m.omega[j] * (pdfU - pdfP) / sigma
+				aSigma += m.omega[j] * (upU - upP) / sigma
+				uPrev = u
+			}
+			f += math.Log(a)
+			if grad != nil {
+				dMu -= aMu / a
+				dSigma -= aSigma / a
+				for j := 1; j < m.nInt; j++ {
+					g := -m.omega[j] * m.dA[j] / a
+					if j == jObs {
+						g++
+					}
+					grad[j+1] -= g
+				}
+			}
+		}
+		if grad != nil {
+			grad[0] -= dMu
+			grad[1] -= dSigma * tau2 / (2 * sigma)
+		}
+	}
+	return f
+}
+
+// minimize minimises m.nll from x, which it overwrites with the last
+// iterate, by Newton's method with a central-difference Hessian of the
+// analytic gradient, Levenberg damping (H + λI) when the Hessian is not
+// positive definite or a step fails, and a backtracking Armijo line search
+// (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, ch. 3). It stops
+// when every gradient component is at most tol in absolute value.
+func (m *selModel) minimize(x []float64, tol float64, maxIter int) (iter int, ok bool, msg string) {
+	n := len(x)
+	buf := make([]float64, 4*n)
+	g, step, trial, gTrial := buf[:n], buf[n:2*n], buf[2*n:3*n], buf[3*n:]
+	h := mat.NewSymDense(n, nil)
+	damped := mat.NewSymDense(n, nil)
+	var chol mat.Cholesky
+	stepVec := mat.NewVecDense(n, step)
+	gVec := mat.NewVecDense(n, g)
+	f := m.nll(x, g)
+	lambda := 0.0
+	for iter = 0; ; iter++ {
+		if maxAbs(g) <= tol {
+			return iter, true, fmt.Sprintf("converged in %d iterations", iter)
+		}
+		if iter >= maxIter {
+			return iter, false, fmt.Sprintf("gradient %.3g above tolerance %g after %d iterations", maxAbs(g), tol, iter)
+		}
+		if !(f < math.Inf(1)) {
+			return iter, false, "likelihood not finite"
+		}
+		m.hessian(h, x, trial, gTrial)
+		var maxDiag float64
+		for i := 0; i < n; i++ {
+			maxDiag = max(maxDiag, math.Abs(h.At(i, i)))
+		}
+		lambda = max(lambda/10, 0)
+		accepted := false
+		for attempt := 0; attempt < 60 && !accepted; attempt++ {
+			damped.CopySym(h)
+			for i := 0; i < n; i++ {
+				damped.SetSym(i, i, h.At(i, i)+lambda)
+			}
+			if chol.Factorize(damped) {
+				if err := chol.SolveVecTo(stepVec, gVec); err == nil {
+					var slope float64
+					for i := range step {
+						step[i] = -step[i]
+						step[i] = max(-maxNewtonStep, min(maxNewtonStep, step[i]))
+						slope += step[i] * g[i]
+					}
+					if slope < 0 {
+						accepted = m.lineSearch(x, trial, gTrial, step, &f, slope, g)
+					}
+				}
+			}
+			if !accepted {
+				lambda = max(2*lambda, 1e-8*max(maxDiag, 1))
+			}
+		}
+		if !accepted {
+			return iter, false, fmt.Sprintf("no decrease of the negative log-likelihood found at iteration %d", iter+1)
+		}
+	}
+}
+
+// lineSearch backtracks along step from x until the Armijo condition holds;
+// on success it moves x, *f and g to the accepted point.
+func (m *selModel) lineSearch(x, trial, gTrial, step []float64, f *float64, slope float64, g []float64) bool {
+	for t := 1.0; t > 1e-12; t /= 2 {
+		for i := range x {
+			trial[i] = x[i] + t*step[i]
+		}
+		ft := m.nll(trial, gTrial)
+		if ft <= *f+armijoC*t*slope {
+			copy(x, trial)
+			copy(g, gTrial)
+			*f = ft
+			return true
+		}
+	}
+	return false
+}
+
+// hessian fills dst with the symmetrized central-difference Jacobian of the
+// analytic gradient at x,
+//
+//	H_ij = ½ [ (g_i(x + h e_j) - g_i(x - h e_j)) + (g_j(x + h e_i) - g_j(x - h e_i)) ] / (2h),
+//
+// with h = hessianStep; trial and gTrial are scratch of length len(x).
+func (m *selModel) hessian(dst *mat.SymDense, x, trial, gTrial []float64) {
+	n := len(x)
+	var small [8 + 64]float64 // up to 8 parameters without heap allocation
+	var gp, jac []float64
+	if n <= 8 {
+		gp, jac = small[:n], small[8:8+n*n]
+	} else {
+		gp, jac = make([]float64, n), make([]float64, n*n)
+	}
+	copy(trial, x)
+	for j := 0; j < n; j++ {
+		trial[j] = x[j] + hessianStep
+		m.nll(trial, gp)
+		trial[j] = x[j] - hessianStep
+		m.nll(trial, gTrial)
+		trial[j] = x[j]
+		for i := 0; i < n; i++ {
+			jac[i*n+j] = (gp[i] - gTrial[i]) / (2 * hessianStep)
+		}
+	}
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			dst.SetSym(i, j, 0.5*(jac[i*n+j]+jac[j*n+i]))
+		}
+	}
+}
+
+func maxAbs(x []float64) float64 {
+	var a float64
+	for _, v := range x {
+		a = max(a, math.Abs(v))
+	}
+	return a
+}
+
+// standardErrors returns the standard errors of the optimizer-scale
+// parameters from the inverse of the numerical Hessian at x.
+func (m *selModel) standardErrors(x []float64) ([]float64, bool) {
+	return m.standardErrorsMaybeBoundary(x, false)
+}
+
+// standardErrorsMaybeBoundary is standardErrors; with dropTau2 the log tau²
+// row and column are removed first (SEs conditional on tau² at x[1]) and the
+// returned slice holds 0 in place of its SE.
+func (m *selModel) standardErrorsMaybeBoundary(x []float64, dropTau2 bool) ([]float64, bool) {
+	n := len(x)
+	full := mat.NewSymDense(n, nil)
+	scratch := make([]float64, 2*n)
+	m.hessian(full, x, scratch[:n], scratch[n:])
+	keep := make([]int, 0, n)
+	for i := 0; i < n; i++ {
+		if !(dropTau2 && i == 1) {
+			keep = append(keep, i)
+		}
+	}
+	h := mat.NewSymDense(len(keep), nil)
+	for a, i := range keep {
+		for b, j := range keep[a:] {
+			h.SetSym(a, a+b, full.At(i, j))
+		}
+	}
+	var chol mat.Cholesky
+	if !chol.Factorize(h) {
+		return nil, false
+	}
+	var inv mat.SymDense
+	if err := chol.InverseTo(&inv); err != nil {
+		return nil, false
+	}
+	se := make([]float64, n)
+	for a, i := range keep {
+		d := inv.At(a, a)
+		if !(d > 0) {
+			return nil, false
+		}
+		se[i] = math.Sqrt(d)
+	}
+	return se, true
+}
