@@ -2,7 +2,6 @@ package analysis
 
 import (
 	"math"
-	"strconv"
 )
 
 // Derivation records how one number was derived, for the audit trail.
@@ -141,5 +140,3 @@ func HedgesG(treat, ctrl Arm) (Effect, error) {
 		}},
 	}, nil
 }
-
-func itoa(i int) string { return strconv.Itoa(i) }
