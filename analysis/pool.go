@@ -194,6 +194,10 @@ func fixedCore(y, varY []float64, tau2 float64) (mu, sumW, q float64) {
 		sumWY += w * yi
 	}
 	mu = sumWY / sumW
+	if len(y) == 1 {
+		// Exact, without the rounding of w y / w.
+		return y[0], sumW, 0
+	}
 	for i, yi := range y {
 		r := yi - mu
 		q += r * r / (varY[i] + tau2)
@@ -203,6 +207,10 @@ func fixedCore(y, varY []float64, tau2 float64) (mu, sumW, q float64) {
 
 // fillWeights writes percent weights 100 w_i / sum w into dst.
 func fillWeights(dst, varY []float64, tau2, sumW float64) {
+	if len(dst) == 1 {
+		dst[0] = 100
+		return
+	}
 	for i, v := range varY {
 		dst[i] = 100 / ((v + tau2) * sumW)
 	}
