@@ -1,0 +1,426 @@
+package compare
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"unshelved/analysis"
+	"unshelved/ingest"
+)
+
+// Where a study's effect came from.
+const (
+	OriginPublished = "published"
+	OriginRegistry  = "registry"
+)
+
+// StudyEffect is one study's effect on the review's measure, ready to pool.
+type StudyEffect struct {
+	Study         string  `json:"study"`
+	TrialID       string  `json:"trial_id,omitempty"`
+	Origin        string  `json:"origin"` // published or registry
+	Effect        float64 `json:"effect"`
+	SE            float64 `json:"se"` // standard error of Effect
+	TreatN        int     `json:"treat_n,omitempty"`
+	CtrlN         int     `json:"ctrl_n,omitempty"`
+	ConvertedFrom string  `json:"converted_from"`
+	// OutcomeIndex is the registry outcome used (registry effects only).
+	OutcomeIndex *int                  `json:"outcome_index,omitempty"`
+	OutcomeTitle string                `json:"outcome_title,omitempty"`
+	Derivations  []analysis.Derivation `json:"derivations,omitempty"`
+	Flags        []string              `json:"flags,omitempty"`
+}
+
+// RejectError says why a registry outcome or a study cannot be used.
+type RejectError struct {
+	Reason string // short machine-friendly reason, e.g. "not-continuous"
+	Detail string // a sentence for people
+}
+
+func (e *RejectError) Error() string { return e.Reason + ": " + e.Detail }
+
+func reject(reason, format string, args ...any) error {
+	return &RejectError{Reason: reason, Detail: fmt.Sprintf(format, args...)}
+}
+
+// Rejection reasons, stable for scripts.
+const (
+	ReasonNoOutcome     = "no-outcome"
+	ReasonNotPosted     = "not-posted"
+	ReasonNotContinuous = "not-continuous"
+	ReasonNoData        = "no-data"
+	ReasonAmbiguousRow  = "ambiguous-row"
+	ReasonMissingGroup  = "missing-group"
+	ReasonMissingValue  = "missing-value"
+	ReasonMissingN      = "missing-n"
+	ReasonDispersion    = "unusable-dispersion"
+	ReasonUnit          = "incompatible-unit"
+	ReasonBadValue      = "bad-value"
+	ReasonIncluded      = "already-included"
+)
+
+// PublishedEffect converts one published study of a review into an effect
+// on the review's measure. A study that gives effect and SE is used as the
+// review reported it; otherwise the arm data are converted (MD, or Hedges'
+// g for SMD reviews).
+func PublishedEffect(rv ingest.Review, s ingest.ReviewStudy) (StudyEffect, error) {
+	se := StudyEffect{Study: s.Study, TrialID: s.RegistryID, Origin: OriginPublished}
+	if s.TreatN != nil && s.CtrlN != nil {
+		se.TreatN, se.CtrlN = *s.TreatN, *s.CtrlN
+	}
+	if s.Effect != nil && s.SE != nil {
+		if !(*s.SE > 0) || math.IsInf(*s.SE, 0) || math.IsNaN(*s.Effect) || math.IsInf(*s.Effect, 0) {
+			return se, reject(ReasonBadValue, "study %q: effect %v with SE %v is not usable", s.Study, *s.Effect, *s.SE)
+		}
+		se.Effect, se.SE = *s.Effect, *s.SE
+		se.ConvertedFrom = "effect_se"
+		return se, nil
+	}
+	if s.TreatMean == nil || s.TreatSD == nil || s.TreatN == nil || s.CtrlMean == nil || s.CtrlSD == nil || s.CtrlN == nil {
+		return se, reject(ReasonMissingValue, "study %q has neither effect and se nor complete arm data", s.Study)
+	}
+	treat := analysis.Arm{Mean: *s.TreatMean, SD: *s.TreatSD, N: *s.TreatN}
+	ctrl := analysis.Arm{Mean: *s.CtrlMean, SD: *s.CtrlSD, N: *s.CtrlN}
+	eff, err := armEffect(rv.Measure, treat, ctrl)
+	if err != nil {
+		return se, reject(ReasonBadValue, "study %q: %v", s.Study, err)
+	}
+	se.Effect, se.SE = eff.Estimate, eff.SE
+	se.Derivations = eff.Derivations
+	se.ConvertedFrom = "arms_sd"
+	return se, nil
+}
+
+// armEffect computes the review's measure from two arms.
+func armEffect(measure string, treat, ctrl analysis.Arm) (analysis.Effect, error) {
+	if strings.EqualFold(measure, "SMD") {
+		return analysis.HedgesG(treat, ctrl)
+	}
+	return analysis.MeanDifference(treat, ctrl)
+}
+
+// RegistryEffect converts the registry outcome named by link into an
+// effect on the review's measure, experimental minus comparator, with the
+// sign reversed when the link says the registry measure runs the other way.
+// Every step is recorded in Derivations. An unusable outcome gives a
+// *RejectError with the reason.
+func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffect, error) {
+	se := StudyEffect{Study: t.TrialID, TrialID: t.TrialID, Origin: OriginRegistry}
+	var o *ingest.Outcome
+	for i := range t.Outcomes {
+		if t.Outcomes[i].Index == l.OutcomeIndex {
+			o = &t.Outcomes[i]
+			break
+		}
+	}
+	if o == nil {
+		return se, reject(ReasonNoOutcome, "%s has no posted outcome measure at index %d (it has %d)", t.TrialID, l.OutcomeIndex, len(t.Outcomes))
+	}
+	idx := o.Index
+	se.OutcomeIndex = &idx
+	se.OutcomeTitle = o.Title
+	if strings.EqualFold(o.ReportingStatus, "NOT_POSTED") {
+		return se, reject(ReasonNotPosted, "%s outcome %d: results not posted", t.TrialID, idx)
+	}
+	kind, err := parameterKind(o.ParamType)
+	if err != nil {
+		return se, reject(ReasonNotContinuous, "%s outcome %d: %v", t.TrialID, idx, err)
+	}
+	if len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0 {
+		return se, reject(ReasonMissingGroup, "%s outcome %d: the link names no experimental or no comparator group", t.TrialID, idx)
+	}
+	class, cat, err := singleRow(o)
+	if err != nil {
+		return se, reject(ReasonAmbiguousRow, "%s outcome %d: %v", t.TrialID, idx, err)
+	}
+
+	var conv *unitConversion
+	if l.UnitFrom != "" || (o.Unit != "" && rv.Unit != "") {
+		from := l.UnitFrom
+		if from == "" {
+			from = o.Unit
+		}
+		c, err := findConversion(from, rv.Unit, rv.Outcome)
+		if err != nil && l.UnitFrom != "" {
+			return se, reject(ReasonUnit, "%s outcome %d: %v", t.TrialID, idx, err)
+		}
+		conv = c
+	}
+
+	var derivs []analysis.Derivation
+	var flags []string
+	buildArm := func(groups []string) (analysis.Arm, error) {
+		arms := make([]analysis.Arm, 0, len(groups))
+		for _, g := range groups {
+			a, d, fl, err := groupArm(t.TrialID, o, class, cat, g, kind)
+			if err != nil {
+				return analysis.Arm{}, err
+			}
+			if conv != nil {
+				a.Mean = conv.Scale*a.Mean + conv.Offset
+				a.SD = math.Abs(conv.Scale) * a.SD
+				d = append(d, analysis.Derivation{
+					Method:  "unit_conversion",
+					Formula: fmt.Sprintf("value_%s = %g * value_%s + %g; SD scales by %g", conv.To, conv.Scale, conv.From, conv.Offset, math.Abs(conv.Scale)),
+					Inputs:  []analysis.NamedValue{{Name: "mean", Value: a.Mean}, {Name: "sd", Value: a.SD}},
+					Source:  conv.Source,
+				})
+			}
+			derivs = append(derivs, d...)
+			flags = append(flags, fl...)
+			arms = append(arms, a)
+		}
+		if len(arms) == 1 {
+			return arms[0], nil
+		}
+		c, d, err := analysis.CombineArms(arms)
+		if err != nil {
+			return analysis.Arm{}, reject(ReasonBadValue, "%s outcome %d: combine groups %s: %v", t.TrialID, idx, strings.Join(groups, ";"), err)
+		}
+		derivs = append(derivs, d)
+		return c, nil
+	}
+	treat, err := buildArm(l.TreatGroups)
+	if err != nil {
+		return se, err
+	}
+	ctrl, err := buildArm(l.CtrlGroups)
+	if err != nil {
+		return se, err
+	}
+	eff, err := armEffect(rv.Measure, treat, ctrl)
+	if err != nil {
+		return se, reject(ReasonBadValue, "%s outcome %d: %v", t.TrialID, idx, err)
+	}
+	derivs = append(derivs, eff.Derivations...)
+	se.Effect, se.SE = eff.Estimate, eff.SE
+	if l.Flip {
+		se.Effect = -se.Effect
+		derivs = append(derivs, analysis.Derivation{
+			Method:  "sign_flip",
+			Formula: "effect = -effect (the registry measure runs opposite to the review's outcome)",
+			Inputs:  []analysis.NamedValue{{Name: "effect", Value: se.Effect}},
+		})
+	}
+	se.TreatN, se.CtrlN = treat.N, ctrl.N
+	se.Derivations = derivs
+	se.Flags = dedupe(flags)
+	se.ConvertedFrom = convertedFrom(kind, o.Dispersion, len(l.TreatGroups)+len(l.CtrlGroups) > 2)
+	return se, nil
+}
+
+// parameter kinds a registry outcome can have for our purpose.
+const (
+	kindMean   = "mean"
+	kindMedian = "median"
+)
+
+func parameterKind(paramType string) (string, error) {
+	switch strings.ToUpper(strings.TrimSpace(paramType)) {
+	case "MEAN", "LEAST_SQUARES_MEAN":
+		return kindMean, nil
+	case "MEDIAN":
+		return kindMedian, nil
+	case "":
+		return "", errors.New("no parameter type posted (nobody analysed?)")
+	default:
+		return "", fmt.Errorf("parameter %s is not a continuous mean or median", paramType)
+	}
+}
+
+// singleRow returns the one class and category of an outcome. Outcomes
+// posted in several rows (visits, components) cannot be used until the row
+// is chosen.
+func singleRow(o *ingest.Outcome) (int, int, error) {
+	if len(o.Classes) == 0 {
+		return 0, 0, errors.New("no measurements posted")
+	}
+	if len(o.Classes) > 1 {
+		return 0, 0, fmt.Errorf("posted in %d rows; only single-row outcomes are used", len(o.Classes))
+	}
+	if n := len(o.Classes[0].Categories); n != 1 {
+		return 0, 0, fmt.Errorf("posted in %d categories; only single-row outcomes are used", n)
+	}
+	return 0, 0, nil
+}
+
+// groupArm reads one group's mean, SD and N from an outcome row.
+func groupArm(trialID string, o *ingest.Outcome, class, cat int, groupID, kind string) (analysis.Arm, []analysis.Derivation, []string, error) {
+	var m *ingest.Measurement
+	for i, x := range o.Classes[class].Categories[cat].Measurements {
+		if x.GroupID == groupID {
+			m = &o.Classes[class].Categories[cat].Measurements[i]
+			break
+		}
+	}
+	where := fmt.Sprintf("%s outcome %d group %s", trialID, o.Index, groupID)
+	if m == nil {
+		return analysis.Arm{}, nil, nil, reject(ReasonMissingGroup, "%s: no measurement posted", where)
+	}
+	n, ok := groupN(o, class, groupID)
+	if !ok {
+		return analysis.Arm{}, nil, nil, reject(ReasonMissingN, "%s: no participant count", where)
+	}
+	if n < 2 {
+		return analysis.Arm{}, nil, nil, reject(ReasonMissingN, "%s: %d participant(s) analysed", where, n)
+	}
+	if !m.Value.OK {
+		return analysis.Arm{}, nil, nil, reject(ReasonMissingValue, "%s: value %q is not a number%s", where, m.Value.Text, commentSuffix(m.Comment))
+	}
+	value := m.Value.Value
+	var derivs []analysis.Derivation
+	var flags []string
+	var sd float64
+	switch o.Dispersion {
+	case "STANDARD_DEVIATION":
+		if !m.Spread.OK || !(m.Spread.Value > 0) {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: standard deviation %q is not usable%s", where, m.Spread.Text, commentSuffix(m.Comment))
+		}
+		sd = m.Spread.Value
+	case "STANDARD_ERROR":
+		if !m.Spread.OK || !(m.Spread.Value > 0) {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: standard error %q is not usable%s", where, m.Spread.Text, commentSuffix(m.Comment))
+		}
+		v, d, err := analysis.SDFromSE(m.Spread.Value, n)
+		if err != nil {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: %v", where, err)
+		}
+		sd = v
+		derivs = append(derivs, d)
+	case "CONFIDENCE_80", "CONFIDENCE_90", "CONFIDENCE_95", "CONFIDENCE_975", "CONFIDENCE_99":
+		if !m.Lower.OK || !m.Upper.OK || !(m.Upper.Value > m.Lower.Value) {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: confidence limits %q, %q are not usable%s", where, m.Lower.Text, m.Upper.Text, commentSuffix(m.Comment))
+		}
+		v, d, err := analysis.SDFromCI(m.Lower.Value, m.Upper.Value, n, ciLevel(o.Dispersion))
+		if err != nil {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: %v", where, err)
+		}
+		sd = v
+		derivs = append(derivs, d)
+	case "INTER_QUARTILE_RANGE", "FULL_RANGE":
+		if !m.Lower.OK || !m.Upper.OK || !(m.Upper.Value > m.Lower.Value) {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: limits %q, %q are not usable%s", where, m.Lower.Text, m.Upper.Text, commentSuffix(m.Comment))
+		}
+		var mean float64
+		var d analysis.Derivation
+		var err error
+		if o.Dispersion == "INTER_QUARTILE_RANGE" {
+			mean, sd, d, err = analysis.MeanSDFromMedianIQR(m.Lower.Value, value, m.Upper.Value, n)
+		} else {
+			mean, sd, d, err = analysis.MeanSDFromMedianRange(m.Lower.Value, value, m.Upper.Value, n)
+		}
+		if err != nil {
+			return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: %v", where, err)
+		}
+		if kind == kindMedian {
+			value = mean
+		}
+		derivs = append(derivs, d)
+		flags = append(flags, "symmetry assumption: mean and SD estimated from quartiles or range")
+	default:
+		return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: dispersion %q cannot give a standard deviation", where, o.DispersionText)
+	}
+	if kind == kindMedian && o.Dispersion != "INTER_QUARTILE_RANGE" && o.Dispersion != "FULL_RANGE" {
+		return analysis.Arm{}, nil, nil, reject(ReasonDispersion, "%s: a median needs quartiles or a range", where)
+	}
+	return analysis.Arm{Mean: value, SD: sd, N: n}, derivs, flags, nil
+}
+
+// groupN resolves a group's N: class-level denominators when the class has
+// them, else the outcome-level ones, in the unit the outcome was analysed
+// in (participants unless the record says otherwise).
+func groupN(o *ingest.Outcome, class int, groupID string) (int, bool) {
+	denoms := o.Denoms
+	if len(o.Classes[class].Denoms) > 0 {
+		denoms = o.Classes[class].Denoms
+	}
+	want := o.DenomUnits
+	if want == "" {
+		want = "Participants"
+	}
+	var chosen *ingest.Denom
+	for i := range denoms {
+		if strings.EqualFold(strings.TrimSpace(denoms[i].Units), want) {
+			chosen = &denoms[i]
+			break
+		}
+	}
+	if chosen == nil && len(denoms) == 1 {
+		chosen = &denoms[0]
+	}
+	if chosen == nil {
+		return 0, false
+	}
+	for _, c := range chosen.Counts {
+		if c.GroupID == groupID && c.Value.OK && c.Value.Value == math.Trunc(c.Value.Value) && c.Value.Value >= 0 {
+			return int(c.Value.Value), true
+		}
+	}
+	return 0, false
+}
+
+func ciLevel(code string) float64 {
+	switch code {
+	case "CONFIDENCE_80":
+		return 0.80
+	case "CONFIDENCE_90":
+		return 0.90
+	case "CONFIDENCE_975":
+		return 0.975
+	case "CONFIDENCE_99":
+		return 0.99
+	default:
+		return 0.95
+	}
+}
+
+func commentSuffix(c string) string {
+	if c == "" {
+		return ""
+	}
+	return fmt.Sprintf(" (comment: %s)", c)
+}
+
+// convertedFrom names the route a registry effect took, for tables.
+func convertedFrom(kind, dispersion string, combined bool) string {
+	var s string
+	switch dispersion {
+	case "STANDARD_DEVIATION":
+		s = "arms_sd"
+	case "STANDARD_ERROR":
+		s = "arms_se"
+	case "INTER_QUARTILE_RANGE":
+		s = "arms_median_iqr"
+	case "FULL_RANGE":
+		s = "arms_range"
+	default:
+		s = "arms_" + strings.ToLower(strings.TrimPrefix(dispersion, "CONFIDENCE_")) + "ci"
+		if strings.HasPrefix(dispersion, "CONFIDENCE_") {
+			s = "arms_ci" + strings.TrimPrefix(dispersion, "CONFIDENCE_")
+		}
+	}
+	if kind == kindMedian {
+		s += "_median"
+	}
+	if combined {
+		s += "_combined"
+	}
+	return s
+}
+
+func dedupe(s []string) []string {
+	if len(s) == 0 {
+		return nil
+	}
+	seen := make(map[string]bool, len(s))
+	out := s[:0:0]
+	for _, x := range s {
+		if !seen[x] {
+			seen[x] = true
+			out = append(out, x)
+		}
+	}
+	return out
+}

@@ -1,0 +1,189 @@
+package compare
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"unshelved/analysis"
+	"unshelved/ingest"
+)
+
+// PoolOptions control PoolStudies.
+type PoolOptions struct {
+	Measure      string              // MD or SMD; zero means MD
+	Level        float64             // zero means 0.95
+	Tau2         analysis.Tau2Method // zero means REML
+	TruncateHKSJ bool
+}
+
+// PoolStudyRow is one study of a pool report.
+type PoolStudyRow struct {
+	Study         string   `json:"study"`
+	Effect        float64  `json:"effect"`
+	SE            float64  `json:"se"`
+	CILow         float64  `json:"ci_low"`
+	CIHigh        float64  `json:"ci_high"`
+	WeightFixed   *float64 `json:"weight_fixed"`
+	WeightRandom  *float64 `json:"weight_random"`
+	ConvertedFrom string   `json:"converted_from"`
+	TreatN        int      `json:"treat_n,omitempty"`
+	CtrlN         int      `json:"ctrl_n,omitempty"`
+}
+
+// PoolFixed is the fixed-effect block of a pool report.
+type PoolFixed struct {
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
+	CILow    *float64 `json:"ci_low"`
+	CIHigh   *float64 `json:"ci_high"`
+	Z        *float64 `json:"z"`
+	P        *float64 `json:"p"`
+}
+
+// PoolHeterogeneity is the heterogeneity block of a pool report.
+type PoolHeterogeneity struct {
+	Q          *float64 `json:"q"`
+	DF         int      `json:"df"`
+	QP         *float64 `json:"q_p"`
+	I2         *float64 `json:"i2"`
+	H2         *float64 `json:"h2"`
+	Tau2       *float64 `json:"tau2"`
+	Tau2CILow  *float64 `json:"tau2_ci_low"`
+	Tau2CIHigh *float64 `json:"tau2_ci_high"`
+	Tau2Method string   `json:"tau2_method"`
+}
+
+// PoolRandom is the random-effects block of a pool report.
+type PoolRandom struct {
+	Estimate   *float64 `json:"estimate"`
+	SE         *float64 `json:"se"`
+	CILow      *float64 `json:"ci_low"`
+	CIHigh     *float64 `json:"ci_high"`
+	P          *float64 `json:"p"`
+	HKSJCILow  *float64 `json:"hksj_ci_low"`
+	HKSJCIHigh *float64 `json:"hksj_ci_high"`
+	HKSJScale  *float64 `json:"hksj_scale"`
+	PILow      *float64 `json:"pi_low"`
+	PIHigh     *float64 `json:"pi_high"`
+	Converged  bool     `json:"converged"`
+}
+
+// PoolMethodRow is one tau² estimator's random-effects result.
+type PoolMethodRow struct {
+	Tau2      *float64 `json:"tau2"`
+	Estimate  *float64 `json:"estimate"`
+	SE        *float64 `json:"se"`
+	CILow     *float64 `json:"ci_low"`
+	CIHigh    *float64 `json:"ci_high"`
+	Converged bool     `json:"converged"`
+}
+
+// PoolLeaveOneOut is one leave-one-out row.
+type PoolLeaveOneOut struct {
+	Omitted  string   `json:"omitted"`
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
+	CILow    *float64 `json:"ci_low"`
+	CIHigh   *float64 `json:"ci_high"`
+	Tau2     *float64 `json:"tau2"`
+	I2       *float64 `json:"i2"`
+}
+
+// PoolReport is the full analysis of one meta-analysis file.
+type PoolReport struct {
+	K               int                      `json:"k"`
+	Measure         string                   `json:"measure"`
+	Level           float64                  `json:"level"`
+	Studies         []PoolStudyRow           `json:"studies"`
+	Fixed           PoolFixed                `json:"fixed"`
+	Heterogeneity   PoolHeterogeneity        `json:"heterogeneity"`
+	Random          PoolRandom               `json:"random"`
+	RandomByMethod  map[string]PoolMethodRow `json:"random_by_method"`
+	LeaveOneOut     []PoolLeaveOneOut        `json:"leave_one_out"`
+	MostInfluential *string                  `json:"most_influential"`
+	Warnings        []string                 `json:"warnings"`
+}
+
+// PoolStudies analyses one meta-analysis given as studies.csv rows (either
+// input style). Rows whose review_id differs are pooled together all the
+// same: the file is one meta-analysis. A row that cannot be used is an
+// error naming the study.
+func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, error) {
+	measure := strings.ToUpper(opts.Measure)
+	if measure == "" {
+		measure = "MD"
+	}
+	if measure != "MD" && measure != "SMD" {
+		return PoolReport{}, fmt.Errorf("measure %q is not MD or SMD", opts.Measure)
+	}
+	if len(studies) == 0 {
+		return PoolReport{}, errors.New("no studies to pool")
+	}
+	rv := ingest.Review{Measure: measure}
+	effs := make([]StudyEffect, 0, len(studies))
+	for _, s := range studies {
+		e, err := PublishedEffect(rv, s)
+		if err != nil {
+			return PoolReport{}, withSource(s.Source, err)
+		}
+		effs = append(effs, e)
+	}
+	effects := make([]float64, len(effs))
+	seEffects := make([]float64, len(effs))
+	labels := make([]string, len(effs))
+	for i, e := range effs {
+		effects[i], seEffects[i], labels[i] = e.Effect, e.SE, e.Study
+	}
+	res, err := analysis.Pool(effects, seEffects, analysis.Settings{
+		Level: opts.Level, Tau2: opts.Tau2, TruncateHKSJ: opts.TruncateHKSJ, Labels: labels,
+	})
+	if err != nil {
+		return PoolReport{}, err
+	}
+	rep := PoolReport{K: res.K, Measure: measure, Level: res.Level, Warnings: append([]string{}, res.Warnings...)}
+	z := distuv.UnitNormal.Quantile(1 - (1-res.Level)/2)
+	for i, e := range effs {
+		rep.Studies = append(rep.Studies, PoolStudyRow{
+			Study: e.Study, Effect: e.Effect, SE: e.SE, CILow: e.Effect - z*e.SE, CIHigh: e.Effect + z*e.SE,
+			WeightFixed: opt(res.Fixed.Weights[i]), WeightRandom: opt(res.Random.Weights[i]),
+			ConvertedFrom: e.ConvertedFrom, TreatN: e.TreatN, CtrlN: e.CtrlN,
+		})
+	}
+	f := res.Fixed
+	rep.Fixed = PoolFixed{Estimate: opt(f.Estimate), SE: opt(f.SE), CILow: opt(f.CILow), CIHigh: opt(f.CIHigh), Z: opt(f.Z), P: opt(f.P)}
+	r := res.Random
+	rep.Heterogeneity = PoolHeterogeneity{Q: opt(res.Het.Q), DF: res.Het.DF, QP: opt(res.Het.QP), I2: opt(res.Het.I2), H2: opt(res.Het.H2),
+		Tau2: opt(r.Tau2), Tau2CILow: opt(r.Tau2CILow), Tau2CIHigh: opt(r.Tau2CIHigh), Tau2Method: string(r.Method)}
+	rep.Random = PoolRandom{Estimate: opt(r.Estimate), SE: opt(r.SE), CILow: opt(r.CILow), CIHigh: opt(r.CIHigh), P: opt(r.P),
+		HKSJCILow: opt(r.HKSJLow), HKSJCIHigh: opt(r.HKSJHigh), HKSJScale: opt(r.HKSJScale), PILow: opt(r.PILow), PIHigh: opt(r.PIHigh),
+		Converged: r.Converged}
+	rep.RandomByMethod = map[string]PoolMethodRow{}
+	for _, m := range []analysis.Tau2Method{analysis.Tau2DL, analysis.Tau2PM, analysis.Tau2REML} {
+		x, _ := res.ByTau2(m)
+		rep.RandomByMethod[string(m)] = PoolMethodRow{Tau2: opt(x.Tau2), Estimate: opt(x.Estimate), SE: opt(x.SE),
+			CILow: opt(x.CILow), CIHigh: opt(x.CIHigh), Converged: x.Converged}
+	}
+	for _, l := range res.LeaveOneOut {
+		rep.LeaveOneOut = append(rep.LeaveOneOut, PoolLeaveOneOut{Omitted: labels[l.Omitted], Estimate: opt(l.Estimate), SE: opt(l.SE),
+			CILow: opt(l.CILow), CIHigh: opt(l.CIHigh), Tau2: opt(l.Tau2), I2: opt(l.I2)})
+	}
+	if res.MostInfluential >= 0 {
+		rep.MostInfluential = &labels[res.MostInfluential]
+	}
+	return rep, nil
+}
+
+// withSource prefixes an error with the file and line of the row.
+func withSource(src ingest.Source, err error) error {
+	if src.Path == "" {
+		return err
+	}
+	pos := strings.TrimPrefix(src.Position, "line ")
+	if pos == "" {
+		return fmt.Errorf("%s: %w", src.Path, err)
+	}
+	return fmt.Errorf("%s:%s: %w", src.Path, pos, err)
+}

@@ -1,0 +1,169 @@
+package compare
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"strings"
+
+	"unshelved/ingest"
+	"unshelved/store"
+)
+
+// Audit audits the named reviews (all reviews when ids is empty) in the
+// workspace, in review id order.
+func Audit(ctx context.Context, db *store.DB, ids []string, opts Options) ([]ReviewAudit, error) {
+	reviews, err := selectReviews(ctx, db, ids)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]ReviewAudit, 0, len(reviews))
+	for _, rv := range reviews {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		in, err := loadInput(ctx, db, rv)
+		if err != nil {
+			return nil, err
+		}
+		a, err := AuditReview(in, opts)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, a)
+	}
+	return out, nil
+}
+
+func selectReviews(ctx context.Context, db *store.DB, ids []string) ([]ingest.Review, error) {
+	if len(ids) == 0 {
+		reviews, err := db.Reviews(ctx)
+		if err != nil {
+			return nil, fmt.Errorf("list reviews: %w", err)
+		}
+		if len(reviews) == 0 {
+			return nil, errors.New("the workspace holds no reviews; load them with 'unshelved ingest reviews'")
+		}
+		return reviews, nil
+	}
+	reviews := make([]ingest.Review, 0, len(ids))
+	for _, id := range ids {
+		rv, err := db.Review(ctx, id)
+		if errors.Is(err, store.ErrNotFound) {
+			return nil, fmt.Errorf("review %q is not in the workspace", id)
+		}
+		if err != nil {
+			return nil, fmt.Errorf("load review %s: %w", id, err)
+		}
+		reviews = append(reviews, rv)
+	}
+	return reviews, nil
+}
+
+func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
+	in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
+	var err error
+	if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
+		return in, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
+	}
+	if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
+		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
+	}
+	for _, l := range in.Links {
+		if !strings.EqualFold(l.Decision, "accept") {
+			continue
+		}
+		if _, ok := in.Trials[l.TrialID]; ok {
+			continue
+		}
+		t, err := db.Trial(ctx, l.TrialID)
+		if errors.Is(err, store.ErrNotFound) {
+			continue // reported by AuditReview as missing
+		}
+		if err != nil {
+			return in, fmt.Errorf("load trial %s: %w", l.TrialID, err)
+		}
+		in.Trials[l.TrialID] = t
+	}
+	return in, nil
+}
+
+// LinkProblem is a link row that does not fit the workspace.
+type LinkProblem struct {
+	Link   ingest.Link
+	Detail string
+}
+
+// ApplyLinks checks each link against the workspace (the review and the
+// trial exist, the outcome index is in range, the groups exist in that
+// outcome) and saves the ones that fit. It returns the problems found;
+// rows with problems are not saved.
+func ApplyLinks(ctx context.Context, db *store.DB, links []ingest.Link) (saved int, problems []LinkProblem, err error) {
+	reviews := map[string]bool{}
+	trials := map[string]*ingest.Trial{}
+	var ok []ingest.Link
+	for _, l := range links {
+		if err := ctx.Err(); err != nil {
+			return 0, nil, err
+		}
+		if _, seen := reviews[l.ReviewID]; !seen {
+			_, err := db.Review(ctx, l.ReviewID)
+			if err != nil && !errors.Is(err, store.ErrNotFound) {
+				return 0, nil, fmt.Errorf("load review %s: %w", l.ReviewID, err)
+			}
+			reviews[l.ReviewID] = err == nil
+		}
+		if !reviews[l.ReviewID] {
+			problems = append(problems, LinkProblem{l, fmt.Sprintf("review %q is not in the workspace", l.ReviewID)})
+			continue
+		}
+		t, seen := trials[l.TrialID]
+		if !seen {
+			tr, err := db.Trial(ctx, l.TrialID)
+			if err != nil && !errors.Is(err, store.ErrNotFound) {
+				return 0, nil, fmt.Errorf("load trial %s: %w", l.TrialID, err)
+			}
+			if err == nil {
+				t = &tr
+			}
+			trials[l.TrialID] = t
+		}
+		if t == nil {
+			problems = append(problems, LinkProblem{l, fmt.Sprintf("trial %q is not in the workspace", l.TrialID)})
+			continue
+		}
+		if msg := checkLinkGroups(t, l); msg != "" {
+			problems = append(problems, LinkProblem{l, msg})
+			continue
+		}
+		ok = append(ok, l)
+	}
+	if len(ok) > 0 {
+		if err := db.SaveLinks(ctx, ok); err != nil {
+			return 0, problems, fmt.Errorf("save links: %w", err)
+		}
+	}
+	return len(ok), problems, nil
+}
+
+func checkLinkGroups(t *ingest.Trial, l ingest.Link) string {
+	var o *ingest.Outcome
+	for i := range t.Outcomes {
+		if t.Outcomes[i].Index == l.OutcomeIndex {
+			o = &t.Outcomes[i]
+		}
+	}
+	if o == nil {
+		return fmt.Sprintf("trial %s has no posted outcome measure at index %d (it has %d)", t.TrialID, l.OutcomeIndex, len(t.Outcomes))
+	}
+	ids := map[string]bool{}
+	for _, g := range o.Groups {
+		ids[g.ID] = true
+	}
+	for _, g := range append(append([]string(nil), l.TreatGroups...), l.CtrlGroups...) {
+		if !ids[g] {
+			return fmt.Sprintf("trial %s outcome %d has no group %s", t.TrialID, l.OutcomeIndex, g)
+		}
+	}
+	return ""
+}
