@@ -1,0 +1,85 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"time"
+)
+
+// SourceFile is one input file that was ingested completely.
+type SourceFile struct {
+	Path     string
+	SHA256   string // hex SHA-256 of the file's bytes
+	Size     int64  // bytes
+	Format   string // e.g. "ctgov-json", "ctgov-zip", "registry-csv", "reviews-csv"
+	Records  int    // records stored (inserted, replaced, unchanged or older)
+	Rejected int    // records refused by the parser or the store
+	Started  time.Time
+	Finished time.Time
+}
+
+// SourceKnown reports whether a file with this SHA-256 was recorded by
+// RecordSource, i.e. fully ingested before, under any path.
+func (db *DB) SourceKnown(ctx context.Context, sha256 string) (bool, error) {
+	var one int
+	err := db.read.QueryRowContext(ctx, `SELECT 1 FROM source_files WHERE sha256 = ? LIMIT 1`, sha256).Scan(&one)
+	if errors.Is(err, sql.ErrNoRows) {
+		return false, nil
+	}
+	if err != nil {
+		return false, fmt.Errorf("look up source %s: %w", sha256, err)
+	}
+	return true, nil
+}
+
+// RecordSource records that s was ingested. Call it only after the file's
+// trials were committed (TrialWriter.Flush). Recording the same path and
+// hash again replaces the earlier row.
+func (db *DB) RecordSource(ctx context.Context, s SourceFile) error {
+	if s.SHA256 == "" {
+		return fmt.Errorf("record source %s: empty sha256", s.Path)
+	}
+	_, err := db.write.ExecContext(ctx, `INSERT INTO source_files
+		(sha256, path, size, format, records, rejected, started_at, finished_at)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?)
+		ON CONFLICT (sha256, path) DO UPDATE SET size = excluded.size, format = excluded.format,
+			records = excluded.records, rejected = excluded.rejected,
+			started_at = excluded.started_at, finished_at = excluded.finished_at`,
+		s.SHA256, s.Path, s.Size, s.Format, s.Records, s.Rejected, timeText(s.Started), timeText(s.Finished))
+	if err != nil {
+		return fmt.Errorf("record source %s: %w", s.Path, err)
+	}
+	return nil
+}
+
+// Sources returns the recorded source files ordered by finish time, then path.
+func (db *DB) Sources(ctx context.Context) ([]SourceFile, error) {
+	return sources(ctx, db.read)
+}
+
+func sources(ctx context.Context, q querier) ([]SourceFile, error) {
+	var out []SourceFile
+	err := eachRow(ctx, q, `SELECT path, sha256, size, format, records, rejected, started_at, finished_at
+		FROM source_files ORDER BY finished_at, path, sha256`, nil, func(r *sql.Rows) error {
+		var s SourceFile
+		var started, finished string
+		if err := r.Scan(&s.Path, &s.SHA256, &s.Size, &s.Format, &s.Records, &s.Rejected, &started, &finished); err != nil {
+			return err
+		}
+		var err error
+		if s.Started, err = parseTimeText(started); err != nil {
+			return err
+		}
+		if s.Finished, err = parseTimeText(finished); err != nil {
+			return err
+		}
+		out = append(out, s)
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("list sources: %w", err)
+	}
+	return out, nil
+}
