@@ -81,8 +81,9 @@ type TrimFillSettings struct {
 //  1. mu = fixed-effect estimate of the studies left after removing the k0
 //     largest effects (k0 = 0 at the start);
 //  2. d_i = y_i - mu for all k studies, ranked by |d_i| (average ranks for
-//     ties); T = sum of the ranks of positive d_i; γ = length of the run of
-//     positive d_i at the top of the ranking;
+//     ties); T = sum of the ranks of positive d_i; γ = k - h, with h the
+//     rank of the negative d_i of largest |d_i| (h = 0 if none): without
+//     ties, the length of the run of positive d_i at the top of the ranking;
 //  3. L0 = (4T - k(k+1)) / (2k - 1)  or  R0 = γ - 1, and the new k0 is the
 //     estimator rounded to the nearest integer (halves away from zero) and
 //     floored at 0 (capped at k - 1);
@@ -299,26 +300,23 @@ func (w *trimWork) estimate(center float64, estimator string) int {
 		n := float64(k)
 		est = (4*rankSum - n*(n+1)) / (2*n - 1)
 	default: // R0
-		run := 0
-		for j := k; j > 0; {
-			i := j - 1
+		// γ = k - h, h the (average) rank of the most extreme negative
+		// deviation, 0 when none is negative.
+		h := 0.0
+		for i := 0; i < k; {
+			j := i + 1
 			a := math.Abs(w.dev[w.byAbs[i]])
-			for i > 0 && math.Abs(w.dev[w.byAbs[i-1]]) == a {
-				i--
+			for j < k && math.Abs(w.dev[w.byAbs[j]]) == a {
+				j++
 			}
-			allPositive := true
 			for _, ix := range w.byAbs[i:j] {
-				if !(w.dev[ix] > 0) {
-					allPositive = false
+				if w.dev[ix] < 0 {
+					h = float64(i+j+1) / 2
 				}
 			}
-			if !allPositive {
-				break
-			}
-			run += j - i
-			j = i
+			i = j
 		}
-		est = float64(run - 1)
+		est = float64(k) - h - 1
 	}
 	k0 := int(math.Round(est))
 	return max(0, min(k0, k-1))
