@@ -196,10 +196,7 @@ func SelectionModel(effects, seEffects []float64, s SelectionSettings) (Selectio
 		}
 	}
 	// Null fit: weights fixed at 1.
-	fe, _ := fixedEffect(m.y, m.se)
-	nullX := []float64{fe, math.Log(max(m.tau2Start(fe), 0.01))}
-	m.free = false
-	_, nullOK, nullMsg := m.minimize(nullX, tol, maxIter)
+	nullX, nullOK, nullMsg := m.fitNull(tol, maxIter)
 	r.LogLikNull = -m.nll(nullX, nil) - float64(k)*math.Log(m.scale)
 	r.UnadjustedEstimate = direction * nullX[0] * m.scale
 	r.UnadjustedTau2 = math.Exp(nullX[1]) * m.scale * m.scale
@@ -316,6 +313,18 @@ func newSelModel(effects, seEffects, cuts []float64, direction float64) *selMode
 		m.interval[i] = j
 	}
 	return m
+}
+
+// fitNull fits the model with every weight fixed at 1, the
+// maximum-likelihood random-effects model, from the fixed-effect estimate
+// and the moment estimate of tau² (at least 0.01 of the mean within-study
+// variance). It leaves m.free false.
+func (m *selModel) fitNull(tol float64, maxIter int) (x []float64, ok bool, msg string) {
+	fe, _ := fixedEffect(m.y, m.se)
+	x = []float64{fe, math.Log(max(m.tau2Start(fe), 0.01))}
+	m.free = false
+	_, ok, msg = m.minimize(x, tol, maxIter)
+	return x, ok, msg
 }
 
 // tau2Start is the DerSimonian-Laird moment estimate of tau² on the working
