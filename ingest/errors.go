@@ -56,6 +56,7 @@ func (e *ParseError) Unwrap() error { return e.Err }
 // *ParseError.
 var (
 	ErrSyntax       = errors.New("ingest: invalid JSON")
+	ErrCSVSyntax    = errors.New("ingest: invalid CSV")
 	ErrTooDeep      = errors.New("ingest: nesting too deep")
 	ErrTooLarge     = errors.New("ingest: too large")
 	ErrInvalidUTF8  = errors.New("ingest: invalid UTF-8")
@@ -77,6 +78,7 @@ var reasonLabels = []struct {
 }{
 	{ErrLegacyFormat, "legacy format"},
 	{ErrSyntax, "invalid json"},
+	{ErrCSVSyntax, "invalid csv"},
 	{ErrTooDeep, "too deep"},
 	{ErrTooLarge, "too large"},
 	{ErrInvalidUTF8, "invalid utf-8"},
