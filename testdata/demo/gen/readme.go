@@ -126,6 +126,39 @@ must not be linked).
 		}
 	}
 	w(`
+What each accepted link gives on the review's measure (what a converter should reproduce):
+
+| review | trial | n treatment/control | effect | SE | how |
+|---|---|---|---|---|---|
+`)
+	for _, t := range sc.Trials {
+		if t.Decision != "accept" {
+			continue
+		}
+		r := sc.review(t.Review)
+		o := t.S.ResultsSection.OutcomeMeasuresModule.OutcomeMeasures[t.LinkIdx]
+		ts, _ := armStats(o, t.Treat)
+		cs, _ := armStats(o, t.Ctrl)
+		e, se, _ := linkEffect(r, o, t.Treat, t.Ctrl, t.Flip, t.UnitFrom)
+		how := []string{o.ParamType + ", " + o.DispersionType}
+		if len(t.Treat) > 1 {
+			how = append(how, "doses combined")
+		}
+		if t.Flip {
+			how = append(how, "sign flipped")
+		}
+		if t.UnitFrom != "" {
+			how = append(how, t.UnitFrom+" to "+r.Unit)
+		}
+		if r.Measure == "SMD" {
+			how = append(how, "Hedges' g")
+		}
+		w("| %s | %s | %d/%d | %s %s | %s | %s |\n", r.ID, t.ID, ts.N, cs.N, r.Measure, num(e, dec(r)), num(se, dec(r)), strings.Join(how, "; "))
+	}
+	w(`
+Registry units such as "score on a scale" or "units on a scale" are the review's own scale, so
+unit_from stays empty for them; it is set only where a number must be converted (mg/dL).
+
 Outcome index is the 0-based position in the record's ` + "`outcomeMeasures`" + ` array. Group ids are
 per outcome measure (in NCT99000105, OG000 is placebo in outcome 0 and velmorazine in outcome 1).
 Trials already in studies.csv are not listed; the missed publication is (its results belong in
