@@ -167,17 +167,6 @@ func checkStudies(effects, seEffects []float64, labels []string, dstVar []float6
 	return nil
 }
 
-// normalQuantile returns the standard normal quantile at p.
-func normalQuantile(p float64) float64 {
-	return distuv.UnitNormal.Quantile(p)
-}
-
-// tQuantile returns the quantile at p of Student's t with df degrees of
-// freedom.
-func tQuantile(p float64, df float64) float64 {
-	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Quantile(p)
-}
-
 // twoSidedP returns the two-sided normal p-value of z.
 func twoSidedP(z float64) float64 {
 	return math.Erfc(math.Abs(z) / math.Sqrt2)

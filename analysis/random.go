@@ -2,8 +2,6 @@ package analysis
 
 import (
 	"math"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // RandomResult is a random-effects inverse-variance pooled estimate under
@@ -45,9 +43,8 @@ func newCritical(level float64, k int) critical {
 	c := critical{level: level, z: normalQuantile(p), tHKSJ: math.NaN(), tPI: math.NaN(), chiLow: math.NaN(), chiUp: math.NaN()}
 	if k >= 2 {
 		c.tHKSJ = tQuantile(p, float64(k-1))
-		chi := distuv.ChiSquared{K: float64(k - 1)}
-		c.chiLow = chi.Quantile(1 - p)
-		c.chiUp = chi.Quantile(p)
+		c.chiLow = chiSquareQuantile(1-p, float64(k-1))
+		c.chiUp = chiSquareQuantile(p, float64(k-1))
 	}
 	if k >= 3 {
 		c.tPI = tQuantile(p, float64(k-2))

@@ -146,80 +146,92 @@ func remlScore(y, varY []float64, tau2 float64) float64 {
 	return s
 }
 
-// remlLLSlack is the relative amount by which a Fisher-scoring step may
-// lower the restricted log-likelihood before it is halved. Near the maximum
-// the likelihood changes by less than its rounding error (about 1e-16
-// relative), and halving on noise would stall the iteration.
-const remlLLSlack = 1e-12
+// remlStep returns, at tau², the REML score S, its derivative dS/dtau² and
+// the expected information I (see remlParts), without the log-likelihood:
+//
+//	c     = sum w_i² r_i / sum w_i,  r_i = y_i - mu
+//	dS    = 1/2 [-2 sum w_i³ r_i² + 2 c sum w_i² r_i + sum w_i²
+//	             - 2 sum w_i³ / sum w_i + (sum w_i² / sum w_i)²]
+//
+// It allocates nothing.
+func remlStep(y, varY []float64, tau2 float64) (score, dScore, info float64) {
+	mu, sumW, _ := fixedCore(y, varY, tau2)
+	var sumW2, sumW3, sumW2R, sumW2R2, sumW3R2 float64
+	for i, yi := range y {
+		w := 1 / (varY[i] + tau2)
+		w2 := w * w
+		r := yi - mu
+		sumW2 += w2
+		sumW3 += w2 * w
+		sumW2R += w2 * r
+		sumW2R2 += w2 * r * r
+		sumW3R2 += w2 * w * r * r
+	}
+	a := sumW2 / sumW
+	score = 0.5 * (sumW2R2 - sumW + a)
+	info = 0.5 * (sumW2 - 2*sumW3/sumW + a*a)
+	dScore = 0.5 * (-2*sumW3R2 + 2*sumW2R*sumW2R/sumW + sumW2 - 2*sumW3/sumW + a*a)
+	return score, dScore, info
+}
 
-// tau2REML is the REML estimator on validated variances: Fisher scoring from
-// start with step halving, and bisection on the score as fallback.
+// tau2REML is the REML estimator on validated variances. It solves the
+// score equation S(tau²) = 0 on tau² >= 0: tau² = 0 when S(0) <= 0 (the
+// maximum is on the boundary); otherwise Newton steps on S from start,
+// replaced by a Fisher-scoring step where S is not decreasing, and by
+// bisection whenever a step would leave the bracket [lo, hi] that is known
+// to hold the root (S(lo) > 0 > S(hi)). While no upper end is known, a
+// step is capped at doubling tau² + mean variance.
 func tau2REML(y, varY []float64, start, tol float64, maxIter int) (float64, bool, int) {
 	k := len(y)
 	if k < 2 {
 		return 0, true, 0
 	}
+	s0, ds0, info0 := remlStep(y, varY, 0)
+	if s0 <= 0 {
+		return 0, true, 1
+	}
 	scale := scaleOf(varY)
-	t := math.Max(0, start)
-	ll, score, info := remlParts(y, varY, t)
-	iter := 0
-	for iter < maxIter {
-		iter++
-		if t == 0 && score <= 0 {
-			return 0, true, iter
+	lo, hi := 0.0, math.Inf(1)
+	t := start
+	score, dScore, info := s0, ds0, info0
+	if t > 0 {
+		score, dScore, info = remlStep(y, varY, t)
+	}
+	for iter := 1; iter <= maxIter; iter++ {
+		if score > 0 {
+			lo = t
+		} else {
+			hi = t
 		}
-		step := score / info
-		if math.IsNaN(step) || math.IsInf(step, 0) {
-			break
+		var next float64
+		switch {
+		case dScore < 0:
+			next = t - score/dScore
+		case info > 0:
+			next = t + score/info
+		default:
+			next = math.NaN()
 		}
-		full := math.Abs(math.Max(0, t+step) - t)
-		next := math.Max(0, t+step)
-		llNext, sNext, iNext := remlParts(y, varY, next)
-		slack := remlLLSlack * (1 + math.Abs(ll))
-		for halve := 0; halve < 60 && !(llNext >= ll-slack); halve++ {
-			// The full step lowered the likelihood: halve it.
-			step *= 0.5
-			next = math.Max(0, t+step)
-			llNext, sNext, iNext = remlParts(y, varY, next)
+		if math.IsInf(hi, 1) {
+			if limit := 2*t + scale; !(next <= limit) {
+				next = limit
+			}
 		}
-		t, ll, score, info = next, llNext, sNext, iNext
-		if full <= tol*(t+scale) {
+		if !(next > lo && next < hi) {
+			if math.IsInf(hi, 1) {
+				next = 2*t + scale
+			} else {
+				next = 0.5 * (lo + hi)
+			}
+		}
+		moved := math.Abs(next - t)
+		t = next
+		if moved <= tol*(t+scale) || hi-lo <= tol*(lo+scale) {
 			return t, true, iter
 		}
+		score, dScore, info = remlStep(y, varY, t)
 	}
-	return remlBisect(y, varY, tol, maxIter, iter)
-}
-
-// remlBisect is the fallback of tau2REML: bisection on the score over a
-// bracket [0, hi] with score(hi) < 0. When score(0) <= 0 the estimate is 0.
-func remlBisect(y, varY []float64, tol float64, maxIter, used int) (float64, bool, int) {
-	scale := scaleOf(varY)
-	if remlScore(y, varY, 0) <= 0 {
-		return 0, true, used + 1
-	}
-	lo := 0.0
-	hi := qUpperBound(y, varY, float64(len(y)-1)) + scale
-	n := 0
-	for remlScore(y, varY, hi) >= 0 {
-		lo = hi
-		hi *= 2
-		n++
-		if n > maxIter || math.IsInf(hi, 0) {
-			return math.NaN(), false, used + n
-		}
-	}
-	for i := 1; i <= maxIter; i++ {
-		mid := 0.5 * (lo + hi)
-		if remlScore(y, varY, mid) > 0 {
-			lo = mid
-		} else {
-			hi = mid
-		}
-		if hi-lo <= tol*(lo+scale) {
-			return 0.5 * (lo + hi), true, used + n + i
-		}
-	}
-	return math.NaN(), false, used + n + maxIter
+	return math.NaN(), false, maxIter
 }
 
 // tau2By runs the estimator m on validated variances.
@@ -263,9 +275,11 @@ func tau2By(y, varY []float64, m Tau2Method, s settings) (float64, bool, int) {
 //
 //	ll(tau²) = -1/2 [sum log(se_i² + tau²) + log sum w_i + sum w_i (y_i - mu)²]
 //
-// found by Fisher scoring from the DL value with step halving, falling back
-// to bisection on the score if scoring does not settle (Viechtbauer 2005,
-// J Educ Behav Stat 30:261).
+// found as the root of its score (derivative) on tau² >= 0 by Newton steps
+// from the DL value, with Fisher-scoring steps where the score is not
+// decreasing and bisection inside a bracket that always holds the root
+// (Viechtbauer 2005, J Educ Behav Stat 30:261, for the score and the
+// information); tau² = 0 when the score at 0 is not positive.
 //
 // Convergence: iteration stops when a step moves tau² by at most
 // Tol (tau² + mean se²); each phase is capped at MaxIter iterations. When an

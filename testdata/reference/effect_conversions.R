@@ -8,8 +8,12 @@ fmt <- function(x) sprintf("%.17g", x)
 cat("// ", R.version.string, "\n", sep = "")
 
 cat("// t quantiles: qt(p, df)\n")
-for (df in c(1, 2, 4, 9, 29, 99)) for (p in c(0.9, 0.975, 0.995))
+for (df in c(1, 2, 3, 4, 9, 29, 99, 1000)) for (p in c(0.005, 0.1, 0.9, 0.975, 0.995))
   cat(sprintf("{p: %s, df: %s, want: %s},\n", fmt(p), fmt(df), fmt(qt(p, df))))
+
+cat("// chi-square quantiles: qchisq(p, df)\n")
+for (df in c(1, 2, 3, 4, 9, 29, 99)) for (p in c(0.005, 0.025, 0.1, 0.9, 0.975, 0.995))
+  cat(sprintf("{p: %s, df: %s, want: %s},\n", fmt(p), fmt(df), fmt(qchisq(p, df))))
 
 cat("// SD from CI: sqrt(n) (upper - lower) / (2 qt(1 - (1 - level)/2, n - 1))\n")
 for (case in list(c(10.2, 14.6, 30, 0.80), c(10.2, 14.6, 30, 0.90), c(10.2, 14.6, 30, 0.95),
