@@ -140,12 +140,6 @@ func remlParts(y, varY []float64, tau2 float64) (ll, score, info float64) {
 	return ll, score, info
 }
 
-// remlScore returns the REML score at tau².
-func remlScore(y, varY []float64, tau2 float64) float64 {
-	_, s, _ := remlParts(y, varY, tau2)
-	return s
-}
-
 // remlStep returns, at tau², the REML score S, its derivative dS/dtau² and
 // the expected information I (see remlParts), without the log-likelihood:
 //
@@ -282,7 +276,7 @@ func tau2By(y, varY []float64, m Tau2Method, s settings) (float64, bool, int) {
 // information); tau² = 0 when the score at 0 is not positive.
 //
 // Convergence: iteration stops when a step moves tau² by at most
-// Tol (tau² + mean se²); each phase is capped at MaxIter iterations. When an
+// Tol (tau² + mean se²); each root search is capped at MaxIter iterations. When an
 // iterative method does not converge, tau2 is NaN and converged is false:
 // no last guess is returned. DL always reports converged with 0 iterations.
 //
