@@ -85,9 +85,23 @@ func Run(effects, seEffects []float64, opts Options) (Battery, error) {
 	warn := func(err error) { b.Warnings = append(b.Warnings, err.Error()) }
 	in := GradeInput{K: len(effects), Estimate: fe, ShiftSDUnits: opts.ShiftSDUnits}
 
-	if r, err := Egger(effects, seEffects, level); err != nil {
+	if opts.Registry != nil && len(opts.Registry) != len(effects) {
+		panic("bias: slice length mismatch")
+	}
+	gridPoints := opts.GridPoints
+	if gridPoints == 0 {
+		gridPoints = DefaultGridPoints
+	}
+	if gridPoints < 2 {
+		return Battery{}, fmt.Errorf("bias battery: %d grid points: %w", gridPoints, ErrBadSetting)
+	}
+	var tq tQuantiles
+	var eggerFit *lineFit
+	w := make([]float64, len(effects))
+	if r, fit, err := eggerCached(effects, seEffects, w, level, &tq); err != nil {
 		warn(err)
 	} else {
+		eggerFit = &fit
 		b.Egger = r
 		in.Egger = &b.Egger
 		b.Warnings = append(b.Warnings, r.Warnings...)
@@ -115,7 +129,7 @@ func Run(effects, seEffects []float64, opts Options) (Battery, error) {
 		b.TrimFill = r
 		in.TrimFill = &b.TrimFill
 	}
-	if r, err := PETPEESE(effects, seEffects, level, direction); err != nil {
+	if r, err := petPEESECached(effects, seEffects, level, sign(direction), &tq); err != nil {
 		warn(err)
 	} else {
 		b.PETPEESE = r
@@ -133,11 +147,7 @@ func Run(effects, seEffects []float64, opts Options) (Battery, error) {
 			in.Selection = b.Selection
 		}
 	}
-	f, err := FunnelData(effects, seEffects, opts.Registry, opts.GridPoints)
-	if err != nil {
-		return Battery{}, fmt.Errorf("bias battery: %w", err)
-	}
-	b.Funnel = f
+	b.Funnel = funnelFrom(effects, seEffects, opts.Registry, gridPoints, eggerFit, &tq)
 	b.Grade = Grade(in)
 	return b, nil
 }

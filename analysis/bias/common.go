@@ -189,6 +189,32 @@ func studentT(df int) distuv.StudentsT {
 	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(df)}
 }
 
+// tQuantiles remembers Student's t quantiles already computed during one
+// call (the inverse incomplete beta function is the costliest step of the
+// regression methods), so Run computes each (df, p) pair once. The zero
+// value is ready to use; it is never shared between calls.
+type tQuantiles struct {
+	n    int
+	df   [4]int
+	p    [4]float64
+	q    [4]float64
+	next int
+}
+
+// quantile returns the p quantile of Student's t with df degrees of freedom.
+func (c *tQuantiles) quantile(df int, p float64) float64 {
+	for i := 0; i < c.n; i++ {
+		if c.df[i] == df && c.p[i] == p {
+			return c.q[i]
+		}
+	}
+	q := studentT(df).Quantile(p)
+	c.df[c.next], c.p[c.next], c.q[c.next] = df, p, q
+	c.next = (c.next + 1) % len(c.df)
+	c.n = min(c.n+1, len(c.df))
+	return q
+}
+
 // twoSidedP returns the two-sided p value of a t statistic on df degrees of
 // freedom.
 func twoSidedP(t float64, dist distuv.StudentsT) float64 {

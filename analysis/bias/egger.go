@@ -85,7 +85,21 @@ func Egger(effects, seEffects []float64, level float64) (Regression, error) {
 	if err != nil {
 		return Regression{}, fmt.Errorf("egger test: %w", err)
 	}
-	return regressionFrom(fit, k, level, "standard error"), nil
+	var tq tQuantiles
+	return regressionFrom(fit, k, level, "standard error", &tq), nil
+}
+
+// eggerCached is Egger on validated input with a shared quantile cache; it
+// also returns the fit for the funnel line.
+func eggerCached(effects, seEffects, w []float64, level float64, tq *tQuantiles) (Regression, lineFit, error) {
+	for i, s := range seEffects {
+		w[i] = 1 / (s * s)
+	}
+	fit, err := fitLine(seEffects, effects, w)
+	if err != nil {
+		return Regression{}, lineFit{}, fmt.Errorf("egger test: %w", err)
+	}
+	return regressionFrom(fit, len(effects), level, "standard error", tq), fit, nil
 }
 
 // EggerPredictor runs the weighted regression test of Egger with a predictor
@@ -130,12 +144,13 @@ func EggerPredictor(effects, seEffects, predictor []float64, level float64) (Reg
 	if err != nil {
 		return Regression{}, fmt.Errorf("egger test with predictor: %w", err)
 	}
-	return regressionFrom(fit, k, level, "sample-size predictor"), nil
+	var tq tQuantiles
+	return regressionFrom(fit, k, level, "sample-size predictor", &tq), nil
 }
 
-func regressionFrom(fit lineFit, k int, level float64, what string) Regression {
+func regressionFrom(fit lineFit, k int, level float64, what string, cache *tQuantiles) Regression {
 	dist := studentT(fit.df)
-	tq := dist.Quantile(0.5 + level/2)
+	tq := cache.quantile(fit.df, 0.5+level/2)
 	t := fit.slope / fit.seSlope
 	r := Regression{
 		Bias:          fit.slope,
@@ -224,6 +239,13 @@ func PETPEESE(effects, seEffects []float64, level float64, direction float64) (P
 	} else {
 		direction = sign(direction)
 	}
+	var tq tQuantiles
+	return petPEESECached(effects, seEffects, level, direction, &tq)
+}
+
+// petPEESECached is PETPEESE on validated input with a resolved direction
+// and a shared quantile cache.
+func petPEESECached(effects, seEffects []float64, level, direction float64, cache *tQuantiles) (PETPEESEResult, error) {
 	k := len(effects)
 	buf := make([]float64, 2*k)
 	w, se2 := buf[:k], buf[k:]
@@ -239,8 +261,7 @@ func PETPEESE(effects, seEffects []float64, level float64, direction float64) (P
 	if err != nil {
 		return PETPEESEResult{}, fmt.Errorf("pet-peese: peese: %w", err)
 	}
-	dist := studentT(pet.df)
-	tq := dist.Quantile(0.5 + level/2)
+	tq := cache.quantile(pet.df, 0.5+level/2)
 	r := PETPEESEResult{
 		PET:       interceptFrom(pet, tq, direction),
 		PEESE:     interceptFrom(peese, tq, direction),

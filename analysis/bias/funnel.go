@@ -83,35 +83,44 @@ func FunnelData(effects, seEffects []float64, registry []bool, gridPoints int) (
 	if gridPoints < 2 {
 		return Funnel{}, fmt.Errorf("funnel data: %d grid points: %w", gridPoints, ErrBadSetting)
 	}
-	f := Funnel{Points: make([]FunnelPoint, len(effects)), Contours: make([]Contour, len(contourLevels()))}
+	var fit *lineFit
+	if len(effects) >= 3 {
+		w := make([]float64, len(effects))
+		for i, se := range seEffects {
+			w[i] = 1 / (se * se)
+		}
+		if lf, err := fitLine(seEffects, effects, w); err == nil {
+			fit = &lf
+		}
+	}
+	var tq tQuantiles
+	return funnelFrom(effects, seEffects, registry, gridPoints, fit, &tq), nil
+}
+
+// funnelFrom builds the funnel data on validated input; fit is the Egger
+// fit, nil when it could not be computed.
+func funnelFrom(effects, seEffects []float64, registry []bool, gridPoints int, fit *lineFit, cache *tQuantiles) Funnel {
+	levels := contourLevels()
+	f := Funnel{Points: make([]FunnelPoint, len(effects)), Contours: make([]Contour, len(levels))}
 	for i, y := range effects {
 		f.Points[i] = FunnelPoint{Effect: y, SE: seEffects[i], Registry: registry != nil && registry[i]}
 		f.MaxSE = max(f.MaxSE, seEffects[i])
 	}
-	for i, level := range contourLevels() {
+	for i, level := range levels {
 		f.Contours[i] = Contour{Level: level, Z: distuv.UnitNormal.Quantile(1 - level/2)}
 	}
 	f.FixedEstimate, _ = fixedEffect(effects, seEffects)
-	if len(effects) < 3 {
-		return f, nil
+	if fit != nil {
+		f.EggerLine = eggerLine(*fit, f.MaxSE, gridPoints, cache)
 	}
-	w := make([]float64, len(effects))
-	for i, se := range seEffects {
-		w[i] = 1 / (se * se)
-	}
-	fit, err := fitLine(seEffects, effects, w)
-	if err != nil {
-		return f, nil
-	}
-	f.EggerLine = eggerLine(fit, f.MaxSE, gridPoints)
-	return f, nil
+	return f
 }
 
 // eggerBandLevel is the confidence level of the band around the Egger line.
 const eggerBandLevel = 0.95
 
-func eggerLine(fit lineFit, maxSE float64, gridPoints int) []EggerLinePoint {
-	tq := studentT(fit.df).Quantile(0.5 + eggerBandLevel/2)
+func eggerLine(fit lineFit, maxSE float64, gridPoints int, cache *tQuantiles) []EggerLinePoint {
+	tq := cache.quantile(fit.df, 0.5+eggerBandLevel/2)
 	line := make([]EggerLinePoint, gridPoints)
 	for i := range line {
 		se := maxSE * float64(i) / float64(gridPoints-1)
