@@ -204,3 +204,15 @@ func TestSelectionErrors(t *testing.T) {
 		})
 	}
 }
+
+func TestSelectionReportsNonConvergence(t *testing.T) {
+	t.Parallel()
+	d := setByName("asym10")
+	got, err := SelectionModel(d.effects, d.seEffects, SelectionSettings{MaxIter: 1})
+	if !errors.Is(err, ErrNoConvergence) {
+		t.Fatalf("error %v, want ErrNoConvergence", err)
+	}
+	if got.Converged || got.Message == "" {
+		t.Errorf("Converged %v, Message %q", got.Converged, got.Message)
+	}
+}
