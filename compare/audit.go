@@ -17,6 +17,9 @@ type Options struct {
 	Level float64             // confidence level; zero means 0.95
 	Tau2  analysis.Tau2Method // zero means DerSimonian-Laird
 	HKSJ  bool                // random-effects CI by Hartung-Knapp-Sidik-Jonkman instead of Wald
+	// SkipBias leaves out the publication-bias battery; SkipSelection only
+	// its selection model (the slowest part).
+	SkipBias, SkipSelection bool
 }
 
 func (o Options) level() float64 {
@@ -75,6 +78,12 @@ type Shift struct {
 	// PublishedSEUnits is the absolute shift divided by the published-only
 	// random-effects SE.
 	PublishedSEUnits *float64 `json:"published_se_units"`
+	// SDUnits is the absolute shift in units of the review's pooled SD
+	// (for SMD reviews the shift itself), so reviews on different scales
+	// compare; nil when no study gives arm SDs.
+	SDUnits *float64 `json:"sd_units"`
+	// PooledSD is the SD used for SDUnits (MD reviews).
+	PooledSD *float64 `json:"pooled_sd,omitempty"`
 	// Toward says whether the augmented estimate is more favourable
 	// ("benefit"), less favourable ("harm") or equal ("none"), given the
 	// review's better direction.
@@ -104,8 +113,11 @@ type ReviewAudit struct {
 	SignificanceChanged bool          `json:"significance_changed"`
 	DirectionChanged    bool          `json:"direction_changed"`
 	Studies             []StudyEffect `json:"studies"`
-	Rejected            []Rejected    `json:"rejected"`
-	Warnings            []string      `json:"warnings"`
+	// Bias is the publication-bias battery on the published studies: what
+	// a reader of the published literature could have seen.
+	Bias     *BiasReport `json:"bias"`
+	Rejected []Rejected  `json:"rejected"`
+	Warnings []string    `json:"warnings"`
 }
 
 // AuditInput is everything AuditReview needs about one review.
@@ -198,9 +210,57 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 		out.Warnings = append(out.Warnings, prefixed("augmented: ", out.Augmented.result.Warnings)...)
 	}
 	out.Shift = shiftOf(out.Published, out.Augmented, rv.Better)
+	if out.Shift.Absolute != nil {
+		if strings.EqualFold(rv.Measure, "SMD") {
+			out.Shift.SDUnits = opt(*out.Shift.Absolute)
+		} else if sd := reviewPooledSD(out.Studies, out.KPublished); sd > 0 {
+			out.Shift.PooledSD = opt(sd)
+			out.Shift.SDUnits = opt(*out.Shift.Absolute / sd)
+		}
+	}
+	if !opts.SkipBias {
+		b := BiasFor(out.Studies[:out.KPublished], rv.Measure, BiasOptions{
+			Level: opts.level(), Tau2: opts.tau2(), Direction: favourable(rv.Better), ShiftSDUnits: out.Shift.SDUnits,
+			SkipSelection: opts.SkipSelection,
+		})
+		out.Bias = &b
+	}
 	out.SignificanceChanged = significant(out.Published.Random) != significant(out.Augmented.Random)
 	out.DirectionChanged = sign(out.Published.Random.Estimate) != sign(out.Augmented.Random.Estimate)
 	return out, nil
+}
+
+// reviewPooledSD is the SD that puts a review's mean differences on a
+// standard scale: the df-weighted pooled SD of the published studies with
+// arm data, or of all studies when no published one has them.
+//
+//	SD = sqrt( Σ df_i SD_i² / Σ df_i ),  df_i = n1_i + n2_i - 2
+func reviewPooledSD(studies []StudyEffect, kPublished int) float64 {
+	for _, set := range [][]StudyEffect{studies[:kPublished], studies} {
+		var num, den float64
+		for _, s := range set {
+			if s.PooledSD > 0 && s.TreatN+s.CtrlN > 2 {
+				df := float64(s.TreatN + s.CtrlN - 2)
+				num += df * s.PooledSD * s.PooledSD
+				den += df
+			}
+		}
+		if den > 0 {
+			return math.Sqrt(num / den)
+		}
+	}
+	return 0
+}
+
+// favourable is the sign of a beneficial effect: -1 when lower is better.
+func favourable(better string) float64 {
+	if strings.EqualFold(better, "lower") {
+		return -1
+	}
+	if strings.EqualFold(better, "higher") {
+		return 1
+	}
+	return 0
 }
 
 // isIncluded reports whether a registry trial is among the review's

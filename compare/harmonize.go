@@ -18,13 +18,16 @@ const (
 
 // StudyEffect is one study's effect on the review's measure, ready to pool.
 type StudyEffect struct {
-	Study         string  `json:"study"`
-	TrialID       string  `json:"trial_id,omitempty"`
-	Origin        string  `json:"origin"` // published or registry
-	Effect        float64 `json:"effect"`
-	SE            float64 `json:"se"` // standard error of Effect
-	TreatN        int     `json:"treat_n,omitempty"`
-	CtrlN         int     `json:"ctrl_n,omitempty"`
+	Study   string  `json:"study"`
+	TrialID string  `json:"trial_id,omitempty"`
+	Origin  string  `json:"origin"` // published or registry
+	Effect  float64 `json:"effect"`
+	SE      float64 `json:"se"` // standard error of Effect
+	TreatN  int     `json:"treat_n,omitempty"`
+	CtrlN   int     `json:"ctrl_n,omitempty"`
+	// PooledSD is the within-study pooled SD of the two arms, in the
+	// review's unit, when arm data were used (0 otherwise).
+	PooledSD      float64 `json:"pooled_sd,omitempty"`
 	ConvertedFrom string  `json:"converted_from"`
 	// OutcomeIndex is the registry outcome used (registry effects only).
 	OutcomeIndex *int                  `json:"outcome_index,omitempty"`
@@ -89,8 +92,20 @@ func PublishedEffect(rv ingest.Review, s ingest.ReviewStudy) (StudyEffect, error
 	}
 	se.Effect, se.SE = eff.Estimate, eff.SE
 	se.Derivations = eff.Derivations
+	se.PooledSD = pooledSD(treat, ctrl)
 	se.ConvertedFrom = "arms_sd"
 	return se, nil
+}
+
+// pooledSD is sqrt(((n1-1) sd1² + (n2-1) sd2²) / (n1 + n2 - 2)), the
+// within-study SD that standardizes a mean difference (Borenstein et al.
+// 2009, ch. 4).
+func pooledSD(a, b analysis.Arm) float64 {
+	df := float64(a.N + b.N - 2)
+	if df <= 0 {
+		return 0
+	}
+	return math.Sqrt((float64(a.N-1)*a.SD*a.SD + float64(b.N-1)*b.SD*b.SD) / df)
 }
 
 // armEffect computes the review's measure from two arms.
@@ -205,6 +220,7 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 		})
 	}
 	se.TreatN, se.CtrlN = treat.N, ctrl.N
+	se.PooledSD = pooledSD(treat, ctrl)
 	se.Derivations = derivs
 	se.Flags = dedupe(flags)
 	se.ConvertedFrom = convertedFrom(kind, o.Dispersion, len(l.TreatGroups)+len(l.CtrlGroups) > 2)

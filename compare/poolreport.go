@@ -17,6 +17,10 @@ type PoolOptions struct {
 	Level        float64             // zero means 0.95
 	Tau2         analysis.Tau2Method // zero means REML
 	TruncateHKSJ bool
+	// Bias configures the publication-bias battery (its Level defaults to
+	// Level); SkipBias leaves it out.
+	Bias     BiasOptions
+	SkipBias bool
 }
 
 // PoolStudyRow is one study of a pool report.
@@ -104,6 +108,7 @@ type PoolReport struct {
 	RandomByMethod  map[string]PoolMethodRow `json:"random_by_method"`
 	LeaveOneOut     []PoolLeaveOneOut        `json:"leave_one_out"`
 	MostInfluential *string                  `json:"most_influential"`
+	Bias            *BiasReport              `json:"bias"`
 	Warnings        []string                 `json:"warnings"`
 }
 
@@ -172,6 +177,14 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 	}
 	if res.MostInfluential >= 0 {
 		rep.MostInfluential = &labels[res.MostInfluential]
+	}
+	if !opts.SkipBias {
+		bo := opts.Bias
+		if bo.Level == 0 {
+			bo.Level = opts.Level
+		}
+		b := BiasFor(effs, measure, bo)
+		rep.Bias = &b
 	}
 	return rep, nil
 }

@@ -1,0 +1,264 @@
+package compare
+
+import (
+	"math"
+	"strings"
+
+	"unshelved/analysis"
+	"unshelved/analysis/bias"
+)
+
+// BiasOptions control the bias battery of a report.
+type BiasOptions struct {
+	Level float64             // zero means 0.95
+	Tau2  analysis.Tau2Method // tau² of trim-and-fill's filled random-effects fit; zero means REML
+	// Direction is the sign of the favourable effect (+1 or -1); zero means
+	// the sign of the fixed-effect estimate.
+	Direction float64
+	// Cutpoints are the selection model's one-sided p cut points; nil means
+	// the three-parameter model's single cut at 0.025.
+	Cutpoints     []float64
+	SkipSelection bool
+	// ShiftSDUnits is the registry shift in SD units, for the GRADE hint.
+	ShiftSDUnits *float64
+}
+
+// EggerJSON is Egger's regression test in the report.
+type EggerJSON struct {
+	Bias          *float64 `json:"bias"`
+	BiasSE        *float64 `json:"bias_se"`
+	T             *float64 `json:"t"`
+	DF            int      `json:"df"`
+	P             *float64 `json:"p"`
+	LimitEffect   *float64 `json:"limit_effect"`
+	LimitEffectSE *float64 `json:"limit_effect_se"`
+	LimitCILow    *float64 `json:"limit_ci_low"`
+	LimitCIHigh   *float64 `json:"limit_ci_high"`
+	Dispersion    *float64 `json:"dispersion"`
+	Predictor     string   `json:"predictor"` // "se" or "sample_size"
+}
+
+// BeggJSON is Begg and Mazumdar's rank correlation test.
+type BeggJSON struct {
+	Tau  *float64 `json:"tau"`
+	Z    *float64 `json:"z"`
+	P    *float64 `json:"p"`
+	Ties string   `json:"ties"`
+}
+
+// TrimFillJSON is trim-and-fill. CILow and CIHigh belong to the
+// random-effects estimate of the filled data.
+type TrimFillJSON struct {
+	K0             int          `json:"k0"`
+	Side           string       `json:"side"`
+	Estimator      string       `json:"estimator"`
+	FixedEstimate  *float64     `json:"fixed_estimate"`
+	FixedCILow     *float64     `json:"fixed_ci_low"`
+	FixedCIHigh    *float64     `json:"fixed_ci_high"`
+	RandomEstimate *float64     `json:"random_estimate"`
+	CILow          *float64     `json:"ci_low"`
+	CIHigh         *float64     `json:"ci_high"`
+	Tau2Method     string       `json:"tau2_method"`
+	Filled         []FilledJSON `json:"filled"`
+}
+
+// FilledJSON is one imputed study.
+type FilledJSON struct {
+	Effect float64 `json:"effect"`
+	SE     float64 `json:"se"`
+}
+
+// InterceptJSON is a PET or PEESE intercept.
+type InterceptJSON struct {
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
+	CILow    *float64 `json:"ci_low"`
+	CIHigh   *float64 `json:"ci_high"`
+	P        *float64 `json:"p"`
+}
+
+// PETPEESEJSON is the conditional PET-PEESE estimate.
+type PETPEESEJSON struct {
+	Chosen   string   `json:"chosen"`
+	Estimate *float64 `json:"estimate"`
+	CILow    *float64 `json:"ci_low"`
+	CIHigh   *float64 `json:"ci_high"`
+}
+
+// SelectionJSON is the step-function selection model.
+type SelectionJSON struct {
+	Cutpoints []float64  `json:"cutpoints"`
+	Estimate  *float64   `json:"estimate"`
+	SE        *float64   `json:"se"`
+	Tau2      *float64   `json:"tau2"`
+	Weights   []*float64 `json:"weights"`
+	WeightsSE []*float64 `json:"weights_se"`
+	Counts    []int      `json:"counts"`
+	LRT       *float64   `json:"lrt"`
+	LRTDF     int        `json:"lrt_df"`
+	LRTP      *float64   `json:"lrt_p"`
+	Converged bool       `json:"converged"`
+	Message   string     `json:"message"`
+}
+
+// FunnelJSON is the data behind a contour-enhanced funnel plot.
+type FunnelJSON struct {
+	Points        []FunnelPointJSON `json:"points"`
+	Contours      []ContourJSON     `json:"contours"`
+	FixedEstimate *float64          `json:"fixed_estimate"`
+	MaxSE         *float64          `json:"max_se"`
+	EggerLine     []EggerLineJSON   `json:"egger_line"`
+}
+
+// FunnelPointJSON is one study of the funnel.
+type FunnelPointJSON struct {
+	Study    string  `json:"study"`
+	Effect   float64 `json:"effect"`
+	SE       float64 `json:"se"`
+	Registry bool    `json:"registry"`
+}
+
+// ContourJSON is a pair of significance lines effect = ±z·SE.
+type ContourJSON struct {
+	Level float64 `json:"level"`
+	Z     float64 `json:"z"`
+}
+
+// EggerLineJSON is one point of Egger's fitted line and its 95% band.
+type EggerLineJSON struct {
+	SE     float64 `json:"se"`
+	Effect float64 `json:"effect"`
+	Low    float64 `json:"low"`
+	High   float64 `json:"high"`
+}
+
+// GradeJSON is the GRADE-style hint for the publication-bias domain.
+type GradeJSON struct {
+	Level    string   `json:"level"`
+	Reasons  []string `json:"reasons"`
+	Cautions []string `json:"cautions"`
+}
+
+// BiasReport is the publication-bias battery of one set of studies.
+type BiasReport struct {
+	K               int            `json:"k"`
+	Egger           *EggerJSON     `json:"egger"`
+	EggerSampleSize *EggerJSON     `json:"egger_sample_size"`
+	Begg            *BeggJSON      `json:"begg"`
+	TrimFill        *TrimFillJSON  `json:"trim_fill"`
+	PET             *InterceptJSON `json:"pet"`
+	PEESE           *InterceptJSON `json:"peese"`
+	PETPEESE        *PETPEESEJSON  `json:"pet_peese"`
+	Selection       *SelectionJSON `json:"selection"`
+	Funnel          *FunnelJSON    `json:"funnel"`
+	GradeHint       GradeJSON      `json:"grade_hint"`
+	Warnings        []string       `json:"warnings"`
+}
+
+// BiasFor runs the publication-bias battery on a set of study effects.
+// For SMD with arm sizes on every study it adds Egger's test with the
+// sample-size predictor sqrt((n1+n2)/(n1 n2)). Registry-only studies are
+// marked in the funnel data. With fewer than 3 studies no test can run: the
+// report then holds only the GRADE hint ("cannot assess") and a warning.
+func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport {
+	rep := BiasReport{K: len(studies), Warnings: []string{}}
+	effects := make([]float64, len(studies))
+	seEffects := make([]float64, len(studies))
+	registry := make([]bool, len(studies))
+	var predictor []float64
+	if strings.EqualFold(measure, "SMD") {
+		predictor = make([]float64, len(studies))
+	}
+	for i, s := range studies {
+		effects[i], seEffects[i], registry[i] = s.Effect, s.SE, s.Origin == OriginRegistry
+		if predictor != nil {
+			if s.TreatN > 0 && s.CtrlN > 0 {
+				n1, n2 := float64(s.TreatN), float64(s.CtrlN)
+				predictor[i] = math.Sqrt((n1 + n2) / (n1 * n2))
+			} else {
+				predictor = nil
+			}
+		}
+	}
+	if strings.EqualFold(measure, "SMD") && predictor == nil {
+		rep.Warnings = append(rep.Warnings, "the sample-size variant of Egger's test needs arm sizes for every study; not run")
+	}
+	b, err := bias.Run(effects, seEffects, bias.Options{
+		Level: opts.Level, Direction: opts.Direction, Predictor: predictor, Tau2: opts.Tau2,
+		Selection: bias.SelectionSettings{Cutpoints: opts.Cutpoints}, SkipSelection: opts.SkipSelection,
+		Registry: registry, ShiftSDUnits: opts.ShiftSDUnits,
+	})
+	if err != nil {
+		rep.Warnings = append(rep.Warnings, err.Error())
+		g := bias.Grade(bias.GradeInput{K: len(studies), ShiftSDUnits: opts.ShiftSDUnits})
+		rep.GradeHint = GradeJSON{Level: g.Level, Reasons: nonNil(g.Reasons), Cautions: nonNil(g.Cautions)}
+		return rep
+	}
+	rep.Warnings = append(rep.Warnings, b.Warnings...)
+	if !math.IsNaN(b.Egger.P) && b.Egger.DF > 0 {
+		rep.Egger = eggerJSON(b.Egger, "se")
+	}
+	if b.EggerSampleSize != nil {
+		rep.EggerSampleSize = eggerJSON(*b.EggerSampleSize, "sample_size")
+	}
+	if b.Begg.Ties != "" || !math.IsNaN(b.Begg.P) && b.Begg.P != 0 {
+		rep.Begg = &BeggJSON{Tau: opt(b.Begg.Tau), Z: opt(b.Begg.Z), P: opt(b.Begg.P), Ties: b.Begg.Ties}
+	}
+	if b.TrimFill.Estimator != "" {
+		t := b.TrimFill
+		tf := &TrimFillJSON{K0: t.K0, Side: t.Side, Estimator: t.Estimator,
+			FixedEstimate: opt(t.FixedEstimate), FixedCILow: opt(t.FixedCILow), FixedCIHigh: opt(t.FixedCIHigh),
+			RandomEstimate: opt(t.RandomEstimate), CILow: opt(t.RandomCILow), CIHigh: opt(t.RandomCIHigh),
+			Tau2Method: t.Tau2Method, Filled: []FilledJSON{}}
+		for _, f := range t.Filled {
+			tf.Filled = append(tf.Filled, FilledJSON{Effect: f.Effect, SE: f.SE})
+		}
+		rep.TrimFill = tf
+	}
+	if b.PETPEESE.Chosen != "" {
+		rep.PET, rep.PEESE = interceptJSON(b.PET), interceptJSON(b.PEESE)
+		rep.PETPEESE = &PETPEESEJSON{Chosen: b.PETPEESE.Chosen, Estimate: opt(b.PETPEESE.Estimate), CILow: opt(b.PETPEESE.CILow), CIHigh: opt(b.PETPEESE.CIHigh)}
+	}
+	if s := b.Selection; s != nil {
+		sj := &SelectionJSON{Cutpoints: s.Cutpoints, Estimate: opt(s.Estimate), SE: opt(s.SE), Tau2: opt(s.Tau2),
+			Counts: s.Counts, LRT: opt(s.LRT), LRTDF: s.LRTDF, LRTP: opt(s.LRTP), Converged: s.Converged, Message: s.Message}
+		for i := range s.Weights {
+			sj.Weights = append(sj.Weights, opt(s.Weights[i]))
+			if i < len(s.WeightsSE) {
+				sj.WeightsSE = append(sj.WeightsSE, opt(s.WeightsSE[i]))
+			}
+		}
+		rep.Selection = sj
+	}
+	f := b.Funnel
+	fj := &FunnelJSON{FixedEstimate: opt(f.FixedEstimate), MaxSE: opt(f.MaxSE), Points: []FunnelPointJSON{}, Contours: []ContourJSON{}, EggerLine: []EggerLineJSON{}}
+	for i, p := range f.Points {
+		fj.Points = append(fj.Points, FunnelPointJSON{Study: studies[i].Study, Effect: p.Effect, SE: p.SE, Registry: p.Registry})
+	}
+	for _, c := range f.Contours {
+		fj.Contours = append(fj.Contours, ContourJSON{Level: c.Level, Z: c.Z})
+	}
+	for _, l := range f.EggerLine {
+		fj.EggerLine = append(fj.EggerLine, EggerLineJSON{SE: l.SE, Effect: l.Effect, Low: l.Low, High: l.High})
+	}
+	rep.Funnel = fj
+	rep.GradeHint = GradeJSON{Level: b.Grade.Level, Reasons: nonNil(b.Grade.Reasons), Cautions: nonNil(b.Grade.Cautions)}
+	return rep
+}
+
+func eggerJSON(r bias.Regression, predictor string) *EggerJSON {
+	return &EggerJSON{Bias: opt(r.Bias), BiasSE: opt(r.BiasSE), T: opt(r.T), DF: r.DF, P: opt(r.P),
+		LimitEffect: opt(r.LimitEffect), LimitEffectSE: opt(r.LimitEffectSE), LimitCILow: opt(r.LimitCILow), LimitCIHigh: opt(r.LimitCIHigh),
+		Dispersion: opt(r.Dispersion), Predictor: predictor}
+}
+
+func interceptJSON(i bias.Intercept) *InterceptJSON {
+	return &InterceptJSON{Estimate: opt(i.Estimate), SE: opt(i.SE), CILow: opt(i.CILow), CIHigh: opt(i.CIHigh), P: opt(i.P)}
+}
+
+func nonNil(s []string) []string {
+	if s == nil {
+		return []string{}
+	}
+	return s
+}
