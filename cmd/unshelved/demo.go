@@ -1,0 +1,114 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"unshelved/compare"
+	"unshelved/testdata/demo"
+)
+
+type demoOptions struct {
+	g   *globals
+	Out string
+}
+
+func newCmdDemo(g *globals) *cobra.Command {
+	opts := &demoOptions{g: g}
+	cmd := &cobra.Command{
+		Use:   "demo",
+		Short: "Run the whole job on the embedded, invented demo scenario",
+		Long: `Build a workspace from the embedded demo scenario (three invented reviews and
+about thirty invented registry records whose ids cannot be real), load the
+links between them, and print the audit table.
+
+The scenario's input files are written to DIR/input, the workspace database
+to DIR/unshelved.db (DIR is unshelved-demo in the current folder unless
+--out says otherwise). An earlier demo database in DIR is replaced; nothing
+else is touched. The --db flag does not apply.`,
+		Args: exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return demoRun(cmd, opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.Out, "out", "unshelved-demo", "folder for the demo's files")
+	return cmd
+}
+
+func demoRun(cmd *cobra.Command, opts *demoOptions) error {
+	ctx := cmd.Context()
+	g := opts.g
+	input := filepath.Join(opts.Out, "input")
+	if err := writeDemoFiles(input); err != nil {
+		return err
+	}
+	dbPath := filepath.Join(opts.Out, "unshelved.db")
+	for _, suffix := range []string{"", "-wal", "-shm"} {
+		if err := os.Remove(dbPath + suffix); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("remove old demo database: %w", err)
+		}
+	}
+	g.DBPath = dbPath
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+
+	quiet := *g
+	quiet.Quiet = true
+	sum, err := loadRegistry(ctx, &quiet, db, &ingestRegistryOptions{Paths: []string{filepath.Join(input, "registry")}, BatchSize: 2000})
+	if err != nil {
+		return fmt.Errorf("demo registry: %w", err)
+	}
+	if sum.Rejected > 0 {
+		return fmt.Errorf("demo registry: %d record(s) rejected", sum.Rejected)
+	}
+	reviews, studies, err := readReviewFiles(g, []string{filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")})
+	if err != nil {
+		return fmt.Errorf("demo reviews: %w", err)
+	}
+	if err := saveReviews(ctx, &quiet, db, reviews, studies); err != nil {
+		return fmt.Errorf("demo reviews: %w", err)
+	}
+	if err := applyLinksFile(ctx, &quiet, db, filepath.Join(input, "links.csv")); err != nil {
+		return fmt.Errorf("demo links: %w", err)
+	}
+	audits, err := compare.Audit(ctx, db, nil, compare.Options{})
+	if err != nil {
+		return err
+	}
+	g.progressf("demo: %d registry records, %d reviews with %d published studies", sum.Records, len(reviews), len(studies))
+	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, 0.95)); err != nil {
+		return err
+	}
+	g.progressf("demo: input files in %s", input)
+	g.progressf("demo: workspace database %s (try: unshelved --db %s audit --format json)", dbPath, dbPath)
+	return nil
+}
+
+// writeDemoFiles copies the embedded scenario to dir.
+func writeDemoFiles(dir string) error {
+	return fs.WalkDir(demo.FS, ".", func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		target := filepath.Join(dir, filepath.FromSlash(path))
+		if d.IsDir() {
+			return os.MkdirAll(target, 0o755)
+		}
+		data, err := demo.FS.ReadFile(path)
+		if err != nil {
+			return err
+		}
+		if err := os.WriteFile(target, data, 0o644); err != nil {
+			return fmt.Errorf("write demo file: %w", err)
+		}
+		return nil
+	})
+}

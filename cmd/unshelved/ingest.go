@@ -1,0 +1,391 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"unshelved/ingest"
+	"unshelved/store"
+)
+
+func newCmdIngest(g *globals) *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "ingest",
+		Short: "Load registry records or published meta-analyses into the workspace",
+	}
+	cmd.AddCommand(newCmdIngestRegistry(g), newCmdIngestReviews(g))
+	return cmd
+}
+
+type ingestRegistryOptions struct {
+	g         *globals
+	Paths     []string
+	Strict    bool
+	Workers   int
+	BatchSize int
+	Force     bool
+}
+
+func newCmdIngestRegistry(g *globals) *cobra.Command {
+	opts := &ingestRegistryOptions{g: g}
+	cmd := &cobra.Command{
+		Use:   "registry PATH...",
+		Short: "Load registry study records (API v2 JSON: single study, search page, zip, JSON lines, gzip, folders; neutral CSV; - for stdin)",
+		Args:  minArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.Paths = args
+			if opts.Workers < 0 {
+				return flagErrorf("--workers must be 0 (all cores) or more, not %d", opts.Workers)
+			}
+			if opts.BatchSize < 1 {
+				return flagErrorf("--batch must be at least 1, not %d", opts.BatchSize)
+			}
+			return ingestRegistryRun(cmd, opts)
+		},
+	}
+	cmd.Flags().BoolVar(&opts.Strict, "strict", false, "stop at the first malformed record")
+	cmd.Flags().IntVar(&opts.Workers, "workers", 0, "parsing goroutines (0 = one per core)")
+	cmd.Flags().IntVar(&opts.BatchSize, "batch", 2000, "trials per database transaction")
+	cmd.Flags().BoolVar(&opts.Force, "force", false, "re-read files already ingested with the same content")
+	return cmd
+}
+
+// ingestSummary is the end-of-run report of a registry ingest.
+type ingestSummary struct {
+	Files            int            `json:"files"`
+	SkippedFiles     int            `json:"skipped_files"`
+	Records          int            `json:"records"`
+	WithResults      int            `json:"with_results"`
+	Inserted         int            `json:"inserted"`
+	Replaced         int            `json:"replaced"`
+	Unchanged        int            `json:"unchanged"`
+	Older            int            `json:"older_versions_ignored"`
+	Rejected         int            `json:"rejected"`
+	RejectedByReason map[string]int `json:"rejected_by_reason"`
+	Bytes            int64          `json:"bytes"`
+}
+
+func ingestRegistryRun(cmd *cobra.Command, opts *ingestRegistryOptions) error {
+	g := opts.g
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	sum, err := loadRegistry(cmd.Context(), g, db, opts)
+	if err != nil {
+		return err
+	}
+	if err := render(g.IO.Out, g.Format, sum, ingestGrid(sum)); err != nil {
+		return err
+	}
+	if sum.Rejected > 0 {
+		return &rejectedError{n: sum.Rejected}
+	}
+	return nil
+}
+
+// loadRegistry streams the registry files into the workspace: parsing in
+// parallel, one writer, one transaction per batch.
+func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestRegistryOptions) (ingestSummary, error) {
+	sum := ingestSummary{RejectedByReason: map[string]int{}}
+	w, err := db.NewTrialWriter(ctx, opts.BatchSize)
+	if err != nil {
+		return sum, err
+	}
+	bar := newProgress(g, "ingest")
+	scanOpts := ingest.ScanOptions{
+		Workers:  opts.Workers,
+		Strict:   opts.Strict,
+		Stdin:    g.IO.In,
+		Progress: bar.update,
+	}
+	// Every file is offered here with its hash before it is read; the ones
+	// read are recorded as sources once all their records are committed.
+	type fileSeen struct {
+		path, sha string
+		records   int
+	}
+	var seen []*fileSeen
+	byPath := map[string]*fileSeen{}
+	scanOpts.SkipFile = func(path, sha string) bool {
+		if !opts.Force {
+			if known, err := db.SourceKnown(ctx, sha); err == nil && known {
+				return true
+			}
+		}
+		f := &fileSeen{path: path, sha: sha}
+		seen = append(seen, f)
+		byPath[path] = f
+		return false
+	}
+	scan, scanErr := ingest.ScanRegistry(ctx, opts.Paths, scanOpts, func(t ingest.Trial) error {
+		if f := byPath[t.Source.Path]; f != nil {
+			f.records++
+		}
+		res, err := w.Write(ctx, t)
+		if err != nil {
+			return fmt.Errorf("store %s: %w", t.TrialID, err)
+		}
+		switch res {
+		case store.Inserted:
+			sum.Inserted++
+		case store.Replaced:
+			sum.Replaced++
+		case store.Unchanged:
+			sum.Unchanged++
+		case store.Older:
+			sum.Older++
+		}
+		return nil
+	})
+	closeErr := w.Close(ctx)
+	bar.finish()
+	sum.Files, sum.SkippedFiles, sum.Records, sum.WithResults = scan.Files, scan.SkippedFiles, scan.Records, scan.WithResults
+	sum.Rejected, sum.Bytes = scan.Rejected, scan.Bytes
+	for k, v := range scan.RejectedByReason {
+		sum.RejectedByReason[k] = v
+	}
+	for _, e := range scan.Errors {
+		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", e)
+	}
+	if scanErr != nil {
+		return sum, scanErr
+	}
+	if closeErr != nil {
+		return sum, closeErr
+	}
+	rejected := map[string]int{}
+	for _, e := range scan.Errors {
+		rejected[e.File]++
+	}
+	for _, f := range seen {
+		if err := db.RecordSource(ctx, store.SourceFile{Path: f.path, SHA256: f.sha, Records: f.records, Rejected: rejected[f.path],
+			Format: sourceFormat(f.path), Size: fileSize(f.path), Finished: g.IO.now()}); err != nil {
+			return sum, fmt.Errorf("record source %s: %w", f.path, err)
+		}
+	}
+	return sum, nil
+}
+
+// sourceFormat names a registry file's container from its name.
+func sourceFormat(path string) string {
+	p := strings.ToLower(path)
+	p = strings.TrimSuffix(p, ".gz")
+	switch {
+	case path == "-":
+		return "stdin"
+	case strings.HasSuffix(p, ".zip"):
+		return "zip"
+	case strings.HasSuffix(p, ".jsonl"), strings.HasSuffix(p, ".ndjson"):
+		return "jsonl"
+	case strings.HasSuffix(p, ".csv"):
+		return "neutral-csv"
+	default:
+		return "json"
+	}
+}
+
+func ingestGrid(s ingestSummary) grid {
+	rows := [][]string{
+		{"files read", fmt.Sprint(s.Files)},
+		{"files skipped (unchanged)", fmt.Sprint(s.SkippedFiles)},
+		{"records", fmt.Sprint(s.Records)},
+		{"with results", fmt.Sprint(s.WithResults)},
+		{"inserted", fmt.Sprint(s.Inserted)},
+		{"replaced by a newer version", fmt.Sprint(s.Replaced)},
+		{"unchanged", fmt.Sprint(s.Unchanged)},
+		{"older versions ignored", fmt.Sprint(s.Older)},
+		{"rejected", fmt.Sprint(s.Rejected)},
+	}
+	for _, k := range sortedKeys(s.RejectedByReason) {
+		rows = append(rows, []string{"  rejected: " + k, fmt.Sprint(s.RejectedByReason[k])})
+	}
+	return grid{Columns: []string{"item", "count"}, Table: rows, CSV: rows}
+}
+
+type ingestReviewsOptions struct {
+	g     *globals
+	Files []string
+}
+
+func newCmdIngestReviews(g *globals) *cobra.Command {
+	opts := &ingestReviewsOptions{g: g}
+	return &cobra.Command{
+		Use:   "reviews FILE...",
+		Short: "Load published meta-analyses: reviews.csv and studies.csv (told apart by their header)",
+		Long: `Load published meta-analyses in unshelved's CSV formats.
+
+reviews.csv columns: review_id, title, measure (MD|SMD), outcome, unit,
+better (lower|higher), timepoint_weeks, search_date, conditions,
+interventions, comparator, mid (lists separated by ';').
+
+studies.csv columns: review_id, study, registry_id, year, and either
+effect, se or treat_mean, treat_sd, treat_n, ctrl_mean, ctrl_sd, ctrl_n;
+plus note.
+
+Each review named in the files replaces its earlier version and studies;
+other reviews in the workspace stay as they are.`,
+		Args: minArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.Files = args
+			return ingestReviewsRun(cmd, opts)
+		},
+	}
+}
+
+func ingestReviewsRun(cmd *cobra.Command, opts *ingestReviewsOptions) error {
+	g := opts.g
+	reviews, studies, err := readReviewFiles(g, opts.Files)
+	if err != nil {
+		return err
+	}
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	return saveReviews(cmd.Context(), g, db, reviews, studies)
+}
+
+// readReviewFiles reads reviews.csv and studies.csv files, told apart by
+// their header. Any rejected row stops the load: a review is loaded whole
+// or not at all.
+func readReviewFiles(g *globals, files []string) ([]ingest.Review, []ingest.ReviewStudy, error) {
+	var reviews []ingest.Review
+	var studies []ingest.ReviewStudy
+	var problems []*ingest.ParseError
+	for _, path := range files {
+		data, src, err := readWhole(g, path)
+		if err != nil {
+			return nil, nil, err
+		}
+		kind, err := csvKind(data)
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: %w", path, err)
+		}
+		switch kind {
+		case "reviews":
+			r, bad, err := ingest.ReadReviews(bytes.NewReader(data), src)
+			if err != nil {
+				return nil, nil, fmt.Errorf("read %s: %w", path, err)
+			}
+			reviews, problems = append(reviews, r...), append(problems, bad...)
+		case "studies":
+			s, bad, err := ingest.ReadStudies(bytes.NewReader(data), src)
+			if err != nil {
+				return nil, nil, fmt.Errorf("read %s: %w", path, err)
+			}
+			studies, problems = append(studies, s...), append(problems, bad...)
+		}
+	}
+	for _, p := range problems {
+		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
+	}
+	if len(problems) > 0 {
+		return nil, nil, &rejectedError{n: len(problems)}
+	}
+	return reviews, studies, nil
+}
+
+// saveReviews stores reviews with their studies. Studies may name reviews
+// loaded earlier; a review given without any of its studies keeps the
+// studies it had.
+func saveReviews(ctx context.Context, g *globals, db *store.DB, reviews []ingest.Review, studies []ingest.ReviewStudy) error {
+	known := map[string]bool{}
+	for _, r := range reviews {
+		known[r.ReviewID] = true
+	}
+	for _, s := range studies {
+		if known[s.ReviewID] {
+			continue
+		}
+		rv, err := db.Review(ctx, s.ReviewID)
+		if errors.Is(err, store.ErrNotFound) {
+			return fmt.Errorf("%s:%s: study %q: review %q is neither in the files given nor in the workspace", s.Source.Path, lineOf(s.Source), s.Study, s.ReviewID)
+		}
+		if err != nil {
+			return fmt.Errorf("load review %s: %w", s.ReviewID, err)
+		}
+		known[s.ReviewID] = true
+		reviews = append(reviews, rv)
+	}
+	hasStudies := map[string]bool{}
+	for _, s := range studies {
+		hasStudies[s.ReviewID] = true
+	}
+	for _, r := range reviews {
+		if hasStudies[r.ReviewID] {
+			continue
+		}
+		old, err := db.ReviewStudies(ctx, r.ReviewID)
+		if err != nil && !errors.Is(err, store.ErrNotFound) {
+			return fmt.Errorf("load studies of %s: %w", r.ReviewID, err)
+		}
+		studies = append(studies, old...)
+	}
+	if err := db.SaveReviews(ctx, reviews, studies); err != nil {
+		return fmt.Errorf("save reviews: %w", err)
+	}
+	g.progressf("loaded %d review(s) and %d published stud(ies)", len(reviews), len(studies))
+	return nil
+}
+
+// readWhole reads a small input file (or stdin for "-") and its hash.
+func readWhole(g *globals, path string) ([]byte, ingest.Source, error) {
+	var data []byte
+	var err error
+	if path == "-" {
+		data, err = io.ReadAll(g.IO.In)
+	} else {
+		data, err = os.ReadFile(path)
+	}
+	if err != nil {
+		return nil, ingest.Source{}, fmt.Errorf("read %s: %w", path, err)
+	}
+	sum := sha256.Sum256(data)
+	return data, ingest.Source{Path: path, SHA256: hex.EncodeToString(sum[:])}, nil
+}
+
+// csvKind tells reviews.csv from studies.csv by the header row.
+func csvKind(data []byte) (string, error) {
+	r := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
+	header, err := r.Read()
+	if err != nil {
+		return "", fmt.Errorf("no header row: %w", err)
+	}
+	cols := map[string]bool{}
+	for _, h := range header {
+		cols[strings.ToLower(strings.TrimSpace(h))] = true
+	}
+	switch {
+	case cols["review_id"] && cols["study"]:
+		return "studies", nil
+	case cols["review_id"] && cols["measure"]:
+		return "reviews", nil
+	default:
+		return "", fmt.Errorf("header names neither a reviews file (review_id, measure, ...) nor a studies file (review_id, study, ...)")
+	}
+}
+
+func lineOf(s ingest.Source) string {
+	return strings.TrimPrefix(s.Position, "line ")
+}
+
+func fileSize(path string) int64 {
+	st, err := os.Stat(path)
+	if err != nil {
+		return 0
+	}
+	return st.Size()
+}

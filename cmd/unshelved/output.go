@@ -1,0 +1,210 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
+)
+
+// This file is the only place that renders results. Commands build report
+// values and hand them here with a header and rows for the table and CSV
+// forms; JSON is the report value itself.
+
+// grid is a rectangular view of a result. Header and Table are for people
+// (rounded cells); Columns and CSV are for scripts (stable snake_case names,
+// full precision). A nil Header means Columns serve both.
+type grid struct {
+	Header  []string
+	Table   [][]string
+	Columns []string
+	CSV     [][]string
+	Notes   []string // printed under the table (table format only)
+	Extra   []titled // further tables printed after the notes (table format only)
+}
+
+// titled is an extra table with a title line.
+type titled struct {
+	Title  string
+	Header []string
+	Rows   [][]string
+	Notes  []string
+}
+
+// render writes v in the chosen format: JSON from v, table or CSV from g.
+func render(w io.Writer, format string, v any, g grid) error {
+	switch format {
+	case "json":
+		return writeJSON(w, v)
+	case "csv":
+		return writeCSV(w, g.Columns, g.CSV)
+	default:
+		header := g.Header
+		if header == nil {
+			header = g.Columns
+		}
+		if err := writeTable(w, header, g.Table); err != nil {
+			return err
+		}
+		if err := writeLines(w, g.Notes); err != nil {
+			return err
+		}
+		for _, x := range g.Extra {
+			if _, err := fmt.Fprintf(w, "\n%s\n", x.Title); err != nil {
+				return err
+			}
+			if err := writeTable(w, x.Header, x.Rows); err != nil {
+				return err
+			}
+			if err := writeLines(w, x.Notes); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+}
+
+func writeLines(w io.Writer, lines []string) error {
+	for _, n := range lines {
+		if _, err := fmt.Fprintln(w, n); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	enc.SetEscapeHTML(false)
+	return enc.Encode(v)
+}
+
+// writeTable prints a bordered table with the column names as given.
+func writeTable(w io.Writer, header []string, rows [][]string) error {
+	t := tablewriter.NewTable(w,
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithRowAutoWrap(tw.WrapNone),
+		tablewriter.WithHeaderAlignment(tw.AlignLeft),
+		tablewriter.WithRowAlignment(tw.AlignRight),
+	)
+	t.Header(anySlice(header)...)
+	for _, r := range rows {
+		if err := t.Append(anySlice(r)...); err != nil {
+			return err
+		}
+	}
+	return t.Render()
+}
+
+func anySlice(s []string) []any {
+	out := make([]any, len(s))
+	for i, x := range s {
+		out[i] = x
+	}
+	return out
+}
+
+// writeCSV writes RFC 4180 CSV. Cells that a spreadsheet would run as a
+// formula are neutralised with a leading apostrophe.
+func writeCSV(w io.Writer, header []string, rows [][]string) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(header); err != nil {
+		return err
+	}
+	for _, r := range rows {
+		safe := make([]string, len(r))
+		for i, c := range r {
+			safe[i] = csvSafe(c)
+		}
+		if err := cw.Write(safe); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// csvSafe guards against spreadsheet formula injection: a cell starting
+// with =, +, @, tab or carriage return, or with - not followed by a
+// number, gets a leading apostrophe. Negative numbers stay numbers.
+func csvSafe(c string) string {
+	if c == "" {
+		return c
+	}
+	switch c[0] {
+	case '=', '+', '@', '\t', '\r':
+		return "'" + c
+	case '-':
+		if _, err := strconv.ParseFloat(c, 64); err == nil {
+			return c
+		}
+		return "'" + c
+	}
+	return c
+}
+
+// full formats a number at full precision for CSV; NaN and Inf are empty.
+func full(x float64) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
+
+// fullPtr formats an optional number for CSV.
+func fullPtr(x *float64) string {
+	if x == nil {
+		return ""
+	}
+	return full(*x)
+}
+
+// round formats a number for people with d decimals; NaN and Inf are "-".
+func round(x float64, d int) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "-"
+	}
+	s := strconv.FormatFloat(x, 'f', d, 64)
+	if strings.Trim(s, "-0.") == "" {
+		s = strings.TrimPrefix(s, "-") // no "-0.00"
+	}
+	return s
+}
+
+func roundPtr(x *float64, d int) string {
+	if x == nil {
+		return "-"
+	}
+	return round(*x, d)
+}
+
+// pValue formats a p value for people.
+func pValue(p float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "-"
+	case p < 0.0001:
+		return "<0.0001"
+	default:
+		return strconv.FormatFloat(p, 'f', 4, 64)
+	}
+}
+
+// interval formats "est [lo, hi]" for people.
+func interval(est, lo, hi float64, d int) string {
+	return fmt.Sprintf("%s [%s, %s]", round(est, d), round(lo, d), round(hi, d))
+}
+
+func yesNo(b bool) string {
+	if b {
+		return "yes"
+	}
+	return "no"
+}

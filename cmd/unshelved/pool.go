@@ -1,0 +1,151 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"unshelved/analysis"
+	"unshelved/compare"
+	"unshelved/ingest"
+)
+
+type poolOptions struct {
+	g            *globals
+	File         string
+	Measure      string
+	Tau2         string
+	Level        float64
+	TruncateHKSJ bool
+}
+
+func newCmdPool(g *globals) *cobra.Command {
+	opts := &poolOptions{g: g}
+	cmd := &cobra.Command{
+		Use:   "pool FILE|-",
+		Short: "Analyse one meta-analysis file directly (no registry needed)",
+		Long: `Pool the studies of one meta-analysis given in studies.csv form: columns
+study and either effect, se or treat_mean, treat_sd, treat_n, ctrl_mean,
+ctrl_sd, ctrl_n (review_id, registry_id, year and note are optional).
+
+Reports the fixed-effect estimate, Cochran's Q, I² and H², random-effects
+estimates under DerSimonian-Laird, Paule-Mandel and REML tau² with Wald and
+Hartung-Knapp-Sidik-Jonkman intervals (scale factor not truncated at 1
+unless --truncate-hksj), the prediction interval, the Q-profile interval of
+tau², and leave-one-out estimates.`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.File = args[0]
+			opts.Measure = strings.ToUpper(opts.Measure)
+			if opts.Measure != "MD" && opts.Measure != "SMD" {
+				return flagErrorf("invalid --measure %q: valid values are MD, SMD", opts.Measure)
+			}
+			if err := checkTau2(opts.Tau2); err != nil {
+				return err
+			}
+			if !(opts.Level > 0 && opts.Level < 1) {
+				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
+			}
+			return poolRun(cmd, opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.Measure, "measure", "MD", "effect measure for arm data: MD or SMD (Hedges' g)")
+	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator of the main random-effects result: reml, dl or pm")
+	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
+	cmd.Flags().BoolVar(&opts.TruncateHKSJ, "truncate-hksj", false, "floor the HKSJ scale factor at 1")
+	return cmd
+}
+
+func poolRun(cmd *cobra.Command, opts *poolOptions) error {
+	g := opts.g
+	data, src, err := readWhole(g, opts.File)
+	if err != nil {
+		return err
+	}
+	studies, bad, err := ingest.ReadStudies(bytes.NewReader(data), src)
+	if err != nil {
+		return fmt.Errorf("read %s: %w", opts.File, err)
+	}
+	if len(bad) > 0 {
+		for _, p := range bad {
+			fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
+		}
+		return fmt.Errorf("%d row(s) of %s rejected; nothing pooled", len(bad), opts.File)
+	}
+	rep, err := compare.PoolStudies(studies, compare.PoolOptions{
+		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), TruncateHKSJ: opts.TruncateHKSJ,
+	})
+	if err != nil {
+		return err
+	}
+	return render(g.IO.Out, g.Format, rep, poolGrid(rep))
+}
+
+var poolColumns = []string{"study", "effect", "se", "ci_low", "ci_high", "weight_fixed", "weight_random", "converted_from"}
+
+func poolGrid(r compare.PoolReport) grid {
+	g := grid{Columns: poolColumns, Header: []string{"study", r.Measure, "SE", pct(r.Level) + " CI", "weight fixed %", "weight random %", "from"}}
+	for _, s := range r.Studies {
+		lo, hi := s.CILow, s.CIHigh
+		g.Table = append(g.Table, []string{s.Study, round(s.Effect, 3), round(s.SE, 3), "[" + round(lo, 2) + ", " + round(hi, 2) + "]",
+			roundPtr(s.WeightFixed, 1), roundPtr(s.WeightRandom, 1), s.ConvertedFrom})
+		g.CSV = append(g.CSV, []string{s.Study, full(s.Effect), full(s.SE), full(lo), full(hi), fullPtr(s.WeightFixed), fullPtr(s.WeightRandom), s.ConvertedFrom})
+	}
+	h := r.Heterogeneity
+	models := titled{
+		Title:  fmt.Sprintf("Pooled (k = %d, %s CI)", r.K, pct(r.Level)),
+		Header: []string{"model", "estimate", "SE", "CI", "p", "tau²"},
+		Rows: [][]string{
+			{"fixed effect", roundPtr(r.Fixed.Estimate, 3), roundPtr(r.Fixed.SE, 3), ciCell(r.Fixed.CILow, r.Fixed.CIHigh), pPtr(r.Fixed.P), ""},
+			{"random (" + h.Tau2Method + "), Wald", roundPtr(r.Random.Estimate, 3), roundPtr(r.Random.SE, 3), ciCell(r.Random.CILow, r.Random.CIHigh), pPtr(r.Random.P), roundPtr(h.Tau2, 4)},
+			{"random (" + h.Tau2Method + "), HKSJ", roundPtr(r.Random.Estimate, 3), "", ciCell(r.Random.HKSJCILow, r.Random.HKSJCIHigh), "", ""},
+		},
+	}
+	for _, m := range []string{"dl", "pm", "reml"} {
+		x := r.RandomByMethod[m]
+		models.Rows = append(models.Rows, []string{"random (" + m + ")", roundPtr(x.Estimate, 3), roundPtr(x.SE, 3), ciCell(x.CILow, x.CIHigh), "", roundPtr(x.Tau2, 4)})
+	}
+	models.Notes = []string{
+		fmt.Sprintf("Heterogeneity: Q = %s on %d df (p = %s), I² = %s%%, H² = %s, tau² (%s) = %s, %s CI %s (Q-profile)",
+			roundPtr(h.Q, 2), h.DF, pPtr(h.QP), roundPtr(h.I2, 1), roundPtr(h.H2, 2), h.Tau2Method, roundPtr(h.Tau2, 4), pct(r.Level), ciCell(h.Tau2CILow, h.Tau2CIHigh)),
+		fmt.Sprintf("Prediction interval (%s): %s", pct(r.Level), ciCell(r.Random.PILow, r.Random.PIHigh)),
+		"The HKSJ scale factor is not truncated at 1 unless --truncate-hksj is given.",
+	}
+	g.Extra = append(g.Extra, models)
+	if len(r.LeaveOneOut) > 0 {
+		loo := titled{Title: "Leave one out (random effects, " + h.Tau2Method + ")", Header: []string{"omitted", "estimate", "CI", "tau²", "I² %"}}
+		for _, l := range r.LeaveOneOut {
+			loo.Rows = append(loo.Rows, []string{l.Omitted, roundPtr(l.Estimate, 3), ciCell(l.CILow, l.CIHigh), roundPtr(l.Tau2, 4), roundPtr(l.I2, 1)})
+		}
+		if r.MostInfluential != nil {
+			loo.Notes = []string{"Most influential study: " + *r.MostInfluential}
+		}
+		g.Extra = append(g.Extra, loo)
+	}
+	if len(r.Warnings) > 0 {
+		w := titled{Title: "Warnings", Header: []string{"warning"}}
+		for _, x := range r.Warnings {
+			w.Rows = append(w.Rows, []string{x})
+		}
+		g.Extra = append(g.Extra, w)
+	}
+	return g
+}
+
+func pct(level float64) string { return fmt.Sprintf("%g%%", 100*level) }
+
+func ciCell(lo, hi *float64) string {
+	if lo == nil && hi == nil {
+		return "-"
+	}
+	return "[" + roundPtr(lo, 2) + ", " + roundPtr(hi, 2) + "]"
+}
+
+func pPtr(p *float64) string {
+	if p == nil {
+		return "-"
+	}
+	return pValue(*p)
+}

@@ -1,0 +1,185 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"unshelved/store"
+)
+
+// version is the tool version stored with every run.
+const version = "0.1.0-dev"
+
+// defaultDBPath is used when neither --db nor UNSHELVED_DB is given.
+const defaultDBPath = "unshelved.db"
+
+// IO holds the streams and environment a command may use. Tests build one
+// over buffers; nothing in this package touches os.Stdout directly.
+type IO struct {
+	In            io.Reader
+	Out           io.Writer
+	ErrOut        io.Writer
+	ErrIsTerminal bool // progress bars only when stderr is a terminal
+	Getenv        func(string) string
+	Now           func() time.Time
+}
+
+func defaultIO() *IO {
+	return &IO{
+		In:            os.Stdin,
+		Out:           os.Stdout,
+		ErrOut:        os.Stderr,
+		ErrIsTerminal: isTerminal(os.Stderr),
+		Getenv:        os.Getenv,
+		Now:           time.Now,
+	}
+}
+
+// globals are the flags every command shares.
+type globals struct {
+	IO     *IO
+	DBPath string
+	Format string
+	Quiet  bool
+}
+
+// dbPath resolves --db, then UNSHELVED_DB, then the default.
+func (g *globals) dbPath(cmd *cobra.Command) string {
+	if cmd.Flags().Changed("db") || g.IO.Getenv == nil {
+		return g.DBPath
+	}
+	if p := g.IO.Getenv("UNSHELVED_DB"); p != "" {
+		return p
+	}
+	return g.DBPath
+}
+
+// openDB opens the workspace database named by the global flags.
+func (g *globals) openDB(cmd *cobra.Command) (*store.DB, error) {
+	path := g.dbPath(cmd)
+	db, err := store.Open(cmd.Context(), path)
+	if err != nil {
+		return nil, fmt.Errorf("open database %s: %w", path, err)
+	}
+	return db, nil
+}
+
+// progressf writes a status line to stderr unless --quiet.
+func (g *globals) progressf(format string, args ...any) {
+	if g.Quiet {
+		return
+	}
+	fmt.Fprintf(g.IO.ErrOut, format+"\n", args...)
+}
+
+var formats = []string{"table", "json", "csv"}
+
+func newRootCmd(io *IO) (*cobra.Command, *globals) {
+	g := &globals{IO: io}
+	root := &cobra.Command{
+		Use:   "unshelved",
+		Short: "Audit meta-analyses against registry results of unpublished trials",
+		Long: `unshelved loads trial-registry result records and published meta-analyses of
+continuous outcomes into a local SQLite workspace, links each review to the
+registered trials whose results it lacks, converts their posted results into
+the review's effect measure, re-pools, and reports how much the pooled
+estimate shifts.`,
+		SilenceErrors: true,
+		SilenceUsage:  true,
+		PersistentPreRunE: func(cmd *cobra.Command, args []string) error {
+			for _, f := range formats {
+				if g.Format == f {
+					return nil
+				}
+			}
+			return flagErrorf("invalid --format %q: valid values are %s", g.Format, strings.Join(formats, ", "))
+		},
+	}
+	root.SetOut(io.Out)
+	root.SetErr(io.ErrOut)
+	root.SetIn(io.In)
+	root.SetFlagErrorFunc(func(cmd *cobra.Command, err error) error {
+		return &flagError{err: err}
+	})
+	pf := root.PersistentFlags()
+	pf.StringVar(&g.DBPath, "db", defaultDBPath, "workspace database file (or set UNSHELVED_DB)")
+	pf.StringVar(&g.Format, "format", "table", "output format: table, json or csv")
+	pf.BoolVarP(&g.Quiet, "quiet", "q", false, "no progress or status messages on stderr")
+
+	root.AddCommand(
+		newCmdIngest(g),
+		newCmdMatch(g),
+		newCmdAudit(g),
+		newCmdPool(g),
+		newCmdDemo(g),
+		newCmdDB(g),
+	)
+	return root, g
+}
+
+// Main runs the command line and returns the process exit code.
+func Main(args []string, io *IO) int {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	return run(ctx, args, io)
+}
+
+func run(ctx context.Context, args []string, io *IO) int {
+	root, _ := newRootCmd(io)
+	root.SetArgs(args)
+	err := root.ExecuteContext(ctx)
+	if err == nil {
+		return exitOK
+	}
+	code := exitCode(err)
+	fmt.Fprintf(io.ErrOut, "unshelved: %v\n", err)
+	var fe *flagError
+	if errors.As(err, &fe) {
+		fmt.Fprintln(io.ErrOut, "run 'unshelved --help' for usage")
+	}
+	if code == exitInterrupted {
+		fmt.Fprintln(io.ErrOut, "interrupted")
+	}
+	return code
+}
+
+// exactArgs wraps cobra's argument checks so they count as usage errors.
+func exactArgs(n int) cobra.PositionalArgs {
+	return func(cmd *cobra.Command, args []string) error {
+		if err := cobra.ExactArgs(n)(cmd, args); err != nil {
+			return &flagError{err: err}
+		}
+		return nil
+	}
+}
+
+func minArgs(n int) cobra.PositionalArgs {
+	return func(cmd *cobra.Command, args []string) error {
+		if err := cobra.MinimumNArgs(n)(cmd, args); err != nil {
+			return &flagError{err: err}
+		}
+		return nil
+	}
+}
+
+// isTerminal reports whether f is a character device (a terminal).
+func isTerminal(f *os.File) bool {
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
+}
+
+// now is the injected clock, or the real one.
+func (io *IO) now() time.Time {
+	if io.Now != nil {
+		return io.Now()
+	}
+	return time.Now()
+}
