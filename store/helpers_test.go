@@ -84,6 +84,7 @@ func fullTrial(id string) ingest.Trial {
 		OverallStatus:   "COMPLETED",
 		LastKnownStatus: "RECRUITING",
 		WhyStopped:      "not stopped",
+		StatusVerified:  "2023-01",
 
 		StudyType:         "INTERVENTIONAL",
 		Phases:            []string{"PHASE2", "PHASE3"},
@@ -97,7 +98,7 @@ func fullTrial(id string) ingest.Trial {
 		LeadSponsor:   ingest.Org{Name: "Invented Pharma", Class: "INDUSTRY"},
 		Collaborators: []ingest.Org{{Name: "Made-up University", Class: "OTHER"}, {Name: "Fictional Institute", Class: "NIH"}},
 
-		StartDate:             ingest.Date{Text: "2019-03", Type: ""},
+		StartDate:             ingest.Date{Text: "2019-03", Type: "ACTUAL"},
 		PrimaryCompletionDate: ingest.Date{Text: "2021-06-30", Type: "ACTUAL"},
 		CompletionDate:        ingest.Date{Text: "2021-09-15", Type: "ACTUAL"},
 		FirstPostedDate:       ingest.Date{Text: "2019-02-01", Type: "ACTUAL"},
@@ -130,7 +131,7 @@ func fullTrial(id string) ingest.Trial {
 				Index: 0, Type: "PRIMARY", Title: "Change in itch score", Description: "NRS 0-10",
 				Population: "FAS", TimeFrame: "Baseline, Week 12", ReportingStatus: "POSTED",
 				ParamType: "LEAST_SQUARES_MEAN", DispersionText: "Standard Error", Dispersion: "STANDARD_ERROR",
-				Unit: "units on a scale", DenomUnits: "",
+				Unit: "units on a scale", DenomUnits: "Eyes", UnitsAnalyzed: "Eyes", CalculatePct: ptr(false),
 				Groups: []ingest.Group{
 					{ID: "OG000", Title: "Inventamab", Description: "300 mg", Role: "experimental"},
 					{ID: "OG001", Title: "Placebo", Description: "saline", Role: "comparator"},
@@ -169,6 +170,8 @@ func fullTrial(id string) ingest.Trial {
 						PValue: ingest.PValue{Text: "<0.001", Op: "<", Value: 0.001, OK: true},
 						Method: "ANCOVA", StatisticalComment: "adjusted for site", EstimateComment: "Inventamab vs. Placebo",
 						NonInferiorityType: "SUPERIORITY",
+						CILowerComment:     "lower note", CIUpperComment: "upper note", PValueComment: "two-sided",
+						TestedNonInferiority: ptr(true), NonInferiorityComment: "margin 1 point", OtherDescription: "other",
 					},
 					{GroupIDs: []string{"OG001"}, PValue: ingest.PValue{Text: "NA"}, CILower: na},
 				},
@@ -176,7 +179,7 @@ func fullTrial(id string) ingest.Trial {
 			{Index: 1, Type: "SECONDARY", Title: "Nobody analysed", ReportingStatus: "POSTED",
 				Groups: []ingest.Group{{ID: "OG000", Title: "Placebo (SS)"}},
 				Denoms: []ingest.Denom{{Units: "Participants", Counts: []ingest.Count{{GroupID: "OG000", Value: num("0", 0)}}}, {Units: "Eyes"}}},
-			{Index: 2, Type: "OTHER_PRE_SPECIFIED", Title: "Not posted", ReportingStatus: "NOT_POSTED"},
+			{Index: 2, Type: "OTHER_PRE_SPECIFIED", Title: "Not posted", ReportingStatus: "NOT_POSTED", AnticipatedPost: "2026-01", CalculatePct: ptr(true)},
 		},
 		References: []ingest.Reference{
 			{PMID: "99000001", Type: "RESULT", Citation: "Doe J. Invented results. J Fict. 2022."},

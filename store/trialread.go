@@ -82,7 +82,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 	var t ingest.Trial
 	var enrollment, hasResults sql.NullInt64
 	err := tx.QueryRowContext(ctx, `SELECT trial_id, registry, org_study_id, brief_title, official_title, acronym,
-		organization_name, organization_class, overall_status, last_known_status, why_stopped,
+		organization_name, organization_class, overall_status, last_known_status, why_stopped, status_verified,
 		study_type, allocation, intervention_model, primary_purpose, masking, enrollment, enrollment_type,
 		lead_sponsor_name, lead_sponsor_class, start_date, start_date_type,
 		primary_completion_date, primary_completion_date_type, completion_date, completion_date_type,
@@ -91,7 +91,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 		source_path, source_sha256, source_position
 		FROM trials WHERE trial_id = ?`, id).Scan(
 		&t.TrialID, &t.Registry, &t.OrgStudyID, &t.BriefTitle, &t.OfficialTitle, &t.Acronym,
-		&t.Organization.Name, &t.Organization.Class, &t.OverallStatus, &t.LastKnownStatus, &t.WhyStopped,
+		&t.Organization.Name, &t.Organization.Class, &t.OverallStatus, &t.LastKnownStatus, &t.WhyStopped, &t.StatusVerified,
 		&t.StudyType, &t.Allocation, &t.InterventionModel, &t.PrimaryPurpose, &t.Masking, &enrollment, &t.EnrollmentType,
 		&t.LeadSponsor.Name, &t.LeadSponsor.Class, &t.StartDate.Text, &t.StartDate.Type,
 		&t.PrimaryCompletionDate.Text, &t.PrimaryCompletionDate.Type, &t.CompletionDate.Text, &t.CompletionDate.Type,
@@ -232,13 +232,17 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				return nil
 			}},
 		{"outcomes", `SELECT outcome_index, type, title, description, population, time_frame, reporting_status,
-			param_type, dispersion_text, dispersion, unit, denom_units FROM outcomes WHERE trial_id = ? ORDER BY outcome_pos`,
+			param_type, dispersion_text, dispersion, unit, denom_units, units_analyzed, anticipated_post, calculate_pct
+			FROM outcomes WHERE trial_id = ? ORDER BY outcome_pos`,
 			func(r *sql.Rows) error {
 				var o ingest.Outcome
+				var pct sql.NullInt64
 				if err := r.Scan(&o.Index, &o.Type, &o.Title, &o.Description, &o.Population, &o.TimeFrame,
-					&o.ReportingStatus, &o.ParamType, &o.DispersionText, &o.Dispersion, &o.Unit, &o.DenomUnits); err != nil {
+					&o.ReportingStatus, &o.ParamType, &o.DispersionText, &o.Dispersion, &o.Unit, &o.DenomUnits,
+					&o.UnitsAnalyzed, &o.AnticipatedPost, &pct); err != nil {
 					return err
 				}
+				o.CalculatePct = boolPtrFrom(pct)
 				t.Outcomes = append(t.Outcomes, o)
 				return nil
 			}},
@@ -349,18 +353,23 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 		{"analyses", `SELECT outcome_pos, group_description, param_type, param_value_text, param_value,
 			dispersion_type, dispersion_value_text, dispersion_value, ci_pct_text, ci_pct, ci_sides,
 			ci_lower_text, ci_lower, ci_upper_text, ci_upper, p_text, p_op, p_value,
-			method, statistical_comment, estimate_comment, non_inferiority_type
+			method, statistical_comment, estimate_comment, non_inferiority_type,
+			ci_lower_comment, ci_upper_comment, p_comment, tested_non_inferiority, non_inferiority_comment, other_description
 			FROM analyses WHERE trial_id = ? ORDER BY outcome_pos, analysis_pos`,
 			func(r *sql.Rows) error {
 				var op int
 				var a ingest.Analysis
 				var pvt, dvt, cpt, clt, cut string
 				var pv, dv, cp, cl, cu, p sql.NullFloat64
+				var tested sql.NullInt64
 				if err := r.Scan(&op, &a.GroupDescription, &a.ParamType, &pvt, &pv, &a.DispersionType, &dvt, &dv,
 					&cpt, &cp, &a.CISides, &clt, &cl, &cut, &cu, &a.PValue.Text, &a.PValue.Op, &p,
-					&a.Method, &a.StatisticalComment, &a.EstimateComment, &a.NonInferiorityType); err != nil {
+					&a.Method, &a.StatisticalComment, &a.EstimateComment, &a.NonInferiorityType,
+					&a.CILowerComment, &a.CIUpperComment, &a.PValueComment, &tested,
+					&a.NonInferiorityComment, &a.OtherDescription); err != nil {
 					return err
 				}
+				a.TestedNonInferiority = boolPtrFrom(tested)
 				a.ParamValue, a.DispersionValue, a.CIPct = numFrom(pvt, pv), numFrom(dvt, dv), numFrom(cpt, cp)
 				a.CILower, a.CIUpper = numFrom(clt, cl), numFrom(cut, cu)
 				a.PValue.Value, a.PValue.OK = p.Float64, p.Valid

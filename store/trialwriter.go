@@ -298,7 +298,7 @@ func (w *TrialWriter) insert(ctx context.Context, t ingest.Trial) error {
 	if _, err := st.insertTrial.ExecContext(ctx,
 		id, t.Registry, t.OrgStudyID, t.BriefTitle, t.OfficialTitle, t.Acronym,
 		t.Organization.Name, t.Organization.Class,
-		t.OverallStatus, t.LastKnownStatus, t.WhyStopped,
+		t.OverallStatus, t.LastKnownStatus, t.WhyStopped, t.StatusVerified,
 		t.StudyType, t.Allocation, t.InterventionModel, t.PrimaryPurpose, t.Masking,
 		intPtrArg(t.Enrollment), t.EnrollmentType,
 		t.LeadSponsor.Name, t.LeadSponsor.Class,
@@ -390,7 +390,7 @@ func (w *TrialWriter) insertOutcome(ctx context.Context, id string, pos int, o i
 	st := w.st
 	if _, err := st.insertOutcome.ExecContext(ctx, id, pos, o.Index, o.Type, o.Title, o.Description,
 		o.Population, o.TimeFrame, o.ReportingStatus, o.ParamType, o.DispersionText, o.Dispersion,
-		o.Unit, o.DenomUnits); err != nil {
+		o.Unit, o.DenomUnits, o.UnitsAnalyzed, o.AnticipatedPost, boolPtrArg(o.CalculatePct)); err != nil {
 		return fmt.Errorf("insert outcome: %w", err)
 	}
 	for i, g := range o.Groups {
@@ -450,7 +450,9 @@ func (w *TrialWriter) insertOutcome(ctx context.Context, id string, pos int, o i
 			a.CIPct.Text, numArg(a.CIPct), a.CISides,
 			a.CILower.Text, numArg(a.CILower), a.CIUpper.Text, numArg(a.CIUpper),
 			a.PValue.Text, a.PValue.Op, pArg(a.PValue),
-			a.Method, a.StatisticalComment, a.EstimateComment, a.NonInferiorityType); err != nil {
+			a.Method, a.StatisticalComment, a.EstimateComment, a.NonInferiorityType,
+			a.CILowerComment, a.CIUpperComment, a.PValueComment, boolPtrArg(a.TestedNonInferiority),
+			a.NonInferiorityComment, a.OtherDescription); err != nil {
 			return fmt.Errorf("insert analysis: %w", err)
 		}
 		for gi, g := range a.GroupIDs {
@@ -532,7 +534,7 @@ func prepareTrialStmts(ctx context.Context, tx *sql.Tx) (*trialStmts, error) {
 		{&s.lookup, `SELECT content_hash, last_update_posted, version_holder FROM trials WHERE trial_id = ?`},
 		{&s.deleteTrial, `DELETE FROM trials WHERE trial_id = ?`},
 		{&s.insertTrial, insertSQL("trials", `trial_id, registry, org_study_id, brief_title, official_title, acronym,
-			organization_name, organization_class, overall_status, last_known_status, why_stopped,
+			organization_name, organization_class, overall_status, last_known_status, why_stopped, status_verified,
 			study_type, allocation, intervention_model, primary_purpose, masking, enrollment, enrollment_type,
 			lead_sponsor_name, lead_sponsor_class, start_date, start_date_type,
 			primary_completion_date, primary_completion_date_type, completion_date, completion_date_type,
@@ -550,7 +552,8 @@ func prepareTrialStmts(ctx context.Context, tx *sql.Tx) (*trialStmts, error) {
 		{&s.insertRegistered, insertSQL("registered_outcomes", `trial_id, pos, kind, measure, description, time_frame`)},
 		{&s.insertReference, insertSQL("trial_references", `trial_id, pos, pmid, type, citation`)},
 		{&s.insertOutcome, insertSQL("outcomes", `trial_id, outcome_pos, outcome_index, type, title, description,
-			population, time_frame, reporting_status, param_type, dispersion_text, dispersion, unit, denom_units`)},
+			population, time_frame, reporting_status, param_type, dispersion_text, dispersion, unit, denom_units,
+			units_analyzed, anticipated_post, calculate_pct`)},
 		{&s.insertGroup, insertSQL("result_groups", `trial_id, outcome_pos, group_pos, group_id, title, description, role`)},
 		{&s.insertDenom, insertSQL("denoms", `trial_id, outcome_pos, class_pos, denom_pos, units`)},
 		{&s.insertCount, insertSQL("denom_counts", `trial_id, outcome_pos, class_pos, denom_pos, count_pos, group_id, value_text, value`)},
@@ -561,7 +564,8 @@ func prepareTrialStmts(ctx context.Context, tx *sql.Tx) (*trialStmts, error) {
 		{&s.insertAnalysis, insertSQL("analyses", `trial_id, outcome_pos, analysis_pos, group_description, param_type,
 			param_value_text, param_value, dispersion_type, dispersion_value_text, dispersion_value,
 			ci_pct_text, ci_pct, ci_sides, ci_lower_text, ci_lower, ci_upper_text, ci_upper,
-			p_text, p_op, p_value, method, statistical_comment, estimate_comment, non_inferiority_type`)},
+			p_text, p_op, p_value, method, statistical_comment, estimate_comment, non_inferiority_type,
+			ci_lower_comment, ci_upper_comment, p_comment, tested_non_inferiority, non_inferiority_comment, other_description`)},
 		{&s.insertAnalysisGroup, insertSQL("analysis_groups", `trial_id, outcome_pos, analysis_pos, pos, group_id`)},
 	} {
 		st, err := tx.PrepareContext(ctx, p.query)
