@@ -4,6 +4,8 @@ import (
 	"math"
 	"strings"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"unshelved/analysis"
 	"unshelved/analysis/bias"
 )
@@ -90,6 +92,8 @@ type SelectionJSON struct {
 	Cutpoints []float64  `json:"cutpoints"`
 	Estimate  *float64   `json:"estimate"`
 	SE        *float64   `json:"se"`
+	CILow     *float64   `json:"ci_low"`  // Wald, normal
+	CIHigh    *float64   `json:"ci_high"` // Wald, normal
 	Tau2      *float64   `json:"tau2"`
 	Weights   []*float64 `json:"weights"`
 	WeightsSE []*float64 `json:"weights_se"`
@@ -222,6 +226,12 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	if s := b.Selection; s != nil {
 		sj := &SelectionJSON{Cutpoints: s.Cutpoints, Estimate: opt(s.Estimate), SE: opt(s.SE), Tau2: opt(s.Tau2),
 			Counts: s.Counts, LRT: opt(s.LRT), LRTDF: s.LRTDF, LRTP: opt(s.LRTP), Converged: s.Converged, Message: s.Message}
+		level := opts.Level
+		if level == 0 {
+			level = 0.95
+		}
+		z := distuv.UnitNormal.Quantile(1 - (1-level)/2)
+		sj.CILow, sj.CIHigh = opt(s.Estimate-z*s.SE), opt(s.Estimate+z*s.SE)
 		for i := range s.Weights {
 			sj.Weights = append(sj.Weights, opt(s.Weights[i]))
 			if i < len(s.WeightsSE) {

@@ -92,7 +92,7 @@ func writeTable(w io.Writer, header []string, rows [][]string) error {
 		tablewriter.WithHeaderAutoFormat(tw.Off),
 		tablewriter.WithRowAutoWrap(tw.WrapNone),
 		tablewriter.WithHeaderAlignment(tw.AlignLeft),
-		tablewriter.WithRowAlignment(tw.AlignRight),
+		tablewriter.WithRowAlignmentConfig(tw.CellAlignment{Global: tw.AlignLeft, PerColumn: columnAligns(len(header), rows)}),
 	)
 	t.Header(anySlice(header)...)
 	for _, r := range rows {
@@ -101,6 +101,33 @@ func writeTable(w io.Writer, header []string, rows [][]string) error {
 		}
 	}
 	return t.Render()
+}
+
+// columnAligns right-aligns the columns that hold only numbers (and
+// intervals or placeholders) and left-aligns text.
+func columnAligns(n int, rows [][]string) []tw.Align {
+	aligns := make([]tw.Align, n)
+	for c := range aligns {
+		aligns[c] = tw.AlignRight
+		for _, r := range rows {
+			if c < len(r) && !numericCell(r[c]) {
+				aligns[c] = tw.AlignLeft
+				break
+			}
+		}
+	}
+	return aligns
+}
+
+func numericCell(c string) bool {
+	if c == "" || c == "-" {
+		return true
+	}
+	switch c[0] {
+	case '-', '+', '[', '<', '.', '0', '1', '2', '3', '4', '5', '6', '7', '8', '9':
+		return !strings.ContainsAny(c, "abcdfghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ")
+	}
+	return false
 }
 
 func anySlice(s []string) []any {

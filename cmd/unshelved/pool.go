@@ -124,6 +124,7 @@ func poolGrid(r compare.PoolReport) grid {
 		}
 		g.Extra = append(g.Extra, loo)
 	}
+	g.Extra = append(g.Extra, biasTables(r.Bias)...)
 	if len(r.Warnings) > 0 {
 		w := titled{Title: "Warnings", Header: []string{"warning"}}
 		for _, x := range r.Warnings {
