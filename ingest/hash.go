@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"sync"
@@ -15,26 +16,20 @@ var compactPool = sync.Pool{New: func() any { b := make([]byte, 0, 64<<10); retu
 func ContentHash(raw []byte) string {
 	bp := compactPool.Get().(*[]byte)
 	b := (*bp)[:0]
-	inStr, esc := false, false
+	n := len(raw)
 	seg := 0
-	for i := 0; i < len(raw); i++ {
-		c := raw[i]
-		if inStr {
-			if esc {
-				esc = false
-			} else if c == '\\' {
-				esc = true
-			} else if c == '"' {
-				inStr = false
-			}
-			continue
-		}
-		switch c {
+	for i := 0; i < n; {
+		switch raw[i] {
 		case '"':
-			inStr = true
+			i = stringEnd(raw, i)
 		case ' ', '\n', '\t', '\r':
 			b = append(b, raw[seg:i]...)
-			seg = i + 1
+			for i < n && isSpace(raw[i]) {
+				i++
+			}
+			seg = i
+		default:
+			i++
 		}
 	}
 	var sum [32]byte
@@ -47,4 +42,25 @@ func ContentHash(raw []byte) string {
 	*bp = b
 	compactPool.Put(bp)
 	return hex.EncodeToString(sum[:])
+}
+
+// stringEnd returns the index after the string starting with the quote at
+// i, or len(raw) when it does not end.
+func stringEnd(raw []byte, i int) int {
+	j := i + 1
+	for {
+		k := bytes.IndexByte(raw[j:], '"')
+		if k < 0 {
+			return len(raw)
+		}
+		j += k
+		bs := 0
+		for p := j - 1; p > i && raw[p] == '\\'; p-- {
+			bs++
+		}
+		if bs%2 == 0 {
+			return j + 1
+		}
+		j++
+	}
 }
