@@ -6,8 +6,7 @@
 // original text next to the parsed number; placeholders such as "NA" are
 // never turned into zero. Bad input is reported as a *ParseError naming the
 // file, the position (line or entry), the record and the field.
-
-
+//
 // Registry input: ParseStudy decodes one API v2 study object with a
 // hand-written pull reader (no reflection; strings share one copy of the
 // record). ScanRegistry walks files, folders, search pages, JSON lines,
