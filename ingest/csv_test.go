@@ -249,3 +249,19 @@ func TestReadNeutralCSVErrors(t *testing.T) {
 		})
 	}
 }
+
+func TestReadMetaAnalysisWithoutReviewID(t *testing.T) {
+	const data = "study,effect,se\nA,-1.5,0.5\nB,-0.5,0.4\n"
+	got, bad, err := ReadMetaAnalysis(strings.NewReader(data), Source{Path: "ma.csv"})
+	if err != nil || len(bad) != 0 {
+		t.Fatalf("ReadMetaAnalysis: %v %v", err, bad)
+	}
+	if len(got) != 2 || got[1].Study != "B" || got[1].ReviewID != "" || *got[1].SE != 0.4 {
+		t.Errorf("got %+v", got)
+	}
+	// studies.csv proper needs the review_id column.
+	_, bad, err = ReadStudies(strings.NewReader(data), Source{Path: "ma.csv"})
+	if err == nil && len(bad) == 0 {
+		t.Errorf("ReadStudies accepted a file without review_id")
+	}
+}

@@ -76,7 +76,22 @@ func pes(pe *ParseError) []*ParseError {
 // or n not a whole number >= 1 is a *ParseError; so is a repeated
 // (review_id, study).
 func ReadStudies(r io.Reader, src Source) ([]ReviewStudy, []*ParseError, error) {
-	t, pe, err := newCSVTable(r, src, "review_id", "study")
+	return readStudies(r, src, true)
+}
+
+// ReadMetaAnalysis reads one meta-analysis in studies.csv form for direct
+// pooling: as ReadStudies, but the review_id column may be left out (or
+// empty), since the file is one meta-analysis.
+func ReadMetaAnalysis(r io.Reader, src Source) ([]ReviewStudy, []*ParseError, error) {
+	return readStudies(r, src, false)
+}
+
+func readStudies(r io.Reader, src Source, needReview bool) ([]ReviewStudy, []*ParseError, error) {
+	required := []string{"study"}
+	if needReview {
+		required = append([]string{"review_id"}, required...)
+	}
+	t, pe, err := newCSVTable(r, src, required...)
 	if err != nil || pe != nil {
 		return nil, pes(pe), err
 	}
@@ -97,8 +112,12 @@ func ReadStudies(r io.Reader, src Source) ([]ReviewStudy, []*ParseError, error) 
 			return out, bad, nil
 		}
 		e := rowErrors{t: t, record: strings.Trim(t.get("review_id")+"/"+t.get("study"), "/")}
+		reviewID := t.get("review_id")
+		if needReview {
+			reviewID = e.required("review_id")
+		}
 		s := ReviewStudy{
-			ReviewID:   e.required("review_id"),
+			ReviewID:   reviewID,
 			Study:      e.required("study"),
 			RegistryID: t.get("registry_id"),
 			Year:       e.integer("year"),
