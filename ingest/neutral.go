@@ -41,6 +41,7 @@ func ReadNeutralCSV(r io.Reader, src Source) ([]Trial, []*ParseError, error) {
 		firstAt  int
 		outcomes map[[2]string]int
 		hash     []byte
+		failed   bool // a row of this trial was rejected: the trial is left out whole
 	}
 	var order []*trialAcc
 	byKey := map[[2]string]*trialAcc{}
@@ -146,6 +147,7 @@ func ReadNeutralCSV(r io.Reader, src Source) ([]Trial, []*ParseError, error) {
 			if !seen && len(o.Groups) == 0 {
 				acc.t.Outcomes = acc.t.Outcomes[:oi]
 			}
+			acc.failed = true
 			bad = append(bad, e.err)
 			continue
 		}
@@ -165,6 +167,13 @@ func ReadNeutralCSV(r io.Reader, src Source) ([]Trial, []*ParseError, error) {
 	out := make([]Trial, 0, len(order))
 	for _, acc := range order {
 		if len(acc.t.Outcomes) == 0 {
+			continue
+		}
+		if acc.failed {
+			// Storing the rows that parsed would post a trial with arms
+			// missing; leave it out and say so once.
+			bad = append(bad, &ParseError{File: src.Path, Line: acc.firstAt, Record: acc.t.TrialID, Field: "trial_id",
+				Err: errorf(ErrBadValue, "trial left out because some of its rows were rejected")})
 			continue
 		}
 		sum := sha256.Sum256(acc.hash)

@@ -170,6 +170,9 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 		rejected[e.File]++
 	}
 	for _, f := range seen {
+		if rejected[f.path] > 0 || f.records == 0 {
+			continue // not fully ingested: read it again next time
+		}
 		if err := db.RecordSource(ctx, store.SourceFile{Path: f.path, SHA256: f.sha, Records: f.records, Rejected: rejected[f.path],
 			Format: sourceFormat(f.path), Size: fileSize(f.path), Finished: g.IO.now()}); err != nil {
 			return sum, fmt.Errorf("record source %s: %w", f.path, err)

@@ -64,7 +64,7 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 	if err != nil {
 		return err
 	}
-	studies, bad, err := ingest.ReadStudies(bytes.NewReader(data), src)
+	studies, bad, err := ingest.ReadMetaAnalysis(bytes.NewReader(data), src)
 	if err != nil {
 		return fmt.Errorf("read %s: %w", opts.File, err)
 	}
@@ -78,7 +78,10 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), TruncateHKSJ: opts.TruncateHKSJ,
 	})
 	if err != nil {
-		return err
+		if strings.HasPrefix(err.Error(), opts.File+":") {
+			return err
+		}
+		return fmt.Errorf("%s: %w", opts.File, err)
 	}
 	return render(g.IO.Out, g.Format, rep, poolGrid(rep))
 }
