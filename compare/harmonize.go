@@ -198,13 +198,25 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 		return c, nil
 	}
 	treat, err := buildArm(l.TreatGroups)
-	if err != nil {
-		return se, err
+	if err == nil {
+		ctrl, ctrlErr := buildArm(l.CtrlGroups)
+		if ctrlErr == nil {
+			return finishArms(rv, t, o, l, se, kind, treat, ctrl, derivs, flags)
+		}
+		err = ctrlErr
 	}
-	ctrl, err := buildArm(l.CtrlGroups)
-	if err != nil {
-		return se, err
+	// The arms cannot be used: fall back on a posted between-group
+	// analysis of exactly these groups, for mean differences.
+	if fb, ok := analysisEffect(rv, t, o, l, se, conv); ok {
+		return fb, nil
 	}
+	return se, err
+}
+
+// finishArms computes the effect from the two arms and records the steps.
+func finishArms(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Link, se StudyEffect, kind string,
+	treat, ctrl analysis.Arm, derivs []analysis.Derivation, flags []string) (StudyEffect, error) {
+	idx := o.Index
 	eff, err := armEffect(rv.Measure, treat, ctrl)
 	if err != nil {
 		return se, reject(ReasonBadValue, "%s outcome %d: %v", t.TrialID, idx, err)
@@ -222,9 +234,168 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	se.TreatN, se.CtrlN = treat.N, ctrl.N
 	se.PooledSD = pooledSD(treat, ctrl)
 	se.Derivations = derivs
-	se.Flags = dedupe(flags)
+	se.Flags = dedupe(append(flags, changeFlags(rv, o)...))
 	se.ConvertedFrom = convertedFrom(kind, o.Dispersion, len(l.TreatGroups)+len(l.CtrlGroups) > 2)
 	return se, nil
+}
+
+// changeFlags notes a change-from-baseline outcome: fine to pool with
+// final values for a mean difference, not for an SMD (Cochrane Handbook
+// ch. 10, section on change scores; from memory).
+func changeFlags(rv ingest.Review, o *ingest.Outcome) []string {
+	text := strings.ToLower(o.Title + " " + o.TimeFrame)
+	if !strings.Contains(text, "change") && !strings.Contains(text, "baseline to") {
+		return nil
+	}
+	if strings.EqualFold(rv.Measure, "SMD") {
+		return []string{"change from baseline: mixing change and final values in a standardized mean difference is not advised"}
+	}
+	return []string{"change from baseline (may be pooled with final values for a mean difference)"}
+}
+
+// analysisEffect uses a posted between-group analysis comparing exactly
+// the link's two groups: its estimate, with the SE from its dispersion
+// (SE) or its confidence interval (normal reference). Mean differences
+// only. The posted direction is not trusted: when both arms' values are
+// posted the sign is checked against treat - ctrl; otherwise the estimate
+// comment must name the experimental group before "minus"/"vs" the
+// comparator, else the analysis is not used.
+func analysisEffect(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Link, se StudyEffect, conv *unitConversion) (StudyEffect, bool) {
+	if !strings.EqualFold(rv.Measure, "MD") && rv.Measure != "" || len(l.TreatGroups) != 1 || len(l.CtrlGroups) != 1 {
+		return se, false
+	}
+	tg, cg := l.TreatGroups[0], l.CtrlGroups[0]
+	for _, a := range o.Analyses {
+		if len(a.GroupIDs) != 2 || !(a.GroupIDs[0] == tg && a.GroupIDs[1] == cg || a.GroupIDs[0] == cg && a.GroupIDs[1] == tg) {
+			continue
+		}
+		pt := strings.ToLower(a.ParamType)
+		if !a.ParamValue.OK || !(strings.Contains(pt, "mean difference") || strings.Contains(pt, "difference of ls mean") || pt == "difference" || strings.Contains(pt, "ls mean difference")) {
+			continue
+		}
+		est := a.ParamValue.Value
+		var seEst float64
+		var d analysis.Derivation
+		switch {
+		case strings.EqualFold(a.DispersionType, "STANDARD_ERROR_OF_MEAN") && a.DispersionValue.OK && a.DispersionValue.Value > 0:
+			seEst = a.DispersionValue.Value
+			d = analysis.Derivation{Method: "se_posted", Formula: "se = posted standard error of the between-group estimate",
+				Inputs: []analysis.NamedValue{{Name: "se", Value: seEst}}}
+		case a.CILower.OK && a.CIUpper.OK && a.CIPct.OK && a.CIPct.Value > 0 && a.CIPct.Value < 100 && !strings.EqualFold(a.CISides, "ONE_SIDED"):
+			v, dd, err := analysis.SEFromCI(a.CILower.Value, a.CIUpper.Value, a.CIPct.Value/100, 0)
+			if err != nil {
+				continue
+			}
+			seEst, d = v, dd
+		default:
+			continue
+		}
+		sign, how := analysisSign(o, a, tg, cg, est)
+		if sign == 0 {
+			continue
+		}
+		est *= sign
+		derivs := []analysis.Derivation{{
+			Method:  "between_group_analysis",
+			Formula: "effect = posted between-group estimate, oriented experimental minus comparator (" + how + ")",
+			Inputs:  []analysis.NamedValue{{Name: "posted_estimate", Value: a.ParamValue.Value}, {Name: "sign", Value: sign}},
+			Source:  "registry analysis: " + a.ParamType + "; " + a.Method,
+		}, d}
+		if conv != nil {
+			// A difference converts by the scale alone; an offset cancels.
+			est *= conv.Scale
+			seEst *= math.Abs(conv.Scale)
+			derivs = append(derivs, analysis.Derivation{Method: "unit_conversion",
+				Formula: fmt.Sprintf("difference_%s = %g * difference_%s", conv.To, conv.Scale, conv.From), Source: conv.Source})
+		}
+		if l.Flip {
+			est = -est
+			derivs = append(derivs, analysis.Derivation{Method: "sign_flip", Formula: "effect = -effect (the registry measure runs opposite to the review's outcome)"})
+		}
+		se.Effect, se.SE, se.Derivations = est, seEst, derivs
+		se.Flags = append(changeFlags(rv, o), "from a posted between-group analysis (may be adjusted, e.g. ANCOVA)")
+		se.ConvertedFrom = "between_group_analysis"
+		for _, c := range groupCounts(o) {
+			if c.GroupID == tg {
+				se.TreatN = c.n
+			}
+			if c.GroupID == cg {
+				se.CtrlN = c.n
+			}
+		}
+		return se, true
+	}
+	return se, false
+}
+
+type groupCount struct {
+	GroupID string
+	n       int
+}
+
+func groupCounts(o *ingest.Outcome) []groupCount {
+	var out []groupCount
+	for _, g := range o.Groups {
+		if len(o.Classes) == 0 {
+			break
+		}
+		if n, ok := groupN(o, 0, g.ID); ok {
+			out = append(out, groupCount{g.ID, n})
+		}
+	}
+	return out
+}
+
+// analysisSign returns +1 when the posted estimate already runs
+// experimental minus comparator, -1 when it runs the other way, 0 when
+// that cannot be told.
+func analysisSign(o *ingest.Outcome, a ingest.Analysis, tg, cg string, est float64) (float64, string) {
+	if len(o.Classes) == 1 && len(o.Classes[0].Categories) == 1 {
+		var mt, mc *ingest.Num
+		for i, m := range o.Classes[0].Categories[0].Measurements {
+			if m.GroupID == tg {
+				mt = &o.Classes[0].Categories[0].Measurements[i].Value
+			}
+			if m.GroupID == cg {
+				mc = &o.Classes[0].Categories[0].Measurements[i].Value
+			}
+		}
+		if mt != nil && mc != nil && mt.OK && mc.OK && est != 0 {
+			diff := mt.Value - mc.Value
+			if diff != 0 {
+				if (diff > 0) == (est > 0) {
+					return 1, "sign checked against the posted group values"
+				}
+				return -1, "sign reversed to match the posted group values"
+			}
+		}
+	}
+	// No usable group values: read the estimate comment, e.g. "Drug minus Placebo".
+	title := func(id string) string {
+		for _, g := range o.Groups {
+			if g.ID == id {
+				return strings.ToLower(strings.TrimSpace(g.Title))
+			}
+		}
+		return ""
+	}
+	c := strings.ToLower(a.EstimateComment)
+	tt, ct := title(tg), title(cg)
+	if tt == "" || ct == "" || tt == ct {
+		return 0, ""
+	}
+	for _, sep := range []string{" minus ", " - ", " vs. ", " vs ", " versus "} {
+		if i := strings.Index(c, sep); i > 0 {
+			left, right := c[:i], c[i+len(sep):]
+			switch {
+			case strings.Contains(left, tt) && strings.Contains(right, ct):
+				return 1, "direction from the estimate comment"
+			case strings.Contains(left, ct) && strings.Contains(right, tt):
+				return -1, "direction from the estimate comment, reversed"
+			}
+		}
+	}
+	return 0, ""
 }
 
 // parameter kinds a registry outcome can have for our purpose.

@@ -21,3 +21,5 @@ cat("fe_aug", sum(w2*y2)/sum(w2), sqrt(1/sum(w2)), "\n")
 dl<-function(y,s){w<-1/s^2;mu<-sum(w*y)/sum(w);Q<-sum(w*(y-mu)^2);k<-length(y);t2<-max(0,(Q-(k-1))/(sum(w)-sum(w^2)/sum(w)));ws<-1/(s^2+t2);c(sum(ws*y)/sum(ws),sqrt(1/sum(ws)),t2)}
 cat("dl_pub", dl(y,s), "\n")
 cat("dl_aug", dl(y2,s2), "\n")
+# SE of a between-group estimate from its 95% CI, normal reference (Cochrane Handbook ch. 6)
+cat("se_from_ci_normal", (2.4-(-6.6))/(2*qnorm(0.975)), "\n")
