@@ -70,8 +70,7 @@ func niceRange(lo, hi float64, n int) (nlo, nhi, step float64) {
 func ticks(lo, hi, step float64) []float64 {
 	var out []float64
 	for i := math.Ceil(lo/step - 1e-9); i*step <= hi+step*1e-9; i++ {
-		v := math.Round(i*step/step*1e9) / 1e9 * step
-		v = math.Round(i*step*1e9) / 1e9
+		v := math.Round(i*step*1e9) / 1e9
 		if v == 0 {
 			v = 0
 		}
@@ -116,4 +115,101 @@ func (e *extent) addPtr(ps ...*float64) {
 			e.add(*p)
 		}
 	}
+}
+
+// rect is an axis-aligned box in layout units.
+type rect struct{ X0, Y0, X1, Y1 float64 }
+
+// clipPolygon cuts a polygon to r (Sutherland-Hodgman: clip against each
+// edge's half-plane in turn).
+func clipPolygon(pts []pt, r rect) []pt {
+	inside := []func(pt) bool{
+		func(q pt) bool { return q.X >= r.X0 },
+		func(q pt) bool { return q.X <= r.X1 },
+		func(q pt) bool { return q.Y >= r.Y0 },
+		func(q pt) bool { return q.Y <= r.Y1 },
+	}
+	cross := []func(a, b pt) pt{
+		func(a, b pt) pt { return atX(a, b, r.X0) },
+		func(a, b pt) pt { return atX(a, b, r.X1) },
+		func(a, b pt) pt { return atY(a, b, r.Y0) },
+		func(a, b pt) pt { return atY(a, b, r.Y1) },
+	}
+	out := pts
+	for e := range inside {
+		in := out
+		out = nil
+		for i, cur := range in {
+			prev := in[(i+len(in)-1)%len(in)]
+			switch ci, pi := inside[e](cur), inside[e](prev); {
+			case ci && pi:
+				out = append(out, cur)
+			case ci && !pi:
+				out = append(out, cross[e](prev, cur), cur)
+			case !ci && pi:
+				out = append(out, cross[e](prev, cur))
+			}
+		}
+	}
+	return out
+}
+
+// clipPolyline cuts a polyline to r, returning the pieces inside.
+func clipPolyline(pts []pt, r rect) [][]pt {
+	var out [][]pt
+	var cur []pt
+	for i := 1; i < len(pts); i++ {
+		a, b, ok := clipSegment(pts[i-1], pts[i], r)
+		if !ok {
+			if len(cur) > 0 {
+				out, cur = append(out, cur), nil
+			}
+			continue
+		}
+		if len(cur) == 0 {
+			cur = append(cur, a)
+		} else if cur[len(cur)-1] != a {
+			out, cur = append(out, cur), []pt{a}
+		}
+		cur = append(cur, b)
+	}
+	if len(cur) > 0 {
+		out = append(out, cur)
+	}
+	return out
+}
+
+// clipSegment cuts the segment a-b to r (Liang-Barsky).
+func clipSegment(a, b pt, r rect) (pt, pt, bool) {
+	t0, t1 := 0.0, 1.0
+	dx, dy := b.X-a.X, b.Y-a.Y
+	for _, c := range [][2]float64{{-dx, a.X - r.X0}, {dx, r.X1 - a.X}, {-dy, a.Y - r.Y0}, {dy, r.Y1 - a.Y}} {
+		p, q := c[0], c[1]
+		if p == 0 {
+			if q < 0 {
+				return a, b, false
+			}
+			continue
+		}
+		t := q / p
+		if p < 0 {
+			t0 = math.Max(t0, t)
+		} else {
+			t1 = math.Min(t1, t)
+		}
+		if t0 > t1 {
+			return a, b, false
+		}
+	}
+	return pt{a.X + t0*dx, a.Y + t0*dy}, pt{a.X + t1*dx, a.Y + t1*dy}, true
+}
+
+func atX(a, b pt, x float64) pt {
+	t := (x - a.X) / (b.X - a.X)
+	return pt{x, a.Y + t*(b.Y-a.Y)}
+}
+
+func atY(a, b pt, y float64) pt {
+	t := (y - a.Y) / (b.Y - a.Y)
+	return pt{a.X + t*(b.X-a.X), y}
 }

@@ -289,3 +289,23 @@ func (p *vgPainter) text(q pt, s string, t textStyle) {
 	}
 	p.c.FillString(face, vg.Point{X: o.X + dx, Y: o.Y}, s)
 }
+
+// measurer is a painter that draws nothing and records the lowest point
+// reached (text baselines count with a descent of a quarter em).
+type measurer struct{ maxY float64 }
+
+func (m *measurer) begin(string) {}
+func (m *measurer) end()         {}
+func (m *measurer) see(y float64) {
+	if y > m.maxY {
+		m.maxY = y
+	}
+}
+func (m *measurer) line(a, b pt, _ style) { m.see(a.Y); m.see(b.Y) }
+func (m *measurer) poly(pts []pt, _ bool, _ style) {
+	for _, q := range pts {
+		m.see(q.Y)
+	}
+}
+func (m *measurer) circle(c pt, r float64, _ style)  { m.see(c.Y + r) }
+func (m *measurer) text(q pt, _ string, t textStyle) { m.see(q.Y + t.Size/4) }

@@ -1,0 +1,371 @@
+package render
+
+import (
+	"bytes"
+	_ "embed"
+	"fmt"
+	"html/template"
+	"io"
+	"os"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"unshelved/analysis"
+	"unshelved/compare"
+	"unshelved/ingest"
+)
+
+// ReportOptions control WriteReport. The zero value writes every page
+// without the review details that audits do not carry, without imputed
+// studies in the funnel, and with no date line (so that reruns are
+// byte-identical).
+type ReportOptions struct {
+	// Reviews adds each review's question (outcome, timepoint,
+	// conditions, interventions, comparator, minimal important
+	// difference), by review id.
+	Reviews map[string]ingest.Review
+	// Imputed draws trim-and-fill's imputed studies in the funnel.
+	Imputed bool
+	// Level is the confidence level of the audit; zero means 0.95.
+	Level float64
+	// Generated is a line such as "2024-05-01, unshelved 0.1.0" shown in
+	// each page footer; empty shows none.
+	Generated string
+}
+
+//go:embed report.css
+var reportCSS string
+
+//go:embed page.html.tmpl
+var pageTmplText string
+
+//go:embed index.html.tmpl
+var indexTmplText string
+
+var tmplFuncs = template.FuncMap{
+	"f2":  fmt2,
+	"f3":  func(p *float64) string { return fmtP(p, 3) },
+	"p":   fmtPValue,
+	"pct": func(p *float64) string { return fmtP(p, 1) },
+	"num": func(x float64) string { return fmtFixed(x, 2) },
+	"yes": func(b bool) string {
+		if b {
+			return "yes"
+		}
+		return "no"
+	},
+	"trialURL": trialURL,
+	"inputs":   derivationInputs,
+	"deref": func(p *float64) float64 {
+		if p == nil {
+			return 0
+		}
+		return *p
+	},
+}
+
+var (
+	pageTmpl  = template.Must(template.New("page").Funcs(tmplFuncs).Parse(pageTmplText))
+	indexTmpl = template.Must(template.New("index").Funcs(tmplFuncs).Parse(indexTmplText))
+)
+
+func fmtP(p *float64, d int) string {
+	if p == nil {
+		return "\u2013"
+	}
+	return fmtFixed(*p, d)
+}
+
+// fmtPValue prints a p value with three significant digits, "< 0.001"
+// below that.
+func fmtPValue(p *float64) string {
+	if p == nil {
+		return "\u2013"
+	}
+	if *p < 0.001 {
+		return "< 0.001"
+	}
+	return strconv.FormatFloat(*p, 'f', 3, 64)
+}
+
+var nctID = regexp.MustCompile(`^NCT[0-9]{8}$`)
+
+// trialURL is the registry page of a trial id, or "" when unknown: for
+// ClinicalTrials.gov ids (NCT and eight digits) the study page.
+func trialURL(id string) template.URL {
+	id = strings.ToUpper(strings.TrimSpace(id))
+	if nctID.MatchString(id) {
+		return template.URL("https://clinicaltrials.gov/study/" + id)
+	}
+	return ""
+}
+
+func derivationInputs(vs []analysis.NamedValue) string {
+	parts := make([]string, len(vs))
+	for i, v := range vs {
+		parts[i] = v.Name + " = " + strconv.FormatFloat(v.Value, 'g', 6, 64)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// pageData is what one review page shows.
+type pageData struct {
+	CSS       template.CSS
+	A         compare.ReviewAudit
+	Review    *ingest.Review
+	Level     string
+	Shift     string
+	Verdict   []string
+	Changes   bool
+	Forest    template.HTML
+	Funnel    template.HTML
+	Published []studyRow
+	Added     []studyRow
+	Egger     string
+	EggerNote string
+	Bias      *compare.BiasReport
+	Methods   []method
+	Cautions  []string
+	Generated string
+	Index     string
+}
+
+type studyRow struct {
+	compare.StudyEffect
+	CILow, CIHigh float64
+	URL           template.URL
+}
+
+type method struct{ What, Cite string }
+
+// indexData is what the batch overview shows.
+type indexData struct {
+	CSS       template.CSS
+	Rows      []indexRow
+	Cautions  []string
+	Generated string
+	Changed   int
+}
+
+type indexRow struct {
+	A       compare.ReviewAudit
+	Page    string
+	Shift   string
+	Changes bool
+}
+
+// reportCautions are the cautions every page carries.
+var reportCautions = []string{
+	"A shift between the published-only and the registry-augmented estimate, or an asymmetric funnel, is not proof of publication bias: heterogeneity, chance, genuine small-study effects, differences in populations or timepoints and artefacts of the effect measure can all produce one.",
+	"Registry results are posted by sponsors and investigators and are not peer reviewed. Check each added trial's record before relying on it.",
+	"Linking a registry outcome to the review's question is a judgement; the links and every conversion are listed here so that a reader can check them.",
+	"Defer to the review authors, their GRADE assessment and local practice before drawing clinical or editorial conclusions.",
+}
+
+func methodsFor(a compare.ReviewAudit) []method {
+	ci := "Wald interval of the random-effects estimate."
+	if a.Published.Random.CIMethod == "hksj" {
+		ci = "Random-effects interval by Hartung-Knapp-Sidik-Jonkman: Hartung J, Knapp G. Stat Med 2001;20:3875-89; Sidik K, Jonkman JN. Stat Med 2002;21:3153-9."
+	}
+	tau := "DerSimonian R, Laird N. Meta-analysis in clinical trials. Control Clin Trials 1986;7:177-88."
+	switch a.Published.Random.Tau2Method {
+	case string(analysis.Tau2REML):
+		tau = "Restricted maximum likelihood (REML) tau²: Viechtbauer W. J Educ Behav Stat 2005;30:261-93."
+	case string(analysis.Tau2PM):
+		tau = "Paule-Mandel tau²: Paule RC, Mandel J. J Res Natl Bur Stand 1982;87:377-85."
+	}
+	return []method{
+		{"Random-effects pooling (tau² estimator " + strings.ToUpper(a.Published.Random.Tau2Method) + "), fixed effect by inverse variance", tau},
+		{"Confidence interval of the pooled estimate", ci + " (Hartung & Knapp 2001 and Sidik & Jonkman 2002 describe the alternative interval the audit offers with --hksj.)"},
+		{"Prediction interval for the effect in a new study", "Higgins JPT, Thompson SG, Spiegelhalter DJ. A re-evaluation of random-effects meta-analysis. J R Stat Soc A 2009;172:137-59."},
+		{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."},
+		{"Begg and Mazumdar's rank correlation test", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
+		{"Trim-and-fill", "Duval S, Tweedie R. Trim and fill: a simple funnel-plot-based method of testing and adjusting for publication bias in meta-analysis. Biometrics 2000;56:455-63."},
+		{"PET-PEESE conditional estimate", "Stanley TD, Doucouliagos H. Meta-regression approximations to reduce publication selection bias. Res Synth Methods 2014;5:60-78."},
+		{"Step-function selection model", "Vevea JL, Hedges LV. A general linear model for estimating effect size in the presence of publication bias. Psychometrika 1995;60:419-35."},
+		{"Conversions of posted registry results (SD from SE or CI, combining arms, medians and ranges)", "Higgins JPT, Li T, Deeks JJ (eds). Chapter 6: Choosing effect measures and computing estimates of effect. Cochrane Handbook for Systematic Reviews of Interventions, version 6."},
+		{"Mean difference, Hedges' g and their variances", "Borenstein M, Hedges LV, Higgins JPT, Rothstein HR. Introduction to Meta-Analysis. Wiley 2009, ch. 4."},
+	}
+}
+
+// verdict states the conclusion changes in words.
+func verdict(a compare.ReviewAudit, level float64) []string {
+	lv := fmtFixed(100*level, 0) + "%"
+	var out []string
+	sig := func(e compare.Estimate) string {
+		if e.CILow == nil || e.CIHigh == nil {
+			return "cannot be judged"
+		}
+		if *e.CILow > 0 || *e.CIHigh < 0 {
+			return "excludes no effect"
+		}
+		return "includes no effect"
+	}
+	if a.KAdded == 0 {
+		return []string{"No registry-only trial could be added, so the published-only conclusion stands as it is; the " + lv + " interval " + sig(a.Published.Random) + "."}
+	}
+	if a.SignificanceChanged {
+		out = append(out, "The conclusion about significance changes: the published-only "+lv+" interval "+sig(a.Published.Random)+", the interval with registry trials "+sig(a.Augmented.Random)+".")
+	} else {
+		out = append(out, "Significance does not change: both "+lv+" intervals "+sig(a.Augmented.Random)+".")
+	}
+	if a.DirectionChanged {
+		out = append(out, "The direction of the pooled effect changes.")
+	} else {
+		out = append(out, "The direction of the pooled effect does not change.")
+	}
+	if s := a.Shift.SDUnits; s != nil {
+		out = append(out, "In standard-deviation units the shift is "+fmtFixed(*s, 2)+" SD.")
+	}
+	switch a.Shift.Toward {
+	case "benefit":
+		out = append(out, "The fuller evidence looks more favourable to the intervention than the published studies alone ("+betterText(a.Better)+").")
+	case "harm":
+		out = append(out, "The fuller evidence looks less favourable to the intervention than the published studies alone ("+betterText(a.Better)+").")
+	}
+	return out
+}
+
+func betterText(b string) string {
+	if strings.EqualFold(b, "higher") {
+		return "higher values are better"
+	}
+	if strings.EqualFold(b, "lower") {
+		return "lower values are better"
+	}
+	return "better direction not given"
+}
+
+func eggerText(b *compare.BiasReport) (string, string) {
+	if b == nil {
+		return "The bias battery was not run.", ""
+	}
+	note := fmt.Sprintf("By convention Egger's test flags asymmetry at p < 0.10. With fewer than 10 studies (here %d) the test has little power and should not be used to judge asymmetry.", b.K)
+	if b.K >= 10 {
+		note = fmt.Sprintf("By convention Egger's test flags asymmetry at p < 0.10; %d studies, enough for the test to be read.", b.K)
+	}
+	if b.Egger == nil {
+		return fmt.Sprintf("Egger's test could not be run (%d studies).", b.K), note
+	}
+	e := b.Egger
+	return fmt.Sprintf("Intercept (bias) %s (SE %s), t = %s on %d df, p = %s; k = %d published studies.",
+		fmt2(e.Bias), fmt2(e.BiasSE), fmt2(e.T), e.DF, fmtPValue(e.P), b.K), note
+}
+
+func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageData, error) {
+	level := opts.Level
+	if level == 0 {
+		level = 0.95
+	}
+	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a),
+		Verdict: verdict(a, level), Changes: a.SignificanceChanged || a.DirectionChanged, Bias: a.Bias,
+		Methods: methodsFor(a), Cautions: reportCautions, Generated: opts.Generated, Index: index}
+	if rv, ok := opts.Reviews[a.ReviewID]; ok {
+		d.Review = &rv
+	}
+	var buf bytes.Buffer
+	if err := inlineSVG(&buf, ForestFromAudit(a, PlotOptions{Title: "Forest plot"})); err != nil {
+		return d, err
+	}
+	d.Forest = template.HTML(buf.String()) // our own SVG; every text node is escaped by esc
+	buf.Reset()
+	if err := inlineSVG(&buf, FunnelFromAudit(a, PlotOptions{Title: "Contour-enhanced funnel plot", Imputed: opts.Imputed})); err != nil {
+		return d, err
+	}
+	d.Funnel = template.HTML(buf.String())
+	for i, s := range a.Studies {
+		r := studyRow{StudyEffect: s, CILow: s.Effect - ciZ*s.SE, CIHigh: s.Effect + ciZ*s.SE, URL: trialURL(s.TrialID)}
+		if i < a.KPublished {
+			d.Published = append(d.Published, r)
+		} else {
+			d.Added = append(d.Added, r)
+		}
+	}
+	d.Egger, d.EggerNote = eggerText(a.Bias)
+	return d, nil
+}
+
+// inlineSVG writes fig as an SVG element for embedding in HTML.
+func inlineSVG(w io.Writer, fig Figure) error {
+	wd, ht := fig.size()
+	p := newSVG(wd, ht, fig.title(), "")
+	fig.draw(p)
+	return p.finish(w)
+}
+
+// ReviewPage writes the report page of one review audit to w. index is
+// the address of the overview page to link back to ("" for none).
+func ReviewPage(w io.Writer, a compare.ReviewAudit, opts ReportOptions, index string) error {
+	d, err := buildPage(a, opts, index)
+	if err != nil {
+		return err
+	}
+	return pageTmpl.Execute(w, d)
+}
+
+var unsafeName = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
+
+// PageName is the file name of a review's page: the review id with every
+// run of characters other than letters, digits, '.', '_' and '-' replaced
+// by '_', leading dots removed, at most 100 characters, and never
+// "index.html".
+func PageName(reviewID string) string {
+	s := unsafeName.ReplaceAllString(reviewID, "_")
+	s = strings.TrimLeft(s, ".")
+	if len(s) > 100 {
+		s = s[:100]
+	}
+	if s == "" {
+		s = "review"
+	}
+	if strings.EqualFold(s, "index") {
+		s = "review_" + s
+	}
+	return s + ".html"
+}
+
+// WriteReport writes one page per audit (DIR/<review id>.html, see
+// PageName; ids that collide after sanitising get a numeric suffix) and
+// the batch overview DIR/index.html, creating dir if needed. It returns
+// the path of the overview. Pages are self-contained: CSS and SVG inline,
+// no scripts, no external fonts or images.
+func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (indexPath string, err error) {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", fmt.Errorf("create report folder: %w", err)
+	}
+	used := map[string]bool{"index.html": true}
+	idx := indexData{CSS: template.CSS(reportCSS), Cautions: reportCautions, Generated: opts.Generated}
+	for _, a := range audits {
+		name := PageName(a.ReviewID)
+		for i := 2; used[strings.ToLower(name)]; i++ {
+			name = strings.TrimSuffix(PageName(a.ReviewID), ".html") + "-" + strconv.Itoa(i) + ".html"
+		}
+		used[strings.ToLower(name)] = true
+		if err := writeFile(filepath.Join(dir, name), func(w io.Writer) error { return ReviewPage(w, a, opts, "index.html") }); err != nil {
+			return "", err
+		}
+		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: a.SignificanceChanged || a.DirectionChanged}
+		if row.Changes {
+			idx.Changed++
+		}
+		idx.Rows = append(idx.Rows, row)
+	}
+	indexPath = filepath.Join(dir, "index.html")
+	if err := writeFile(indexPath, func(w io.Writer) error { return indexTmpl.Execute(w, idx) }); err != nil {
+		return "", err
+	}
+	return indexPath, nil
+}
+
+func writeFile(path string, fill func(io.Writer) error) (err error) {
+	var buf bytes.Buffer
+	if err := fill(&buf); err != nil {
+		return fmt.Errorf("render %s: %w", filepath.Base(path), err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		return fmt.Errorf("write report page: %w", err)
+	}
+	return nil
+}
