@@ -59,8 +59,10 @@ func render(w io.Writer, format string, v any, g grid) error {
 			if _, err := fmt.Fprintf(w, "\n%s\n", x.Title); err != nil {
 				return err
 			}
-			if err := writeTable(w, x.Header, x.Rows); err != nil {
-				return err
+			if len(x.Rows) > 0 {
+				if err := writeTable(w, x.Header, x.Rows); err != nil {
+					return err
+				}
 			}
 			if err := writeLines(w, x.Notes); err != nil {
 				return err
