@@ -1,0 +1,818 @@
+package compare
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"unshelved/ingest"
+)
+
+// Candidate classes, as in links files.
+const (
+	ClassIncluded          = "included"
+	ClassMissedPublication = "missed-publication"
+	ClassRegistryOnly      = "registry-only"
+	ClassNoResults         = "no-results"
+)
+
+// DefaultAcceptAbove is the score above which a proposal is taken to be
+// the right link when nobody has looked at it. Every failed criterion caps
+// a score at or below 0.5, so failures stay below it. It is a reference
+// point for people and tests; MatchOptions.AcceptAbove decides what is
+// accepted automatically.
+const DefaultAcceptAbove = 0.7
+
+// Weights of the outcome score components (they sum to 1).
+const (
+	weightText    = 0.40
+	weightTime    = 0.25
+	weightUnit    = 0.15
+	weightParam   = 0.10
+	weightPrimary = 0.05
+	weightArms    = 0.05
+)
+
+// Caps: the highest score an outcome can reach when one criterion fails.
+const (
+	capNoText    = 0.35 // the outcome's words do not meet the review's outcome (text below 0.2)
+	capWeakText  = 0.60 // fewer than half of the review's outcome words (text below 0.5)
+	capTime      = 0.45 // time frame outside the review's window
+	capUnit      = 0.30 // unit neither the review's nor convertible to it
+	capMedian    = 0.50 // median only: a flagged fallback
+	capOtherStat = 0.40 // geometric or log means
+	capArms      = 0.30 // no experimental or no comparator group found
+	capRejected  = 0.45 // RegistryEffect refuses the proposed link
+)
+
+// MatchOptions control automatic matching. The zero value proposes links
+// for every review, combines dose arms, and accepts nothing automatically.
+type MatchOptions struct {
+	// ReviewIDs limits matching to these reviews; empty means all.
+	ReviewIDs []string
+	// AcceptAbove, when positive, accepts the best outcome of each
+	// missed-publication or registry-only trial whose score is above it.
+	// Included and no-results candidates are never accepted.
+	AcceptAbove float64
+	// HighestDose keeps only the highest dose when several experimental
+	// groups qualify; by default they are combined into one arm.
+	HighestDose bool
+	// Save writes the proposals to the store (Match only).
+	Save bool
+	// Progress, when set, is called after each review (Match only).
+	Progress func(reviewID string, done, total int)
+}
+
+// ScoreParts are the components of an outcome's score, each in [0, 1].
+type ScoreParts struct {
+	Text    float64 `json:"text"`
+	Time    float64 `json:"time"`
+	Unit    float64 `json:"unit"`
+	Param   float64 `json:"param"`
+	Primary float64 `json:"primary"`
+	Arms    float64 `json:"arms"`
+	Trial   float64 `json:"trial"` // the trial's fit, which multiplies the rest
+}
+
+// OutcomeProposal is one posted outcome measure proposed for a review.
+type OutcomeProposal struct {
+	OutcomeIndex int        `json:"outcome_index"`
+	Title        string     `json:"outcome_title"`
+	TimeFrame    string     `json:"time_frame"`
+	Type         string     `json:"type"`
+	TreatGroups  []string   `json:"treat_groups"`
+	CtrlGroups   []string   `json:"ctrl_groups"`
+	Flip         bool       `json:"flip"`
+	UnitFrom     string     `json:"unit_from"`
+	Score        float64    `json:"score"`
+	Parts        ScoreParts `json:"parts"`
+	Reasons      []string   `json:"reasons"`
+	// Converted is true when RegistryEffect accepts the proposed link;
+	// otherwise Rejected holds its reason code.
+	Converted    bool   `json:"converted"`
+	Rejected     string `json:"rejected,omitempty"`
+	AutoAccepted bool   `json:"auto_accepted"`
+	// Decision is accept for an automatic acceptance; Match fills in a
+	// decision already stored for the same outcome.
+	Decision string `json:"decision"`
+}
+
+// TrialProposal is one candidate trial of a review with its outcomes,
+// best first.
+type TrialProposal struct {
+	TrialID    string            `json:"trial_id"`
+	Class      string            `json:"class"`
+	Score      float64           `json:"score"` // best outcome's score; the trial's fit when no outcome fits
+	Fit        float64           `json:"fit"`
+	Enrollment *int              `json:"enrollment"`
+	IncludedAs string            `json:"included_as,omitempty"` // the review's study label
+	Reasons    []string          `json:"reasons"`
+	Outcomes   []OutcomeProposal `json:"outcomes"`
+}
+
+// ExcludedTrial is a trial that was examined and does not fit the review.
+type ExcludedTrial struct {
+	TrialID string   `json:"trial_id"`
+	Failed  []string `json:"failed"` // criteria codes: condition, intervention, comparator, design, completion
+	Reasons []string `json:"reasons"`
+}
+
+// FlowCounts are the per-review numbers for a flow diagram.
+type FlowCounts struct {
+	Examined            int            `json:"examined"`
+	Excluded            int            `json:"excluded"`
+	ExcludedBy          map[string]int `json:"excluded_by"`
+	Included            int            `json:"included"`
+	MissedPublication   int            `json:"missed_publication"`
+	RegistryOnly        int            `json:"registry_only"`
+	NoResults           int            `json:"no_results"`
+	NoResultsEnrollment int            `json:"no_results_enrollment"`
+	ProposedOutcomes    int            `json:"proposed_outcomes"`
+	Matched             int            `json:"matched"`   // candidates with results whose best outcome reaches DefaultAcceptAbove
+	Converted           int            `json:"converted"` // candidates with results whose best outcome converts
+	RejectedBy          map[string]int `json:"rejected_by"`
+	AutoAccepted        int            `json:"auto_accepted"`
+}
+
+// ReviewProposals are the candidates of one review, best first.
+type ReviewProposals struct {
+	ReviewID string          `json:"review_id"`
+	Trials   []TrialProposal `json:"trials"`
+	Excluded []ExcludedTrial `json:"excluded"`
+	Flow     FlowCounts      `json:"flow"`
+}
+
+// reviewTerms are a review's lists prepared for matching.
+type reviewTerms struct {
+	rv            ingest.Review
+	conditions    []phrase
+	interventions []phrase
+	comparators   []comparatorKind
+	outcome       []string // stems of the outcome without generic words
+	synonyms      []phrase // condition phrases with words beyond the outcome's
+	reversed      bool     // the review's own outcome is a reduction or improvement
+	included      map[string]string
+	unlinked      []ingest.ReviewStudy
+}
+
+func prepareReview(rv ingest.Review, studies []ingest.ReviewStudy) *reviewTerms {
+	rt := &reviewTerms{rv: rv, included: map[string]string{}}
+	rt.conditions = newPhrases(rv.Conditions)
+	rt.interventions = newPhrases(rv.Interventions)
+	for _, c := range splitTerms(rv.Comparator) {
+		rt.comparators = append(rt.comparators, comparatorKindFor(c))
+	}
+	seen := map[string]bool{}
+	for _, s := range stems(rv.Outcome, true) {
+		if !seen[s] {
+			seen[s] = true
+			rt.outcome = append(rt.outcome, s)
+		}
+	}
+	for _, p := range rt.conditions {
+		for _, s := range p.Stems {
+			if !seen[s] {
+				rt.synonyms = append(rt.synonyms, p)
+				break
+			}
+		}
+	}
+	rt.reversed, _ = reversedMeasure(rv.Outcome, "", rv.Better)
+	for _, s := range studies {
+		if s.ReviewID != "" && s.ReviewID != rv.ReviewID {
+			continue
+		}
+		if id := strings.ToUpper(strings.TrimSpace(s.RegistryID)); id != "" {
+			rt.included[id] = s.Study
+			continue
+		}
+		if s.TreatMean != nil && s.TreatN != nil && s.CtrlMean != nil && s.CtrlN != nil {
+			rt.unlinked = append(rt.unlinked, s)
+		}
+	}
+	return rt
+}
+
+// ProposeForReview proposes, among candidates, the registry trials, outcome
+// measures and groups that fit a review, and classes every fitting trial as
+// included, missed-publication, registry-only or no-results. Trials that do
+// not fit (another condition or intervention, no comparator of the review's
+// kind, not randomised, completed after the search date) are listed in
+// Excluded with the failed criteria and are not proposed. It is a pure
+// function: candidates are typically the survivors of a TrialIndex search
+// plus the trials the review's studies cite.
+func ProposeForReview(rv ingest.Review, studies []ingest.ReviewStudy, candidates []ingest.Trial, opts MatchOptions) ReviewProposals {
+	rt := prepareReview(rv, studies)
+	out := ReviewProposals{ReviewID: rv.ReviewID, Trials: []TrialProposal{}, Excluded: []ExcludedTrial{},
+		Flow: FlowCounts{ExcludedBy: map[string]int{}, RejectedBy: map[string]int{}}}
+	sorted := append([]ingest.Trial(nil), candidates...)
+	sort.SliceStable(sorted, func(i, j int) bool { return sorted[i].TrialID < sorted[j].TrialID })
+	for i, t := range sorted {
+		if i > 0 && sorted[i-1].TrialID == t.TrialID {
+			continue
+		}
+		out.Flow.Examined++
+		tp, ex := proposeTrial(rt, t, opts)
+		if ex != nil {
+			out.Excluded = append(out.Excluded, *ex)
+			out.Flow.Excluded++
+			for _, f := range ex.Failed {
+				out.Flow.ExcludedBy[f]++
+			}
+			continue
+		}
+		out.Trials = append(out.Trials, *tp)
+	}
+	sort.SliceStable(out.Trials, func(i, j int) bool {
+		a, b := out.Trials[i], out.Trials[j]
+		if a.Score != b.Score {
+			return a.Score > b.Score
+		}
+		return a.TrialID < b.TrialID
+	})
+	for _, tp := range out.Trials {
+		f := &out.Flow
+		switch tp.Class {
+		case ClassIncluded:
+			f.Included++
+		case ClassMissedPublication:
+			f.MissedPublication++
+		case ClassRegistryOnly:
+			f.RegistryOnly++
+		case ClassNoResults:
+			f.NoResults++
+			if tp.Enrollment != nil {
+				f.NoResultsEnrollment += *tp.Enrollment
+			}
+		}
+		f.ProposedOutcomes += len(tp.Outcomes)
+		if tp.Class == ClassNoResults || tp.Class == ClassIncluded {
+			continue
+		}
+		if len(tp.Outcomes) == 0 {
+			f.RejectedBy["no-fitting-outcome"]++
+			continue
+		}
+		best := tp.Outcomes[0]
+		if best.Score > DefaultAcceptAbove {
+			f.Matched++
+		}
+		switch {
+		case !best.Converted:
+			f.RejectedBy[best.Rejected]++
+		case best.Score <= DefaultAcceptAbove:
+			f.Converted++
+			f.RejectedBy["low-score"]++
+		default:
+			f.Converted++
+		}
+		if best.AutoAccepted {
+			f.AutoAccepted++
+		}
+	}
+	return out
+}
+
+// proposeTrial checks one trial against the review and ranks its outcomes.
+// It returns an exclusion instead when the trial does not fit (trials the
+// review cites are never excluded).
+func proposeTrial(rt *reviewTerms, t ingest.Trial, opts MatchOptions) (*TrialProposal, *ExcludedTrial) {
+	fit := trialFit(rt, t)
+	tp := &TrialProposal{TrialID: t.TrialID, Fit: fit.score, Enrollment: t.Enrollment, Reasons: fit.reasons, Outcomes: []OutcomeProposal{}}
+	if study, ok := citedBy(rt, t); ok {
+		tp.Class, tp.IncludedAs = ClassIncluded, study
+		tp.Reasons = append([]string{fmt.Sprintf("in the review as %s (registry id cited)", study)}, tp.Reasons...)
+	} else if len(fit.failed) > 0 {
+		return nil, &ExcludedTrial{TrialID: t.TrialID, Failed: fit.failed, Reasons: fit.reasons}
+	}
+	hasResults := len(t.Outcomes) > 0 || (t.HasResults != nil && *t.HasResults)
+	if !hasResults {
+		if tp.Class == "" {
+			tp.Class = ClassNoResults
+		}
+		tp.Score = fit.score
+		tp.Reasons = append(tp.Reasons, "no results posted")
+		return tp, nil
+	}
+	for i := range t.Outcomes {
+		if op, ok := scoreOutcome(rt, t, &t.Outcomes[i], fit.score, opts); ok {
+			tp.Outcomes = append(tp.Outcomes, op)
+		}
+	}
+	sort.SliceStable(tp.Outcomes, func(i, j int) bool {
+		if tp.Outcomes[i].Score != tp.Outcomes[j].Score {
+			return tp.Outcomes[i].Score > tp.Outcomes[j].Score
+		}
+		return tp.Outcomes[i].OutcomeIndex < tp.Outcomes[j].OutcomeIndex
+	})
+	if tp.Class == "" {
+		if study, ok := agreesWithStudy(rt, t, tp.Outcomes); ok {
+			tp.Class, tp.IncludedAs = ClassIncluded, study
+			tp.Reasons = append([]string{fmt.Sprintf("in the review as %s: arm Ns and means agree with the registry results", study)}, tp.Reasons...)
+		}
+	}
+	if tp.Class == "" {
+		if hasResultReference(t) {
+			tp.Class = ClassMissedPublication
+			tp.Reasons = append(tp.Reasons, "results posted and a RESULT reference, but not in the review")
+		} else {
+			tp.Class = ClassRegistryOnly
+			tp.Reasons = append(tp.Reasons, "results posted, no RESULT reference")
+		}
+	}
+	if len(tp.Outcomes) == 0 {
+		tp.Score = 0
+		tp.Reasons = append(tp.Reasons, "no posted continuous outcome")
+		return tp, nil
+	}
+	tp.Score = tp.Outcomes[0].Score
+	if opts.AcceptAbove > 0 && tp.Outcomes[0].Score > opts.AcceptAbove &&
+		(tp.Class == ClassMissedPublication || tp.Class == ClassRegistryOnly) && tp.Outcomes[0].Converted {
+		tp.Outcomes[0].AutoAccepted = true
+		tp.Outcomes[0].Decision = "accept"
+	}
+	return tp, nil
+}
+
+// citedBy reports whether a study of the review cites the trial by its id,
+// an alias or a secondary id (an EU number, another registry's id).
+func citedBy(rt *reviewTerms, t ingest.Trial) (string, bool) {
+	ids := []string{t.TrialID}
+	ids = append(ids, t.Aliases...)
+	for _, s := range t.SecondaryIDs {
+		ids = append(ids, s.ID)
+	}
+	for _, id := range ids {
+		if study, ok := rt.included[strings.ToUpper(strings.TrimSpace(id))]; ok {
+			return study, true
+		}
+	}
+	return "", false
+}
+
+func hasResultReference(t ingest.Trial) bool {
+	if strings.EqualFold(t.Publication, "yes") {
+		return true
+	}
+	for _, r := range t.References {
+		if strings.EqualFold(r.Type, "RESULT") {
+			return true
+		}
+	}
+	return false
+}
+
+// Tolerances for recognising a published study without a registry id in
+// a trial's posted results: each arm's N within 2 (a few participants
+// dropped between the posting and the paper), and each arm's mean within
+// 2% of its size plus 0.05 (rounding to one decimal).
+const (
+	agreeN        = 2
+	agreeMeanRel  = 0.02
+	agreeMeanAbs  = 0.05
+	agreeMinScore = 0.3 // only outcomes that look like the review's outcome are compared
+)
+
+// agreesWithStudy looks for a published study of the review, without a
+// registry id, whose arm Ns and means agree with one of the trial's
+// proposed outcomes.
+func agreesWithStudy(rt *reviewTerms, t ingest.Trial, ops []OutcomeProposal) (string, bool) {
+	for _, s := range rt.unlinked {
+		for _, op := range ops {
+			if op.Score < agreeMinScore*op.Parts.Trial || len(op.TreatGroups) == 0 || len(op.CtrlGroups) == 0 {
+				continue
+			}
+			l := ingest.Link{ReviewID: rt.rv.ReviewID, TrialID: t.TrialID, OutcomeIndex: op.OutcomeIndex,
+				TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, UnitFrom: op.UnitFrom}
+			treat, ctrl, ok := linkArms(rt.rv, t, l)
+			if !ok {
+				continue
+			}
+			if op.Flip {
+				treat.Mean, ctrl.Mean = -treat.Mean, -ctrl.Mean
+			}
+			if armAgrees(treat.N, treat.Mean, *s.TreatN, *s.TreatMean) && armAgrees(ctrl.N, ctrl.Mean, *s.CtrlN, *s.CtrlMean) {
+				return s.Study, true
+			}
+		}
+	}
+	return "", false
+}
+
+func armAgrees(nReg int, meanReg float64, nPub int, meanPub float64) bool {
+	if d := nReg - nPub; d > agreeN || d < -agreeN {
+		return false
+	}
+	tol := agreeMeanRel*math.Max(math.Abs(meanReg), math.Abs(meanPub)) + agreeMeanAbs
+	return math.Abs(meanReg-meanPub) <= tol
+}
+
+// linkArms returns the N and N-weighted mean of each side of a link, in
+// the review's unit, when RegistryEffect can use the link.
+func linkArms(rv ingest.Review, t ingest.Trial, l ingest.Link) (treatArm, ctrlArm armSummary, ok bool) {
+	mdReview := rv
+	mdReview.Measure = "MD"
+	if _, err := RegistryEffect(mdReview, t, l); err != nil {
+		return armSummary{}, armSummary{}, false
+	}
+	// RegistryEffect has checked that the outcome is a single row with
+	// every group's value and N; read the means from it.
+	o := outcomeByIndex(t, l.OutcomeIndex)
+	if o == nil {
+		return armSummary{}, armSummary{}, false
+	}
+	read := func(groups []string) (armSummary, bool) {
+		var n int
+		var sum float64
+		for _, g := range groups {
+			gn, okN := groupN(o, 0, g)
+			var m *ingest.Measurement
+			for i, x := range o.Classes[0].Categories[0].Measurements {
+				if x.GroupID == g {
+					m = &o.Classes[0].Categories[0].Measurements[i]
+				}
+			}
+			if !okN || m == nil || !m.Value.OK {
+				return armSummary{}, false
+			}
+			n += gn
+			sum += float64(gn) * m.Value.Value
+		}
+		if n == 0 {
+			return armSummary{}, false
+		}
+		mean := sum / float64(n)
+		if l.UnitFrom != "" {
+			if c, err := findConversion(l.UnitFrom, rv.Unit, rv.Outcome); err == nil && c != nil {
+				mean = c.Scale*mean + c.Offset
+			}
+		}
+		return armSummary{N: n, Mean: mean}, true
+	}
+	tr, ok1 := read(l.TreatGroups)
+	cr, ok2 := read(l.CtrlGroups)
+	return tr, cr, ok1 && ok2
+}
+
+type armSummary struct {
+	N    int
+	Mean float64
+}
+
+func outcomeByIndex(t ingest.Trial, idx int) *ingest.Outcome {
+	for i := range t.Outcomes {
+		if t.Outcomes[i].Index == idx {
+			return &t.Outcomes[i]
+		}
+	}
+	return nil
+}
+
+// scoreOutcome scores one posted outcome against the review. Outcomes
+// that are not continuous (counts, numbers, nothing analysed) are not
+// proposed (ok false).
+func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float64, opts MatchOptions) (OutcomeProposal, bool) {
+	op := OutcomeProposal{OutcomeIndex: o.Index, Title: o.Title, TimeFrame: o.TimeFrame, Type: o.Type}
+	var parts ScoreParts
+	parts.Trial = fit
+	caps := []float64{1}
+	var reasons []string
+
+	switch strings.ToUpper(strings.TrimSpace(o.ParamType)) {
+	case "MEAN", "LEAST_SQUARES_MEAN":
+		parts.Param = 1
+	case "MEDIAN":
+		parts.Param = 0.3
+		caps = append(caps, capMedian)
+		reasons = append(reasons, "median only: a flagged fallback (mean and SD would be estimated)")
+	case "GEOMETRIC_MEAN", "GEOMETRIC_LEAST_SQUARES_MEAN", "LOG_MEAN":
+		parts.Param = 0.2
+		caps = append(caps, capOtherStat)
+		reasons = append(reasons, fmt.Sprintf("parameter %s is not an arithmetic mean", o.ParamType))
+	default:
+		return op, false
+	}
+	if strings.EqualFold(o.ReportingStatus, "NOT_POSTED") {
+		return op, false
+	}
+
+	// Text.
+	text, matched := outcomeText(rt, o)
+	parts.Text = text
+	if len(matched) > 0 {
+		reasons = append(reasons, "outcome words: "+strings.Join(matched, ", "))
+	}
+	switch {
+	case text < 0.2:
+		caps = append(caps, capNoText)
+		reasons = append(reasons, "outcome text does not meet the review's outcome")
+	case text < 0.5:
+		caps = append(caps, capWeakText)
+		reasons = append(reasons, "outcome text meets the review's outcome only in part")
+	}
+
+	// Time.
+	ts, why := timeScore(ParseTimeFrame(o.TimeFrame), rt.rv.TimepointWeeks)
+	parts.Time = ts
+	reasons = append(reasons, why)
+	if ts == 0 {
+		caps = append(caps, capTime)
+	}
+
+	// Unit.
+	us, unitFrom, why := unitScore(rt.rv, o.Unit)
+	parts.Unit, op.UnitFrom = us, unitFrom
+	reasons = append(reasons, why)
+	if us == 0 {
+		caps = append(caps, capUnit)
+	}
+
+	switch strings.ToUpper(o.Type) {
+	case "PRIMARY":
+		parts.Primary = 1
+		reasons = append(reasons, "primary outcome")
+	case "SECONDARY":
+		parts.Primary = 0.7
+		reasons = append(reasons, "secondary outcome")
+	default:
+		parts.Primary = 0.5
+		reasons = append(reasons, strings.ToLower(o.Type)+" outcome")
+	}
+
+	// Arms.
+	as := assignArms(rt, t, o, opts.HighestDose)
+	op.TreatGroups, op.CtrlGroups = as.treat, as.ctrl
+	reasons = append(reasons, as.reasons...)
+	if len(as.treat) > 0 && len(as.ctrl) > 0 {
+		parts.Arms = 1
+	} else {
+		caps = append(caps, capArms)
+	}
+
+	// Direction.
+	rev, why := reversedMeasure(o.Title, o.Description, rt.rv.Better)
+	if rev != rt.reversed {
+		op.Flip = true
+		reasons = append(reasons, "flip: "+why)
+	}
+
+	// Conversion check.
+	if parts.Arms == 1 {
+		l := ingest.Link{ReviewID: rt.rv.ReviewID, TrialID: t.TrialID, OutcomeIndex: o.Index,
+			TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, Flip: op.Flip, UnitFrom: op.UnitFrom}
+		if _, err := RegistryEffect(rt.rv, t, l); err != nil {
+			var re *RejectError
+			if errors.As(err, &re) {
+				op.Rejected = re.Reason
+			} else {
+				op.Rejected = "error"
+			}
+			caps = append(caps, capRejected)
+			reasons = append(reasons, "not converted: "+err.Error())
+		} else {
+			op.Converted = true
+		}
+	} else {
+		op.Rejected = ReasonMissingGroup
+	}
+
+	base := weightText*parts.Text + weightTime*parts.Time + weightUnit*parts.Unit +
+		weightParam*parts.Param + weightPrimary*parts.Primary + weightArms*parts.Arms
+	score := base * fit
+	for _, c := range caps {
+		score = math.Min(score, c)
+	}
+	op.Score = math.Round(score*1e4) / 1e4
+	op.Parts = parts
+	op.Reasons = reasons
+	return op, true
+}
+
+// outcomeText scores how well an outcome's title and description cover the
+// review's outcome words (0.6 title, 0.4 description). A condition phrase
+// of the review that brings words of its own (a synonym such as "low
+// mood" for depressive symptoms) counts as one more word found.
+func outcomeText(rt *reviewTerms, o *ingest.Outcome) (float64, []string) {
+	if len(rt.outcome) == 0 {
+		return 0.5, nil
+	}
+	title := newTermSet(o.Title)
+	desc := newTermSet(o.Description)
+	found := map[string]bool{}
+	cover := func(ts termSet) float64 {
+		hits := 0
+		for _, s := range rt.outcome {
+			if ts.has(s) {
+				hits++
+				found[s] = true
+			}
+		}
+		for _, p := range rt.synonyms {
+			if ts.hasAll(p.Stems) {
+				hits++
+				found[p.Text] = true
+				break
+			}
+		}
+		return math.Min(1, float64(hits)/float64(len(rt.outcome)))
+	}
+	score := 0.6*cover(title) + 0.4*cover(desc)
+	return score, sortedKeys(found)
+}
+
+// scaleUnit reports whether a registry unit is a rating-scale unit
+// ("score on a scale", "units on a scale", "points").
+func scaleUnit(u string) bool {
+	u = strings.ToLower(u)
+	for _, w := range []string{"scale", "score", "point", "unit"} {
+		if strings.Contains(u, w) {
+			return true
+		}
+	}
+	return false
+}
+
+// unitScore scores a registry unit against the review's. MD reviews need
+// the same unit, two rating-scale units, or a conversion in the unit table
+// (then unitFrom is the registry's unit); SMD reviews are unit-free but a
+// physical unit suggests another construct.
+func unitScore(rv ingest.Review, unit string) (score float64, unitFrom, why string) {
+	if strings.EqualFold(rv.Measure, "SMD") {
+		if scaleUnit(unit) || unit == "" {
+			return 1, "", fmt.Sprintf("unit %q (SMD: any rating scale)", unit)
+		}
+		return 0.5, "", fmt.Sprintf("unit %q is not a rating scale (SMD)", unit)
+	}
+	if unit == "" || rv.Unit == "" {
+		return 0.7, "", "unit not stated"
+	}
+	if normUnit(unit) == normUnit(rv.Unit) || (scaleUnit(unit) && scaleUnit(rv.Unit)) {
+		return 1, "", fmt.Sprintf("unit %q fits %q", unit, rv.Unit)
+	}
+	if scaleUnit(unit) && strings.Contains(strings.ToLower(rv.Unit), "point") {
+		return 1, "", fmt.Sprintf("unit %q fits %q", unit, rv.Unit)
+	}
+	c, err := findConversion(unit, rv.Unit, rv.Outcome)
+	if err == nil && c != nil {
+		return 0.9, unit, fmt.Sprintf("unit %q converts to %q (%s)", unit, rv.Unit, c.Source)
+	}
+	return 0, "", fmt.Sprintf("unit %q cannot be converted to %q", unit, rv.Unit)
+}
+
+// trialFitResult is a trial's fit to a review.
+type trialFitResult struct {
+	score   float64
+	failed  []string
+	reasons []string
+}
+
+// Penalties for criteria the record leaves unknown (not failures).
+const (
+	fitWeakField   = 0.85 // condition or intervention found only in titles or keywords
+	fitUnknown     = 0.85 // allocation or completion date not stated
+	fitNotRandom   = 0.0
+	dateOKStatuses = "COMPLETED TERMINATED UNKNOWN"
+)
+
+// trialFit checks the trial-level criteria: condition, intervention,
+// comparator kind, randomised interventional design and completion
+// before the review's search date.
+func trialFit(rt *reviewTerms, t ingest.Trial) trialFitResult {
+	r := trialFitResult{score: 1}
+	fail := func(code, why string) {
+		r.failed = append(r.failed, code)
+		r.reasons = append(r.reasons, why)
+	}
+
+	// Condition: in conditions or registry terms (strong), else in
+	// keywords or titles (weak).
+	strong := append(append([]string(nil), t.Conditions...), t.ConditionTerms...)
+	weak := append(append([]string(nil), t.Keywords...), t.BriefTitle, t.OfficialTitle)
+	if m := matchAny(rt.conditions, strong); len(m) > 0 {
+		r.reasons = append(r.reasons, "condition: "+strings.Join(m, ", "))
+	} else if m := matchAny(rt.conditions, weak); len(m) > 0 {
+		r.score *= fitWeakField
+		r.reasons = append(r.reasons, "condition in title or keywords: "+strings.Join(m, ", "))
+	} else {
+		fail("condition", "no condition of the review ("+phraseTexts(rt.conditions)+") among the trial's conditions")
+	}
+
+	// Intervention.
+	strong = append([]string(nil), t.InterventionTerms...)
+	for _, iv := range t.Interventions {
+		strong = append(strong, iv.Name)
+		strong = append(strong, iv.OtherNames...)
+	}
+	for _, a := range t.Arms {
+		strong = append(strong, a.Label)
+		strong = append(strong, a.InterventionNames...)
+	}
+	weak = []string{t.BriefTitle, t.OfficialTitle, t.Acronym}
+	for _, o := range t.Outcomes {
+		for _, g := range o.Groups {
+			weak = append(weak, g.Title)
+		}
+	}
+	if m := matchAny(rt.interventions, strong); len(m) > 0 {
+		r.reasons = append(r.reasons, "intervention: "+strings.Join(m, ", "))
+	} else if m := matchAny(rt.interventions, weak); len(m) > 0 {
+		r.score *= fitWeakField
+		r.reasons = append(r.reasons, "intervention in titles only: "+strings.Join(m, ", "))
+	} else {
+		fail("intervention", "no intervention of the review ("+phraseTexts(rt.interventions)+") in the trial")
+	}
+
+	// Comparator.
+	if len(rt.comparators) > 0 {
+		if k, where := findComparatorArm(rt.comparators, t); k != "" {
+			r.reasons = append(r.reasons, fmt.Sprintf("comparator %s: %s", k, where))
+		} else {
+			names := make([]string, len(rt.comparators))
+			for i, c := range rt.comparators {
+				names[i] = c.Name
+			}
+			fail("comparator", "no "+strings.Join(names, " or ")+" arm")
+		}
+	}
+
+	// Design.
+	if st := strings.ToUpper(t.StudyType); st != "" && st != "INTERVENTIONAL" {
+		fail("design", "not interventional ("+t.StudyType+")")
+	}
+	switch strings.ToUpper(t.Allocation) {
+	case "RANDOMIZED":
+		r.reasons = append(r.reasons, "randomized")
+	case "":
+		r.score *= fitUnknown
+		r.reasons = append(r.reasons, "allocation not stated")
+	default:
+		fail("design", "not randomized ("+t.Allocation+")")
+	}
+
+	// Completion before the search date.
+	status := strings.ToUpper(t.OverallStatus)
+	switch status {
+	case "RECRUITING", "NOT_YET_RECRUITING", "ENROLLING_BY_INVITATION", "ACTIVE_NOT_RECRUITING", "SUSPENDED", "WITHDRAWN":
+		fail("completion", "not completed (status "+t.OverallStatus+")")
+	}
+	date, which := t.PrimaryCompletionDate.Text, "primary completion"
+	if date == "" {
+		date, which = t.CompletionDate.Text, "completion"
+	}
+	switch {
+	case date == "":
+		r.score *= fitUnknown
+		r.reasons = append(r.reasons, "no completion date")
+	case rt.rv.SearchDate == "":
+		r.reasons = append(r.reasons, which+" "+date)
+	case dateAfter(date, rt.rv.SearchDate):
+		fail("completion", fmt.Sprintf("%s %s is after the review's search date %s", which, date, rt.rv.SearchDate))
+	default:
+		r.reasons = append(r.reasons, fmt.Sprintf("%s %s before search date %s", which, date, rt.rv.SearchDate))
+	}
+	if len(r.failed) > 0 {
+		r.score = 0
+	}
+	r.score = math.Round(r.score*1e4) / 1e4
+	return r
+}
+
+// dateAfter reports whether registry date a is after b, compared on their
+// common precision ("2025" is not after "2025-03-31").
+func dateAfter(a, b string) bool {
+	n := len(a)
+	if len(b) < n {
+		n = len(b)
+	}
+	return a[:n] > b[:n]
+}
+
+// matchAny returns the phrases found, each entirely, within one of texts.
+func matchAny(ps []phrase, texts []string) []string {
+	found := map[string]bool{}
+	for _, tx := range texts {
+		if tx == "" {
+			continue
+		}
+		for _, m := range matchPhrases(newTermSet(tx), ps) {
+			found[m] = true
+		}
+	}
+	var out []string
+	for _, p := range ps {
+		if found[p.Text] {
+			out = append(out, p.Text)
+		}
+	}
+	return out
+}
+
+func phraseTexts(ps []phrase) string {
+	s := make([]string, len(ps))
+	for i, p := range ps {
+		s[i] = p.Text
+	}
+	return strings.Join(s, "; ")
+}

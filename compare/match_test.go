@@ -1,0 +1,161 @@
+package compare
+
+import (
+	"reflect"
+	"strings"
+	"testing"
+
+	"unshelved/ingest"
+)
+
+// The unit decisions rest on the conversion table in units.go, whose
+// factors name their sources (glucose 18.016 mg/dL per mmol/L, cholesterol
+// 38.67, the exact international pound, the IFCC-NGSP equation).
+func TestUnitScore(t *testing.T) {
+	for _, tc := range []struct {
+		name, measure, outcome, reviewUnit, unit string
+		want                                     float64
+		unitFrom                                 string
+	}{
+		{"same unit", "MD", "Fasting plasma glucose", "mmol/L", "mmol/L", 1, ""},
+		{"same unit spelled out", "MD", "Fasting plasma glucose", "mmol/L", "millimoles per liter", 1, ""},
+		{"glucose mg/dL converts", "MD", "Fasting plasma glucose", "mmol/L", "mg/dL", 0.9, "mg/dL"},
+		{"LDL cholesterol mg/dL converts", "MD", "LDL cholesterol", "mmol/L", "mg/dL", 0.9, "mg/dL"},
+		{"C-peptide has no factor", "MD", "Fasting C-peptide", "mmol/L", "mg/dL", 0, ""},
+		{"pounds to kilograms", "MD", "Body weight", "kg", "lb", 0.9, "lb"},
+		{"HbA1c percent to mmol/mol", "MD", "HbA1c", "mmol/mol", "%", 0.9, "%"},
+		{"HbA1c is not glucose", "MD", "Fasting plasma glucose", "mmol/L", "percentage of haemoglobin", 0, ""},
+		{"rating scales agree", "MD", "Tinnitus distress", "points (0-100)", "score on a scale", 1, ""},
+		{"loudness is not a rating", "MD", "Tinnitus distress", "points (0-100)", "dB SL", 0, ""},
+		{"SMD takes any scale", "SMD", "Depressive symptoms", "SD units", "units on a scale", 1, ""},
+		{"SMD doubts a physical unit", "SMD", "Depressive symptoms", "SD units", "steps per day", 0.5, ""},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			rv := ingest.Review{Measure: tc.measure, Outcome: tc.outcome, Unit: tc.reviewUnit}
+			got, from, why := unitScore(rv, tc.unit)
+			if got != tc.want || from != tc.unitFrom {
+				t.Errorf("unitScore(%q) = %v, %q (%s); want %v, %q", tc.unit, got, from, why, tc.want, tc.unitFrom)
+			}
+		})
+	}
+}
+
+func TestReversedMeasure(t *testing.T) {
+	for _, tc := range []struct {
+		title, desc, better string
+		want                bool
+	}{
+		{"Improvement From Baseline in Tinnitus Distress Index", "", "lower", true},
+		{"Improvement in 6-Minute Walk Distance", "", "higher", false},
+		{"Reduction in Pain Score From Baseline", "", "lower", true},
+		{"Decrease From Baseline in HbA1c", "", "lower", true},
+		{"Change From Baseline in Total Distress Score", "Change is the Week 12 score minus the baseline score; negative values mean less distress.", "lower", false},
+		{"Change in Distress", "Change is the baseline score minus the Week 12 score.", "lower", true},
+		{"Worsening of Quality of Life", "", "higher", true},
+		{"Worsening of Pain", "", "lower", false},
+		{"Tinnitus Distress Index Total Score at Week 12", "higher scores mean more distress", "lower", false},
+	} {
+		t.Run(tc.title, func(t *testing.T) {
+			got, why := reversedMeasure(tc.title, tc.desc, tc.better)
+			if got != tc.want {
+				t.Errorf("reversedMeasure = %v (%s), want %v", got, why, tc.want)
+			}
+			if got && why == "" {
+				t.Error("no reason given")
+			}
+		})
+	}
+}
+
+func TestDoseOf(t *testing.T) {
+	for _, tc := range []struct {
+		in   string
+		want float64
+		ok   bool
+	}{
+		{"Velmorazine 20 mg", 20, true},
+		{"Drug X 0.5mg/kg", 0.5, true},
+		{"Drug X 2.5 mg QD", 2.5, true},
+		{"Placebo", 0, false},
+		{"Cohort 3", 0, false},
+	} {
+		t.Run(tc.in, func(t *testing.T) {
+			got, ok := doseOf(tc.in)
+			if got != tc.want || ok != tc.ok {
+				t.Errorf("doseOf(%q) = %v, %v; want %v, %v", tc.in, got, ok, tc.want, tc.ok)
+			}
+		})
+	}
+}
+
+func armsTrial(arms []ingest.Arm, groups []ingest.Group) (ingest.Trial, *ingest.Outcome) {
+	t := ingest.Trial{TrialID: "NCT00000000", Arms: arms, Outcomes: []ingest.Outcome{{Groups: groups}}}
+	return t, &t.Outcomes[0]
+}
+
+func TestAssignArms(t *testing.T) {
+	rt := prepareReview(ingest.Review{Interventions: []string{"velmorazine", "VLZ-204"}, Comparator: "placebo", Better: "lower"}, nil)
+	placeboArm := ingest.Arm{Label: "Placebo", Type: "PLACEBO_COMPARATOR", InterventionNames: []string{"Drug: Placebo"}}
+	drugArm := ingest.Arm{Label: "Velmorazine 20 mg", Type: "EXPERIMENTAL", InterventionNames: []string{"Drug: Velmorazine"}}
+	for _, tc := range []struct {
+		name              string
+		arms              []ingest.Arm
+		groups            []ingest.Group
+		highest           bool
+		wantTreat, wantCt []string
+		wantReason        string
+	}{
+		{"placebo first", []ingest.Arm{drugArm, placeboArm},
+			[]ingest.Group{{ID: "OG000", Title: "Placebo"}, {ID: "OG001", Title: "Velmorazine 20 mg"}}, false,
+			[]string{"OG001"}, []string{"OG000"}, ""},
+		{"placebo arm typed experimental", []ingest.Arm{drugArm, {Label: "Placebo", Type: "EXPERIMENTAL", InterventionNames: []string{"Drug: Placebo"}}},
+			[]ingest.Group{{ID: "OG000", Title: "Velmorazine 20 mg"}, {ID: "OG001", Title: "Placebo"}}, false,
+			[]string{"OG000"}, []string{"OG001"}, ""},
+		{"doses combined", []ingest.Arm{drugArm, placeboArm},
+			[]ingest.Group{{ID: "OG000", Title: "Velmorazine 10 mg"}, {ID: "OG001", Title: "Velmorazine 20 mg"}, {ID: "OG002", Title: "Placebo"}}, false,
+			[]string{"OG000", "OG001"}, []string{"OG002"}, "combined 2 experimental groups"},
+		{"highest dose", []ingest.Arm{drugArm, placeboArm},
+			[]ingest.Group{{ID: "OG000", Title: "Velmorazine 10 mg"}, {ID: "OG001", Title: "Velmorazine 20 mg"}, {ID: "OG002", Title: "Placebo"}}, true,
+			[]string{"OG001"}, []string{"OG002"}, "highest dose kept"},
+		{"other active drug has no role", []ingest.Arm{drugArm, placeboArm, {Label: "Tarnelide 50 mg", Type: "ACTIVE_COMPARATOR", InterventionNames: []string{"Drug: Tarnelide"}}},
+			[]ingest.Group{{ID: "OG000", Title: "Velmorazine 20 mg"}, {ID: "OG001", Title: "Tarnelide 50 mg"}, {ID: "OG002", Title: "Placebo"}}, false,
+			[]string{"OG000"}, []string{"OG002"}, `no role: OG001 "Tarnelide 50 mg"`},
+		{"crossover sequence is not an arm", []ingest.Arm{drugArm, placeboArm},
+			[]ingest.Group{{ID: "OG000", Title: "Placebo (FAS)"}, {ID: "OG001", Title: "Velmorazine 20 mg (FAS)"}, {ID: "OG002", Title: "Placebo->OL Velmorazine"}}, false,
+			[]string{"OG001"}, []string{"OG000"}, "no role: OG002"},
+		{"neutral titles resolved by the arm's interventions", []ingest.Arm{{Label: "Arm A", Type: "OTHER", InterventionNames: []string{"Drug: Velmorazine"}}, {Label: "Arm B", Type: "OTHER", InterventionNames: []string{"Drug: Placebo"}}},
+			[]ingest.Group{{ID: "OG000", Title: "Arm B"}, {ID: "OG001", Title: "Arm A"}}, false,
+			[]string{"OG001"}, []string{"OG000"}, ""},
+		{"description decides when the title does not", []ingest.Arm{},
+			[]ingest.Group{{ID: "OG000", Title: "Group 1", Description: "Matching placebo tablets"}, {ID: "OG001", Title: "Group 2", Description: "VLZ-204 tablets"}}, false,
+			[]string{"OG001"}, []string{"OG000"}, ""},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			tr, o := armsTrial(tc.arms, tc.groups)
+			as := assignArms(rt, tr, o, tc.highest)
+			if !reflect.DeepEqual(as.treat, tc.wantTreat) || !reflect.DeepEqual(as.ctrl, tc.wantCt) {
+				t.Errorf("treat %v ctrl %v, want %v %v (%v)", as.treat, as.ctrl, tc.wantTreat, tc.wantCt, as.reasons)
+			}
+			if tc.wantReason != "" && !strings.Contains(strings.Join(as.reasons, "; "), tc.wantReason) {
+				t.Errorf("reasons %v lack %q", as.reasons, tc.wantReason)
+			}
+		})
+	}
+}
+
+func TestDateAfter(t *testing.T) {
+	for _, tc := range []struct {
+		a, b string
+		want bool
+	}{
+		{"2025-05-30", "2025-03-31", true},
+		{"2025-03-31", "2025-03-31", false},
+		{"2025-03", "2025-03-31", false},
+		{"2025", "2024-12-31", true},
+		{"2019-05-31", "2025-03-31", false},
+	} {
+		if got := dateAfter(tc.a, tc.b); got != tc.want {
+			t.Errorf("dateAfter(%q, %q) = %v, want %v", tc.a, tc.b, got, tc.want)
+		}
+	}
+}

@@ -1,0 +1,307 @@
+package compare
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"sort"
+	"strconv"
+	"strings"
+
+	"unshelved/ingest"
+	"unshelved/store"
+)
+
+// TrialIndex is an in-memory inverted index over trial summaries: from
+// each stem of a trial's conditions, keywords, registry terms and titles
+// (the condition side) and of its intervention names, other names,
+// registry intervention terms and titles (the intervention side) to the
+// trials that hold it. It is the cheap first step of candidate search:
+// Candidates returns the trials where some condition phrase and some
+// intervention phrase of a review have all their stems; the full checks
+// run on the loaded trials afterwards.
+type TrialIndex struct {
+	ids  []string
+	cond map[string][]int32
+	intv map[string][]int32
+}
+
+// NewTrialIndex indexes summaries (any order).
+func NewTrialIndex(summaries []store.TrialSummary) *TrialIndex {
+	ix := &TrialIndex{ids: make([]string, len(summaries)), cond: map[string][]int32{}, intv: map[string][]int32{}}
+	add := func(m map[string][]int32, seen map[string]bool, pos int32, texts ...string) {
+		for _, tx := range texts {
+			for _, w := range words(tx) {
+				if stopWords[w] {
+					continue
+				}
+				s := stem(w)
+				if seen[s] {
+					continue
+				}
+				seen[s] = true
+				m[s] = append(m[s], pos)
+			}
+		}
+	}
+	for i, s := range summaries {
+		pos := int32(i)
+		ix.ids[i] = s.TrialID
+		seen := map[string]bool{}
+		add(ix.cond, seen, pos, s.Conditions...)
+		add(ix.cond, seen, pos, s.Keywords...)
+		add(ix.cond, seen, pos, s.ConditionTerms...)
+		add(ix.cond, seen, pos, s.BriefTitle, s.OfficialTitle)
+		seen = map[string]bool{}
+		add(ix.intv, seen, pos, s.InterventionNames...)
+		add(ix.intv, seen, pos, s.InterventionOtherNames...)
+		add(ix.intv, seen, pos, s.InterventionTerms...)
+		add(ix.intv, seen, pos, s.BriefTitle, s.OfficialTitle, s.Acronym)
+	}
+	return ix
+}
+
+// Len returns the number of indexed trials.
+func (ix *TrialIndex) Len() int { return len(ix.ids) }
+
+// Candidates returns, sorted, the ids of the trials that may fit the
+// review: some condition phrase and some intervention phrase of the review
+// have all their stems in the trial's condition and intervention sides. A
+// review without conditions (or interventions) does not restrict on them.
+func (ix *TrialIndex) Candidates(rv ingest.Review) []string {
+	cond := ix.side(ix.cond, newPhrases(rv.Conditions))
+	intv := ix.side(ix.intv, newPhrases(rv.Interventions))
+	var hits []int32
+	switch {
+	case cond == nil && intv == nil:
+		return append([]string(nil), ix.ids...)
+	case cond == nil:
+		hits = intv
+	case intv == nil:
+		hits = cond
+	default:
+		hits = intersect(cond, intv)
+	}
+	out := make([]string, len(hits))
+	for i, h := range hits {
+		out[i] = ix.ids[h]
+	}
+	sort.Strings(out)
+	return out
+}
+
+// side returns the union over phrases of the trials holding every stem of
+// the phrase; nil when there are no phrases.
+func (ix *TrialIndex) side(m map[string][]int32, ps []phrase) []int32 {
+	if len(ps) == 0 {
+		return nil
+	}
+	var union []int32
+	for _, p := range ps {
+		var cur []int32
+		for i, s := range p.Stems {
+			list := m[s]
+			if i == 0 {
+				cur = list
+			} else {
+				cur = intersect(cur, list)
+			}
+			if len(cur) == 0 {
+				break
+			}
+		}
+		union = unite(union, cur)
+	}
+	if union == nil {
+		union = []int32{}
+	}
+	return union
+}
+
+// intersect and unite work on ascending lists.
+func intersect(a, b []int32) []int32 {
+	out := make([]int32, 0, min(len(a), len(b)))
+	for i, j := 0, 0; i < len(a) && j < len(b); {
+		switch {
+		case a[i] < b[j]:
+			i++
+		case a[i] > b[j]:
+			j++
+		default:
+			out = append(out, a[i])
+			i++
+			j++
+		}
+	}
+	return out
+}
+
+func unite(a, b []int32) []int32 {
+	out := make([]int32, 0, len(a)+len(b))
+	i, j := 0, 0
+	for i < len(a) || j < len(b) {
+		switch {
+		case j >= len(b) || (i < len(a) && a[i] < b[j]):
+			out = append(out, a[i])
+			i++
+		case i >= len(a) || b[j] < a[i]:
+			out = append(out, b[j])
+			j++
+		default:
+			out = append(out, a[i])
+			i++
+			j++
+		}
+	}
+	return out
+}
+
+// MatchReport is the result of Match: the proposals per review, in review
+// id order.
+type MatchReport struct {
+	Reviews []ReviewProposals `json:"reviews"`
+	// TrialsIndexed is the number of registry trials searched.
+	TrialsIndexed int `json:"trials_indexed"`
+}
+
+// Match proposes links for the reviews in the workspace. It indexes the
+// summaries of all stored trials once (store.TrialSummaries), loads the
+// full records only of each review's index candidates and of the trials
+// its studies cite (by id, alias or secondary id), and calls
+// ProposeForReview. With opts.Save the proposals are written with
+// SaveLinks, which keeps decisions already made.
+func Match(ctx context.Context, db *store.DB, opts MatchOptions) (MatchReport, error) {
+	var rep MatchReport
+	reviews, err := selectReviews(ctx, db, opts.ReviewIDs)
+	if err != nil {
+		return rep, err
+	}
+	sums, err := db.TrialSummaries(ctx, store.TrialFilter{})
+	if err != nil {
+		return rep, err
+	}
+	ix := NewTrialIndex(sums)
+	rep.TrialsIndexed = ix.Len()
+	rep.Reviews = make([]ReviewProposals, 0, len(reviews))
+	for n, rv := range reviews {
+		if err := ctx.Err(); err != nil {
+			return rep, err
+		}
+		studies, err := db.ReviewStudies(ctx, rv.ReviewID)
+		if err != nil {
+			return rep, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
+		}
+		ids := map[string]bool{}
+		for _, id := range ix.Candidates(rv) {
+			ids[id] = true
+		}
+		for _, s := range studies {
+			id := strings.TrimSpace(s.RegistryID)
+			if id == "" {
+				continue
+			}
+			ids[strings.ToUpper(id)] = true
+			other, err := db.TrialBySecondaryID(ctx, id)
+			if err != nil {
+				return rep, fmt.Errorf("look up %s: %w", id, err)
+			}
+			for _, o := range other {
+				ids[o] = true
+			}
+		}
+		trials := make([]ingest.Trial, 0, len(ids))
+		for _, id := range sortedKeys(ids) {
+			if err := ctx.Err(); err != nil {
+				return rep, err
+			}
+			t, err := db.Trial(ctx, id)
+			if errors.Is(err, store.ErrNotFound) {
+				continue // a cited id that is not in the workspace
+			}
+			if err != nil {
+				return rep, fmt.Errorf("load trial %s: %w", id, err)
+			}
+			trials = append(trials, t)
+		}
+		rp := ProposeForReview(rv, studies, trials, opts)
+		if opts.Save {
+			if links := rp.Links(); len(links) > 0 {
+				if err := db.SaveLinks(ctx, links); err != nil {
+					return rep, fmt.Errorf("save proposals of %s: %w", rv.ReviewID, err)
+				}
+			}
+		}
+		if err := withStoredDecisions(ctx, db, &rp); err != nil {
+			return rep, err
+		}
+		rep.Reviews = append(rep.Reviews, rp)
+		if opts.Progress != nil {
+			opts.Progress(rv.ReviewID, n+1, len(reviews))
+		}
+	}
+	return rep, nil
+}
+
+// withStoredDecisions shows decisions already in the store on the
+// proposals: a stored decision and the groups, flip and unit it was made
+// on replace the proposal's.
+func withStoredDecisions(ctx context.Context, db *store.DB, rp *ReviewProposals) error {
+	stored, err := db.Links(ctx, rp.ReviewID)
+	if err != nil {
+		return fmt.Errorf("load links of %s: %w", rp.ReviewID, err)
+	}
+	type key struct {
+		trial   string
+		outcome int
+	}
+	byKey := make(map[key]ingest.Link, len(stored))
+	for _, l := range stored {
+		byKey[key{l.TrialID, l.OutcomeIndex}] = l
+	}
+	for i := range rp.Trials {
+		tp := &rp.Trials[i]
+		for j := range tp.Outcomes {
+			op := &tp.Outcomes[j]
+			l, ok := byKey[key{tp.TrialID, op.OutcomeIndex}]
+			if !ok || l.Decision == "" {
+				continue
+			}
+			op.Decision, op.AutoAccepted = l.Decision, l.AutoAccepted
+			op.TreatGroups, op.CtrlGroups, op.Flip, op.UnitFrom = l.TreatGroups, l.CtrlGroups, l.Flip, l.UnitFrom
+		}
+	}
+	rp.Flow.AutoAccepted = 0
+	for _, tp := range rp.Trials {
+		for _, op := range tp.Outcomes {
+			if op.AutoAccepted && op.Decision == "accept" {
+				rp.Flow.AutoAccepted++
+			}
+		}
+	}
+	return nil
+}
+
+// Links returns the proposals of a review as links for the store: one per
+// proposed outcome, with the decision "accept" on automatically accepted
+// ones and empty otherwise. Trials without a proposed outcome (no-results)
+// have no link.
+func (rp ReviewProposals) Links() []ingest.Link {
+	var out []ingest.Link
+	for _, tp := range rp.Trials {
+		for _, op := range tp.Outcomes {
+			score := op.Score
+			l := ingest.Link{
+				ReviewID: rp.ReviewID, TrialID: tp.TrialID, OutcomeIndex: op.OutcomeIndex,
+				TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, Flip: op.Flip, UnitFrom: op.UnitFrom,
+				Class: tp.Class, OutcomeTitle: op.Title, TimeFrame: op.TimeFrame, Score: &score,
+				Reasons: strings.Join(op.Reasons, "; "), AutoAccepted: op.AutoAccepted,
+				Source: ingest.Source{Path: "match", Position: tp.TrialID + "/" + strconv.Itoa(op.OutcomeIndex)},
+			}
+			if op.AutoAccepted {
+				l.Decision = op.Decision
+			}
+			out = append(out, l)
+		}
+	}
+	return out
+}
