@@ -183,6 +183,11 @@ type vgPainter struct {
 	c     vg.Canvas
 	h     float64 // canvas height in layout units
 	fonts *font.Cache
+	// styleInName renames bold and italic faces into plain ones of their
+	// own typeface name: the PDF back end registers a face under its name
+	// but selects it by name plus a style letter, so styled faces would
+	// otherwise not be found.
+	styleInName bool
 }
 
 const ptPerUnit = 0.75 // 1/96 inch in points
@@ -269,6 +274,10 @@ func (p *vgPainter) text(q pt, s string, t textStyle) {
 		f.Style = xfont.StyleItalic
 	}
 	face := p.fonts.Lookup(f, font.Length(t.Size*ptPerUnit))
+	if p.styleInName && (t.Bold || t.Italic) {
+		face.Font.Typeface = font.Typeface(face.Name())
+		face.Font.Weight, face.Font.Style = xfont.WeightNormal, xfont.StyleNormal
+	}
 	w := face.Width(s)
 	var dx vg.Length
 	switch t.Anchor {

@@ -54,7 +54,9 @@ func PDF(w io.Writer, fig Figure) error {
 	wd, ht := fig.size()
 	c := vgpdf.New(vg.Length(wd*ptPerUnit), vg.Length(ht*ptPerUnit))
 	fillBackground(c, wd, ht)
-	fig.draw(newVGPainter(c, ht))
+	p := newVGPainter(c, ht)
+	p.styleInName = true
+	fig.draw(p)
 	_, err := c.WriteTo(w)
 	return err
 }
