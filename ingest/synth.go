@@ -34,7 +34,9 @@ func synthNum(r *rand.Rand, mean, sd float64, digits int) string {
 // class denominators, mean/SD or LS mean/SE values, occasional "NA"
 // values with comments, and a between-group analysis. With 15 outcomes and
 // 2 groups the record is about 60 KB with about 100 measurements. The
-// same r state gives the same bytes.
+// same r state gives the same bytes. With outcomes = 0 the record has no
+// results section and hasResults is false, like most registered studies
+// (about 8 KB of protocol text).
 func SyntheticStudy(r *rand.Rand, id string, outcomes, groups int) []byte {
 	if groups < 1 {
 		groups = 1
@@ -113,9 +115,15 @@ func SyntheticStudy(r *rand.Rand, id string, outcomes, groups int) []byte {
 			"outcomesModule":          obj{"primaryOutcomes": regPrimary},
 			"eligibilityModule":       obj{"eligibilityCriteria": synthText(r, 500)},
 		},
-		"resultsSection": obj{"outcomeMeasuresModule": obj{"outcomeMeasures": measures}},
 		"derivedSection": obj{"miscInfoModule": obj{"versionHolder": "2099-01-01"}},
-		"hasResults":     true,
+		"hasResults":     outcomes > 0,
+	}
+	if outcomes > 0 {
+		study["resultsSection"] = obj{"outcomeMeasuresModule": obj{"outcomeMeasures": measures}}
+	} else {
+		delete(study["protocolSection"].(obj)["statusModule"].(obj), "resultsFirstPostDateStruct")
+		delete(study["protocolSection"].(obj), "outcomesModule")
+		study["protocolSection"].(obj)["outcomesModule"] = obj{"primaryOutcomes": []any{obj{"measure": synthText(r, 8), "timeFrame": "Week 12"}}}
 	}
 	b, err := json.MarshalIndent(study, "", "")
 	if err != nil {
