@@ -121,6 +121,7 @@ estimate shifts.`,
 		newCmdPool(g),
 		newCmdDemo(g),
 		newCmdDB(g),
+		newCmdReport(g),
 	)
 	return root, g
 }

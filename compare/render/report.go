@@ -209,7 +209,7 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 	if a.SignificanceChanged {
 		out = append(out, "The conclusion about significance changes: the published-only "+lv+" interval "+sig(a.Published.Random)+", the interval with registry trials "+sig(a.Augmented.Random)+".")
 	} else {
-		out = append(out, "Significance does not change: both "+lv+" intervals "+sig(a.Augmented.Random)+".")
+		out = append(out, "Significance does not change: in both analyses the "+lv+" interval "+sig(a.Augmented.Random)+".")
 	}
 	if a.DirectionChanged {
 		out = append(out, "The direction of the pooled effect changes.")

@@ -3,6 +3,7 @@ package render
 import (
 	"bytes"
 	"encoding/json"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -71,6 +72,50 @@ func TestWriteReportDemo(t *testing.T) {
 			if u := string(trialURL(st.TrialID)); u != "" && !strings.Contains(s, `href="`+u+`"`) {
 				t.Errorf("%s: no link to %s", a.ReviewID, u)
 			}
+		}
+	}
+}
+
+type compareAudit = compare.ReviewAudit
+
+func rejectedOf(detail string) compare.Rejected {
+	return compare.Rejected{TrialID: "NCT00000000", Reason: "no-outcome", Detail: detail}
+}
+
+func BenchmarkReviewPage(b *testing.B) {
+	a := loadDemoAudits(b)[0]
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := ReviewPage(io.Discard, a, ReportOptions{}, "index.html"); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func TestPageName(t *testing.T) {
+	for _, tc := range []struct{ id, want string }{
+		{"TINN-01", "TINN-01.html"},
+		{"../etc/passwd", "_etc_passwd.html"},
+		{"a b<c>", "a_b_c_.html"},
+		{"index", "review_index.html"},
+		{"", "review.html"},
+		{"...", "review.html"},
+	} {
+		if got := PageName(tc.id); got != tc.want {
+			t.Errorf("PageName(%q) = %q, want %q", tc.id, got, tc.want)
+		}
+	}
+	// Two ids that sanitise alike get distinct pages.
+	dir := t.TempDir()
+	a := loadDemoAudits(t)[0]
+	b := a
+	a.ReviewID, b.ReviewID = "x/y", "x?y"
+	if _, err := WriteReport(dir, []compare.ReviewAudit{a, b}, ReportOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, n := range []string{"x_y.html", "x_y-2.html", "index.html"} {
+		if _, err := os.Stat(filepath.Join(dir, n)); err != nil {
+			t.Errorf("missing %s: %v", n, err)
 		}
 	}
 }
