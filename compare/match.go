@@ -10,7 +10,7 @@ import (
 	"unshelved/ingest"
 )
 
-// Candidate classes, as in links files.
+// Candidate classes, as in links files (ingest.Link.Class).
 const (
 	ClassIncluded          = "included"
 	ClassMissedPublication = "missed-publication"
@@ -591,7 +591,8 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 }
 
 // outcomeText scores how well an outcome's title and description cover the
-// review's outcome words (0.6 title, 0.4 description). A condition phrase
+// review's outcome words (0.6 title, 0.4 description; the title alone when
+// there is no description). A condition phrase
 // of the review that brings words of its own (a synonym such as "low
 // mood" for depressive symptoms) counts as one more word found.
 func outcomeText(rt *reviewTerms, o *ingest.Outcome) (float64, []string) {
@@ -618,8 +619,11 @@ func outcomeText(rt *reviewTerms, o *ingest.Outcome) (float64, []string) {
 		}
 		return math.Min(1, float64(hits)/float64(len(rt.outcome)))
 	}
-	score := 0.6*cover(title) + 0.4*cover(desc)
-	return score, sortedKeys(found)
+	ct := cover(title)
+	if strings.TrimSpace(o.Description) == "" {
+		return ct, sortedKeys(found)
+	}
+	return 0.6*ct + 0.4*cover(desc), sortedKeys(found)
 }
 
 // scaleUnit reports whether a registry unit is a rating-scale unit

@@ -44,15 +44,16 @@ func NewTrialIndex(summaries []store.TrialSummary) *TrialIndex {
 			}
 		}
 	}
+	seen := map[string]bool{}
 	for i, s := range summaries {
 		pos := int32(i)
 		ix.ids[i] = s.TrialID
-		seen := map[string]bool{}
+		clear(seen)
 		add(ix.cond, seen, pos, s.Conditions...)
 		add(ix.cond, seen, pos, s.Keywords...)
 		add(ix.cond, seen, pos, s.ConditionTerms...)
 		add(ix.cond, seen, pos, s.BriefTitle, s.OfficialTitle)
-		seen = map[string]bool{}
+		clear(seen)
 		add(ix.intv, seen, pos, s.InterventionNames...)
 		add(ix.intv, seen, pos, s.InterventionOtherNames...)
 		add(ix.intv, seen, pos, s.InterventionTerms...)
@@ -281,13 +282,24 @@ func withStoredDecisions(ctx context.Context, db *store.DB, rp *ReviewProposals)
 	return nil
 }
 
+// NoOutcome is the outcome index of a stored no-results candidate: the
+// trial posted nothing, so its link names no outcome.
+const NoOutcome = -1
+
 // Links returns the proposals of a review as links for the store: one per
 // proposed outcome, with the decision "accept" on automatically accepted
-// ones and empty otherwise. Trials without a proposed outcome (no-results)
-// have no link.
+// ones and empty otherwise, and one per no-results trial with outcome
+// index NoOutcome (the audit counts those as missing evidence).
 func (rp ReviewProposals) Links() []ingest.Link {
 	var out []ingest.Link
 	for _, tp := range rp.Trials {
+		if tp.Class == ClassNoResults {
+			score := tp.Score
+			out = append(out, ingest.Link{ReviewID: rp.ReviewID, TrialID: tp.TrialID, OutcomeIndex: NoOutcome,
+				Class: tp.Class, Score: &score, Reasons: strings.Join(tp.Reasons, "; "),
+				Source: ingest.Source{Path: "match", Position: tp.TrialID}})
+			continue
+		}
 		for _, op := range tp.Outcomes {
 			score := op.Score
 			l := ingest.Link{

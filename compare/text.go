@@ -32,7 +32,7 @@ var genericOutcomeWords = map[string]bool{
 	"scale": true, "scales": true, "index": true, "any": true, "validated": true, "self": true,
 	"report": true, "reported": true, "rated": true, "rating": true, "number": true,
 	"participants": true, "percent": true, "percentage": true, "end": true, "treatment": true,
-	"visit": true, "time": true, "point": true, "points": true, "using": true, "questionnaire": true,
+	"visit": true, "time": true, "point": true, "points": true, "using": true, "questionnaire": true, "numeric": true, "numerical": true, "visual": true, "analogue": true, "analog": true,
 }
 
 // words splits text into lower-case runs of letters and digits. Markdown
