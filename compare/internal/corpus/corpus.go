@@ -482,7 +482,7 @@ func (c *Corpus) BackgroundTrial(i int) ingest.Trial {
 		InterventionTerms: []string{strings.ToLower(drug)}, HasResults: &yes, Enrollment: &enrol,
 		Arms: []ingest.Arm{{Label: drug, Type: "EXPERIMENTAL", InterventionNames: []string{"Drug: " + drug}},
 			{Label: "Placebo", Type: "PLACEBO_COMPARATOR", InterventionNames: []string{"Drug: Placebo"}}},
-		Interventions: []ingest.Intervention{{Type: "DRUG", Name: drug, OtherNames: []string{code}}, {Type: "DRUG", Name: "Placebo"}},
+		Interventions:         []ingest.Intervention{{Type: "DRUG", Name: drug, OtherNames: []string{code}}, {Type: "DRUG", Name: "Placebo"}},
 		PrimaryCompletionDate: ingest.Date{Text: fmt.Sprintf("%d-06-30", 2010+r.IntN(14)), Type: "ACTUAL"},
 	}
 	return t
