@@ -30,7 +30,43 @@ type ScanOptions struct {
 	// SkipFile is asked once per input file with its hex SHA-256, before the
 	// file is parsed; true skips it (an unchanged file). nil never skips.
 	SkipFile func(path, sha256 string) bool
+	// FileDone is called from the emitting goroutine once per input file
+	// (skipped ones too), after emit has been called for its last record.
+	// A non-nil error stops the scan and is returned. nil is not called.
+	FileDone func(FileResult) error
 	Stdin    io.Reader // read for the path "-"
+	// MaxSpoolBytes caps what is copied to a temporary file: standard
+	// input, and a gzip-compressed zip unpacked for random access. 0 means
+	// DefaultMaxSpoolBytes. A larger input is rejected as a whole.
+	MaxSpoolBytes int64
+	// MaxInFlightBytes bounds the record bytes read but not yet emitted,
+	// which bounds memory whatever the input size. 0 means
+	// DefaultMaxInFlightBytes. A single record larger than this (at most
+	// MaxRecordBytes) still passes, alone.
+	MaxInFlightBytes int64
+}
+
+// DefaultMaxSpoolBytes is the default ScanOptions.MaxSpoolBytes: 16 GiB,
+// above the whole registry's unpacked size.
+const DefaultMaxSpoolBytes = 16 << 30
+
+// DefaultMaxInFlightBytes is the default ScanOptions.MaxInFlightBytes.
+const DefaultMaxInFlightBytes = 96 << 20
+
+// FileResult is what a scan did with one input file.
+type FileResult struct {
+	Path        string // as given (or found in a folder); "-" for standard input
+	SHA256      string // hex SHA-256 of the file's bytes; "" when it could not be read
+	Format      string // container read: json, page, jsonl, zip, csv, with a "gzip+" prefix when compressed
+	Bytes       int64  // size of the file
+	Records     int    // trials passed to emit
+	WithResults int    // of those, with hasResults true
+	Rejected    int    // records (or the file itself) rejected
+	Skipped     bool   // SkipFile said so; nothing was read
+	// Failed is set when reading stopped before the end of the file
+	// (unreadable, truncated, not JSON, cancelled); records after the
+	// break were not seen.
+	Failed bool
 }
 
 // ProgressEvent is a running count for a progress display. Bytes counts
@@ -75,7 +111,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 	ctx, cancel := context.WithCancelCause(ctx)
 	defer cancel(nil)
 
-	files, tmp, listErrs := listInputs(ctx, paths, opts.Stdin)
+	files, tmp, listErrs := listInputs(ctx, paths, opts.Stdin, opts.MaxSpoolBytes)
 	defer func() {
 		for _, f := range tmp {
 			os.Remove(f)
@@ -88,21 +124,24 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 
 	order := make(chan *item, 4*workers+16)
 	work := make(chan *item, 2*workers)
+	inflight := opts.MaxInFlightBytes
+	if inflight <= 0 {
+		inflight = DefaultMaxInFlightBytes
+	}
+	spool := opts.MaxSpoolBytes
+	if spool <= 0 {
+		spool = DefaultMaxSpoolBytes
+	}
+	budget := newByteBudget(inflight)
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for {
-				select {
-				case <-ctx.Done():
-					return
-				case it, ok := <-work:
-					if !ok {
-						return
-					}
-					it.parse()
-				}
+			// Every queued item is finished, parsed or (once ctx is done)
+			// skipped, so that the producer can wait for a file's items.
+			for it := range work {
+				it.parse(ctx)
 			}
 		}()
 	}
@@ -111,7 +150,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 		defer wg.Done()
 		defer close(order)
 		defer close(work)
-		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile}
+		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, budget: budget, spool: spool}
 		for _, pe := range listErrs {
 			if !p.send(&item{kind: itemFileError, err: pe, file: pe.File}) {
 				return
@@ -124,7 +163,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 		}
 	}()
 
-	em := emitter{sum: &sum, opts: &opts, total: total, emit: emit}
+	em := emitter{sum: &sum, opts: &opts, total: total, emit: emit, budget: budget}
 	err := em.run(ctx, order)
 	if err != nil {
 		cancel(err)
@@ -152,15 +191,42 @@ type item struct {
 	kind     itemKind
 	file     string
 	raw      []byte
+	zf       *zip.File // a zip entry to inflate in the worker, instead of raw
 	src      Source
-	baseLine int   // line of the record's start within the file; 0 when Position names a zip entry
-	offset   int64 // input bytes of the file consumed so far
+	cost     int64           // bytes charged to the in-flight budget
+	pending  *sync.WaitGroup // the file's unfinished items
+	format   string          // itemFileDone: the container read
+	sha      string          // itemFileDone, itemFileSkipped: the file's hash
+	failed   bool            // itemFileDone: reading stopped early
+	baseLine int             // line of the record's start within the file; 0 when Position names a zip entry
+	offset   int64           // input bytes of the file consumed so far
 	done     chan struct{}
 	trial    Trial
 	err      *ParseError
 }
 
-func (it *item) parse() {
+func (it *item) parse(ctx context.Context) {
+	defer close(it.done)
+	if it.pending != nil {
+		defer it.pending.Done()
+	}
+	if ctx.Err() != nil {
+		it.raw, it.zf = nil, nil
+		it.err = &ParseError{File: it.file, Position: it.src.Position, Err: context.Cause(ctx)}
+		return
+	}
+	if it.zf != nil {
+		raw, err := readEntry(it.zf)
+		it.zf = nil
+		if err != nil {
+			if !errors.Is(err, ErrTooLarge) {
+				err = errorf(ErrUnreadable, "%v", err)
+			}
+			it.err = &ParseError{File: it.file, Position: it.src.Position, Err: err}
+			return
+		}
+		it.raw = raw
+	}
 	t, err := ParseStudy(it.raw, it.src)
 	it.raw = nil
 	if err != nil {
@@ -172,7 +238,6 @@ func (it *item) parse() {
 	} else {
 		it.trial = t
 	}
-	close(it.done)
 }
 
 type inputFile struct {
@@ -184,7 +249,10 @@ type inputFile struct {
 
 // listInputs expands folders and spools standard input to a temporary file
 // (zip needs random access, and the file hash must be known up front).
-func listInputs(ctx context.Context, paths []string, stdin io.Reader) (files []inputFile, tmp []string, errs []*ParseError) {
+func listInputs(ctx context.Context, paths []string, stdin io.Reader, maxSpool int64) (files []inputFile, tmp []string, errs []*ParseError) {
+	if maxSpool <= 0 {
+		maxSpool = DefaultMaxSpoolBytes
+	}
 	for _, p := range paths {
 		if ctx.Err() != nil {
 			return
@@ -200,12 +268,17 @@ func listInputs(ctx context.Context, paths []string, stdin io.Reader) (files []i
 				continue
 			}
 			tmp = append(tmp, f.Name())
-			n, err := io.Copy(f, stdin)
+			n, err := io.Copy(f, io.LimitReader(&ctxReader{ctx: ctx, r: stdin}, maxSpool+1))
 			if cerr := f.Close(); err == nil {
 				err = cerr
 			}
 			if err != nil {
 				errs = append(errs, &ParseError{File: "-", Err: errorf(ErrUnreadable, "read standard input: %v", err)})
+				continue
+			}
+			if n > maxSpool {
+				errs = append(errs, &ParseError{File: "-", Err: errorf(ErrTooLarge,
+					"standard input is longer than the %d-byte spool limit; give the file's path instead", maxSpool)})
 				continue
 			}
 			files = append(files, inputFile{path: "-", open: f.Name(), size: n})
@@ -261,13 +334,18 @@ func registryFileName(name string) bool {
 
 // producer reads files in order, cuts them into records and queues them.
 type producer struct {
-	ctx   context.Context
-	order chan<- *item
-	work  chan<- *item
-	skip  func(path, sha256 string) bool
-	cur   inputFile
-	hash  string
-	count *countingReader
+	ctx    context.Context
+	order  chan<- *item
+	work   chan<- *item
+	skip   func(path, sha256 string) bool
+	budget *byteBudget
+	spool  int64
+	cur    inputFile
+	hash   string
+	format string // "gzip+" or ""
+	kind   string // the container: json, page, jsonl, zip, csv
+	count  *countingReader
+	items  sync.WaitGroup // the current file's records not yet parsed
 }
 
 func (p *producer) send(it *item) bool {
@@ -281,15 +359,25 @@ func (p *producer) send(it *item) bool {
 
 // record queues a raw record for parsing and for ordered delivery.
 func (p *producer) record(raw []byte, pos string, baseLine int, offset int64) bool {
-	it := &item{kind: itemRecord, file: p.cur.path, raw: raw, baseLine: baseLine, offset: offset,
-		src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})}
+	return p.queue(&item{kind: itemRecord, file: p.cur.path, raw: raw, baseLine: baseLine, offset: offset, cost: int64(len(raw)),
+		src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})})
+}
+
+func (p *producer) queue(it *item) bool {
+	if !p.budget.acquire(p.ctx, it.cost) {
+		return false
+	}
+	it.pending = &p.items
+	p.items.Add(1)
 	if !p.send(it) {
+		p.items.Done()
 		return false
 	}
 	select {
 	case p.work <- it:
 		return true
 	case <-p.ctx.Done():
+		p.items.Done()
 		return false
 	}
 }
@@ -315,32 +403,38 @@ func (p *producer) offset() int64 {
 
 // file reads one input file; false means the scan was cancelled.
 func (p *producer) file(f inputFile) bool {
-	p.cur, p.hash, p.count = f, "", nil
+	p.cur, p.hash, p.count, p.format, p.kind = f, "", nil, "", ""
+	if !p.send(&item{kind: itemFileStart, file: f.path}) {
+		return false
+	}
+	done := func(failed bool) bool {
+		return p.send(&item{kind: itemFileDone, file: f.path, offset: f.size, sha: p.hash, format: p.format + p.kind, failed: failed})
+	}
 	h, err := hashFile(p.ctx, f.open)
 	if err != nil {
 		if p.ctx.Err() != nil {
 			return false
 		}
-		return p.fail("", 0, ErrUnreadable, "%v", err)
+		return p.fail("", 0, ErrUnreadable, "%v", err) && done(true)
 	}
 	p.hash = h
 	if p.skip != nil && p.skip(f.path, h) {
-		return p.send(&item{kind: itemFileSkipped, file: f.path, offset: f.size})
-	}
-	if !p.send(&item{kind: itemFileStart, file: f.path}) {
-		return false
+		return p.send(&item{kind: itemFileSkipped, file: f.path, offset: f.size, sha: h})
 	}
 	fh, err := os.Open(f.open)
 	if err != nil {
-		return p.fail("", 0, ErrUnreadable, "%v", err)
+		return p.fail("", 0, ErrUnreadable, "%v", err) && done(true)
 	}
 	defer fh.Close()
 	p.count = &countingReader{r: fh}
-	p.contents(fh, f.path)
+	ok := p.contents(fh, f.path)
+	// Zip entries are inflated by the workers from fh (or a spooled
+	// file): keep it open until every queued record was read.
+	p.items.Wait()
 	if p.ctx.Err() != nil {
 		return false
 	}
-	return p.send(&item{kind: itemFileDone, file: f.path, offset: f.size})
+	return done(!ok)
 }
 
 // contents sniffs the container and reads it. Like the readers below it
@@ -353,6 +447,7 @@ func (p *producer) contents(fh *os.File, name string) bool {
 	}
 	lower := strings.ToLower(name)
 	if n >= 2 && magic[0] == 0x1f && magic[1] == 0x8b {
+		p.format = "gzip+"
 		zr, err := gzip.NewReader(bufio.NewReaderSize(p.count, 256<<10))
 		if err != nil {
 			return p.fatal("", 0, ErrUnreadable, "gzip: %v", err)
@@ -361,21 +456,24 @@ func (p *producer) contents(fh *os.File, name string) bool {
 		inner := strings.TrimSuffix(lower, ".gz")
 		br := bufio.NewReaderSize(zr, 256<<10)
 		if head, _ := br.Peek(4); bytes.Equal(head, []byte("PK\x03\x04")) {
+			p.kind = "zip"
 			return p.gzipZip(br)
 		}
 		return p.stream(br, inner)
 	}
 	if n == 4 && string(magic[:]) == "PK\x03\x04" || strings.HasSuffix(lower, ".zip") {
+		p.kind = "zip"
 		st, err := fh.Stat()
 		if err != nil {
-			return p.fail("", 0, ErrUnreadable, "%v", err)
+			return p.fatal("", 0, ErrUnreadable, "%v", err)
 		}
 		return p.zip(fh, st.Size())
 	}
 	return p.stream(p.count, lower)
 }
 
-// gzipZip unpacks a gzip-compressed zip to a temporary file first.
+// gzipZip unpacks a gzip-compressed zip to a temporary file first (zip
+// needs random access), at most p.spool bytes.
 func (p *producer) gzipZip(r io.Reader) bool {
 	f, err := os.CreateTemp("", "unshelved-zip-*")
 	if err != nil {
@@ -383,14 +481,19 @@ func (p *producer) gzipZip(r io.Reader) bool {
 	}
 	defer os.Remove(f.Name())
 	defer f.Close()
-	n, err := io.Copy(f, &ctxReader{ctx: p.ctx, r: r})
+	n, err := io.Copy(f, io.LimitReader(&ctxReader{ctx: p.ctx, r: r}, p.spool+1))
 	if err != nil {
 		if p.ctx.Err() != nil {
 			return false
 		}
 		return p.fatal("", 0, ErrUnreadable, "unpack gzip: %v", err)
 	}
-	return p.zip(f, n)
+	if n > p.spool {
+		return p.fatal("", 0, ErrTooLarge, "gzip-compressed zip unpacks to more than the %d-byte spool limit; unpack it first", p.spool)
+	}
+	ok := p.zip(f, n)
+	p.items.Wait() // the workers read entries from f
+	return ok
 }
 
 var nctFile = func(base string) bool {
@@ -421,17 +524,9 @@ func (p *producer) zip(ra io.ReaderAt, size int64) bool {
 			}
 			continue
 		}
-		raw, err := readEntry(zf)
-		if err != nil {
-			if !errors.Is(err, ErrTooLarge) {
-				err = errorf(ErrUnreadable, "%v", err)
-			}
-			if !p.send(&item{kind: itemFileError, file: p.cur.path, err: &ParseError{File: p.cur.path, Position: pos, Err: err}}) {
-				return false
-			}
-			continue
-		}
-		if !p.record(raw, pos, 0, off) {
+		// Inflated and parsed by a worker, so that zip input uses every core.
+		if !p.queue(&item{kind: itemRecord, file: p.cur.path, zf: zf, offset: off, cost: int64(zf.UncompressedSize64),
+			src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})}) {
 			return false
 		}
 	}
@@ -465,6 +560,7 @@ func readEntry(zf *zip.File) ([]byte, error) {
 func (p *producer) stream(r io.Reader, lowerName string) bool {
 	switch {
 	case strings.HasSuffix(lowerName, ".csv"):
+		p.kind = "csv"
 		trs, bad, err := ReadNeutralCSV(r, Source{Path: p.cur.path, SHA256: p.hash})
 		if err != nil {
 			return p.fail("", 0, ErrUnreadable, "%v", err)
@@ -481,6 +577,7 @@ func (p *producer) stream(r io.Reader, lowerName string) bool {
 		}
 		return true
 	case strings.HasSuffix(lowerName, ".jsonl") || strings.HasSuffix(lowerName, ".ndjson"):
+		p.kind = "jsonl"
 		return p.lines(r)
 	}
 	return p.values(r)
@@ -542,6 +639,7 @@ func (p *producer) lines(r io.Reader) bool {
 // array of studies, or several of these in a row (JSON lines).
 func (p *producer) values(r io.Reader) bool {
 	s := newSplitter(r)
+	p.kind = "json"
 	var pending *item // a lone study held until we know whether more values follow
 	flush := func(multi bool) bool {
 		if pending == nil {
@@ -572,6 +670,9 @@ func (p *producer) values(r io.Reader) bool {
 		if !flush(true) {
 			return false
 		}
+		if n > 0 && p.kind == "json" {
+			p.kind = "jsonl"
+		}
 		start := s.line
 		switch c {
 		case '{':
@@ -580,6 +681,7 @@ func (p *producer) values(r io.Reader) bool {
 				return false
 			}
 			if isPage {
+				p.kind = "page"
 				continue
 			}
 			pending = &item{raw: raw, baseLine: start, offset: p.offset()}
@@ -738,8 +840,10 @@ type emitter struct {
 	opts      *ScanOptions
 	total     int64
 	emit      func(Trial) error
+	budget    *byteBudget
 	doneBytes int64
 	cur       string
+	file      FileResult        // counts for the current file
 	seen      map[string]string // trial id -> position, within the current file
 }
 
@@ -755,7 +859,9 @@ func (e *emitter) run(ctx context.Context, order <-chan *item) error {
 		if !ok {
 			return nil
 		}
-		if err := e.handle(ctx, it); err != nil {
+		err := e.handle(ctx, it)
+		e.budget.release(it.cost)
+		if err != nil {
 			return err
 		}
 	}
@@ -771,6 +877,7 @@ func (e *emitter) progress(offset int64) {
 
 func (e *emitter) reject(pe *ParseError) error {
 	e.sum.Rejected++
+	e.file.Rejected++
 	e.sum.RejectedByReason[Reason(pe)]++
 	if len(e.sum.Errors) < MaxScanErrors {
 		e.sum.Errors = append(e.sum.Errors, pe)
@@ -781,25 +888,39 @@ func (e *emitter) reject(pe *ParseError) error {
 	return nil
 }
 
+func (e *emitter) fileDone() error {
+	if e.opts.FileDone == nil {
+		return nil
+	}
+	if err := e.opts.FileDone(e.file); err != nil {
+		return fmt.Errorf("file %s: %w", e.file.Path, err)
+	}
+	return nil
+}
+
 func (e *emitter) handle(ctx context.Context, it *item) error {
 	if it.file != e.cur {
 		e.cur, e.seen = it.file, map[string]string{}
+		e.file = FileResult{Path: it.file}
 	}
 	switch it.kind {
 	case itemFileStart:
 		e.sum.Files++
+		e.file = FileResult{Path: it.file}
 		e.progress(0)
 		return nil
 	case itemFileSkipped:
-		e.sum.Files++
 		e.sum.SkippedFiles++
 		e.doneBytes += it.offset
+		e.file.SHA256, e.file.Bytes, e.file.Skipped = it.sha, it.offset, true
 		e.progress(0)
-		return nil
+		return e.fileDone()
 	case itemFileDone:
 		e.doneBytes += it.offset
+		e.sum.Bytes += it.offset
+		e.file.SHA256, e.file.Bytes, e.file.Format, e.file.Failed = it.sha, it.offset, it.format, it.failed
 		e.progress(0)
-		return nil
+		return e.fileDone()
 	case itemFileError:
 		return e.reject(it.err)
 	case itemRecord:
@@ -825,14 +946,68 @@ func (e *emitter) handle(ctx context.Context, it *item) error {
 		return context.Cause(ctx)
 	}
 	if err := e.emit(t); err != nil {
+		// The caller refused this record (e.g. a value its store cannot
+		// hold): count it as rejected and go on.
+		var pe *ParseError
+		if errors.As(err, &pe) {
+			return e.reject(pe)
+		}
 		return fmt.Errorf("emit %s: %w", t.TrialID, err)
 	}
 	e.sum.Records++
+	e.file.Records++
 	if t.HasResults != nil && *t.HasResults {
 		e.sum.WithResults++
+		e.file.WithResults++
 	}
 	e.progress(it.offset)
 	return nil
+}
+
+// byteBudget bounds the bytes of records between the producer and the
+// emitter. One record always fits when nothing else is held.
+type byteBudget struct {
+	mu   sync.Mutex
+	used int64
+	max  int64
+	wake chan struct{}
+}
+
+func newByteBudget(max int64) *byteBudget {
+	return &byteBudget{max: max, wake: make(chan struct{})}
+}
+
+// acquire waits until n bytes fit; false when ctx is done first.
+func (b *byteBudget) acquire(ctx context.Context, n int64) bool {
+	if n <= 0 {
+		return true
+	}
+	for {
+		b.mu.Lock()
+		if b.used == 0 || b.used+n <= b.max {
+			b.used += n
+			b.mu.Unlock()
+			return true
+		}
+		wake := b.wake
+		b.mu.Unlock()
+		select {
+		case <-wake:
+		case <-ctx.Done():
+			return false
+		}
+	}
+}
+
+func (b *byteBudget) release(n int64) {
+	if n <= 0 {
+		return
+	}
+	b.mu.Lock()
+	b.used -= n
+	close(b.wake)
+	b.wake = make(chan struct{})
+	b.mu.Unlock()
 }
 
 func describePos(pos string) string {

@@ -41,18 +41,46 @@ func (db *DB) RecordSource(ctx context.Context, s SourceFile) error {
 	if s.SHA256 == "" {
 		return fmt.Errorf("record source %s: empty sha256", s.Path)
 	}
-	_, err := db.write.ExecContext(ctx, `INSERT INTO source_files
-		(sha256, path, size, format, records, rejected, started_at, finished_at)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?)
-		ON CONFLICT (sha256, path) DO UPDATE SET size = excluded.size, format = excluded.format,
-			records = excluded.records, rejected = excluded.rejected,
-			started_at = excluded.started_at, finished_at = excluded.finished_at`,
+	_, err := db.write.ExecContext(ctx, recordSourceSQL,
 		s.SHA256, s.Path, s.Size, s.Format, s.Records, s.Rejected, timeText(s.Started), timeText(s.Finished))
 	if err != nil {
 		return fmt.Errorf("record source %s: %w", s.Path, err)
 	}
 	return nil
 }
+
+// RecordSource records s inside the writer's open batch (beginning one if
+// needed), so the source row commits in the same transaction as the last
+// of its trials: after a crash either both are stored or neither. Recording
+// the same path and hash again replaces the earlier row.
+func (w *TrialWriter) RecordSource(ctx context.Context, s SourceFile) error {
+	if w.err != nil {
+		return w.err
+	}
+	if w.closed {
+		return ErrWriterClosed
+	}
+	if s.SHA256 == "" {
+		return fmt.Errorf("record source %s: empty sha256", s.Path)
+	}
+	if w.tx == nil {
+		if err := w.begin(ctx); err != nil {
+			return w.fail("", err)
+		}
+	}
+	if _, err := w.tx.ExecContext(ctx, recordSourceSQL,
+		s.SHA256, s.Path, s.Size, s.Format, s.Records, s.Rejected, timeText(s.Started), timeText(s.Finished)); err != nil {
+		return w.fail("", fmt.Errorf("record source %s: %w", s.Path, err))
+	}
+	return nil
+}
+
+const recordSourceSQL = `INSERT INTO source_files
+		(sha256, path, size, format, records, rejected, started_at, finished_at)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?)
+		ON CONFLICT (sha256, path) DO UPDATE SET size = excluded.size, format = excluded.format,
+			records = excluded.records, rejected = excluded.rejected,
+			started_at = excluded.started_at, finished_at = excluded.finished_at`
 
 // Sources returns the recorded source files ordered by finish time, then path.
 func (db *DB) Sources(ctx context.Context) ([]SourceFile, error) {

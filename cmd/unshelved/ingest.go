@@ -110,28 +110,31 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 		Stdin:    g.IO.In,
 		Progress: bar.update,
 	}
-	// Every file is offered here with its hash before it is read; the ones
-	// read are recorded as sources once all their records are committed.
-	type fileSeen struct {
-		path, sha string
-		records   int
-	}
-	var seen []*fileSeen
-	byPath := map[string]*fileSeen{}
-	scanOpts.SkipFile = func(path, sha string) bool {
-		if !opts.Force {
-			if known, err := db.SourceKnown(ctx, sha); err == nil && known {
-				return true
-			}
+	if !opts.Force {
+		// An unchanged file (same SHA-256 as one fully ingested before,
+		// under any path) is skipped before it is read.
+		scanOpts.SkipFile = func(path, sha string) bool {
+			known, err := db.SourceKnown(ctx, sha)
+			return err == nil && known
 		}
-		f := &fileSeen{path: path, sha: sha}
-		seen = append(seen, f)
-		byPath[path] = f
-		return false
+	}
+	started := g.IO.now()
+	// A file read whole without a rejected record is recorded as a source
+	// in the same transaction as its last trial, so that a crash leaves
+	// either both or neither; a file with rejections is read again next
+	// time.
+	scanOpts.FileDone = func(f ingest.FileResult) error {
+		if f.Skipped || f.Failed || f.Rejected > 0 || f.Records == 0 || f.SHA256 == "" {
+			return nil
+		}
+		return w.RecordSource(ctx, store.SourceFile{Path: f.Path, SHA256: f.SHA256, Records: f.Records,
+			Format: sourceFormat(f), Size: f.Bytes, Started: started, Finished: g.IO.now()})
 	}
 	scan, scanErr := ingest.ScanRegistry(ctx, opts.Paths, scanOpts, func(t ingest.Trial) error {
-		if f := byPath[t.Source.Path]; f != nil {
-			f.records++
+		if err := store.ValidateTrial(t); err != nil {
+			// Rejected like a parse error; the batch goes on.
+			return &ingest.ParseError{File: t.Source.Path, Position: t.Source.Position, Record: t.TrialID,
+				Err: fmt.Errorf("%w: %v", ingest.ErrBadValue, err)}
 		}
 		res, err := w.Write(ctx, t)
 		if err != nil {
@@ -149,7 +152,10 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 		}
 		return nil
 	})
-	closeErr := w.Close(ctx)
+	// Commit what was read before a rejection (--strict) or an interrupt,
+	// so that a re-run resumes; after a store failure the writer has
+	// already rolled its batch back and Close returns that failure.
+	closeErr := w.Close(context.WithoutCancel(ctx))
 	bar.finish()
 	sum.Files, sum.SkippedFiles, sum.Records, sum.WithResults = scan.Files, scan.SkippedFiles, scan.Records, scan.WithResults
 	sum.Rejected, sum.Bytes = scan.Rejected, scan.Bytes
@@ -159,35 +165,30 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 	for _, e := range scan.Errors {
 		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", e)
 	}
+	if n := scan.Rejected - len(scan.Errors); n > 0 {
+		fmt.Fprintf(g.IO.ErrOut, "rejected: %d more not listed\n", n)
+	}
 	if scanErr != nil {
 		return sum, scanErr
 	}
 	if closeErr != nil {
 		return sum, closeErr
 	}
-	rejected := map[string]int{}
-	for _, e := range scan.Errors {
-		rejected[e.File]++
-	}
-	for _, f := range seen {
-		if rejected[f.path] > 0 || f.records == 0 {
-			continue // not fully ingested: read it again next time
-		}
-		if err := db.RecordSource(ctx, store.SourceFile{Path: f.path, SHA256: f.sha, Records: f.records, Rejected: rejected[f.path],
-			Format: sourceFormat(f.path), Size: fileSize(f.path), Finished: g.IO.now()}); err != nil {
-			return sum, fmt.Errorf("record source %s: %w", f.path, err)
-		}
-	}
 	return sum, nil
 }
 
-// sourceFormat names a registry file's container from its name.
-func sourceFormat(path string) string {
-	p := strings.ToLower(path)
+// sourceFormat names a registry file's container as read, or from its
+// name when the scan did not say.
+func sourceFormat(f ingest.FileResult) string {
+	if f.Path == "-" {
+		return "stdin"
+	}
+	if f.Format != "" {
+		return f.Format
+	}
+	p := strings.ToLower(f.Path)
 	p = strings.TrimSuffix(p, ".gz")
 	switch {
-	case path == "-":
-		return "stdin"
 	case strings.HasSuffix(p, ".zip"):
 		return "zip"
 	case strings.HasSuffix(p, ".jsonl"), strings.HasSuffix(p, ".ndjson"):
@@ -383,12 +384,4 @@ func csvKind(data []byte) (string, error) {
 
 func lineOf(s ingest.Source) string {
 	return strings.TrimPrefix(s.Position, "line ")
-}
-
-func fileSize(path string) int64 {
-	st, err := os.Stat(path)
-	if err != nil {
-		return 0
-	}
-	return st.Size()
 }
