@@ -1,25 +1,65 @@
 package compare
 
 import (
+	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
+	"sync"
 
 	"unshelved/analysis"
 	"unshelved/ingest"
+	"unshelved/store"
 )
 
-// Options control an audit. The zero value is a 95% level with
-// DerSimonian-Laird random effects and Wald intervals.
+// Random-effects confidence interval methods of Options.CI.
+const (
+	CIHKSJ = "hksj" // Hartung-Knapp-Sidik-Jonkman, t with k-1 df
+	CIWald = "wald" // normal
+)
+
+// DefaultSeed is the bootstrap seed the command line uses when --seed is
+// not given, so that reruns are byte-identical. (Options.Seed is used as
+// given, zero included.)
+const DefaultSeed uint64 = 20260101
+
+// Options control an audit. The zero value is a 95% level with REML
+// random effects, Hartung-Knapp-Sidik-Jonkman intervals and no bootstrap.
 type Options struct {
 	Level float64             // confidence level; zero means 0.95
-	Tau2  analysis.Tau2Method // zero means DerSimonian-Laird
-	HKSJ  bool                // random-effects CI by Hartung-Knapp-Sidik-Jonkman instead of Wald
+	Tau2  analysis.Tau2Method // zero means REML
+	// CI is the random-effects interval: CIHKSJ or CIWald; zero means
+	// CIHKSJ unless HKSJ is false and CI is CIWald.
+	CI string
+	// HKSJ is kept for older callers: true is the same as CI = CIHKSJ.
+	HKSJ bool
 	// SkipBias leaves out the publication-bias battery; SkipSelection only
 	// its selection model (the slowest part).
 	SkipBias, SkipSelection bool
+	// Bootstrap is the number of bootstrap replicates of the shift; zero
+	// turns the bootstrap off.
+	Bootstrap int
+	// Seed seeds the bootstrap. Each review draws from its own PCG stream
+	// keyed by Seed and a hash of its review id, so results do not depend
+	// on the order or the parallelism in which reviews are audited.
+	Seed uint64
+	// Tolerance for outcome-reporting discrepancies; zero means
+	// DefaultDiscrepancy.
+	Discrepancy DiscrepancyTolerance
+}
+
+// ciMethod resolves CI and HKSJ.
+func (o Options) ciMethod() string {
+	if o.HKSJ {
+		return CIHKSJ
+	}
+	if o.CI == CIWald {
+		return CIWald
+	}
+	return CIHKSJ
 }
 
 func (o Options) level() float64 {
@@ -31,7 +71,7 @@ func (o Options) level() float64 {
 
 func (o Options) tau2() analysis.Tau2Method {
 	if o.Tau2 == "" {
-		return analysis.Tau2DL
+		return analysis.Tau2REML
 	}
 	return o.Tau2
 }
@@ -88,6 +128,23 @@ type Shift struct {
 	// ("benefit"), less favourable ("harm") or equal ("none"), given the
 	// review's better direction.
 	Toward string `json:"toward"`
+	// BootCILow and BootCIHigh are the percentile bootstrap interval of
+	// Absolute at the audit's level (see Bootstrap); nil when the bootstrap
+	// is off, nothing was added, or too many replicates failed.
+	BootCILow  *float64 `json:"boot_ci_low"`
+	BootCIHigh *float64 `json:"boot_ci_high"`
+	// BootReplicates is the number of replicates asked for, BootFailed
+	// how many of them could not be pooled (left out of the interval).
+	BootReplicates int `json:"boot_replicates"`
+	BootFailed     int `json:"boot_failed"`
+}
+
+// PIChange is the change of the prediction interval, augmented minus
+// published, of each limit and of the width.
+type PIChange struct {
+	Low   *float64 `json:"low"`
+	High  *float64 `json:"high"`
+	Width *float64 `json:"width"`
 }
 
 // Rejected is a registry link that could not be used, with its reason.
@@ -100,19 +157,39 @@ type Rejected struct {
 
 // ReviewAudit is the result of auditing one review.
 type ReviewAudit struct {
-	ReviewID            string        `json:"review_id"`
-	Title               string        `json:"title"`
-	Measure             string        `json:"measure"`
-	Unit                string        `json:"unit"`
-	Better              string        `json:"better"`
-	KPublished          int           `json:"k_published"`
-	KAdded              int           `json:"k_added"`
-	Published           Pooled        `json:"published"`
-	Augmented           Pooled        `json:"augmented"`
-	Shift               Shift         `json:"shift"`
-	SignificanceChanged bool          `json:"significance_changed"`
-	DirectionChanged    bool          `json:"direction_changed"`
-	Studies             []StudyEffect `json:"studies"`
+	ReviewID            string `json:"review_id"`
+	Title               string `json:"title"`
+	Measure             string `json:"measure"`
+	Unit                string `json:"unit"`
+	Better              string `json:"better"`
+	KPublished          int    `json:"k_published"`
+	KAdded              int    `json:"k_added"`
+	Published           Pooled `json:"published"`
+	Augmented           Pooled `json:"augmented"`
+	Shift               Shift  `json:"shift"`
+	SignificanceChanged bool   `json:"significance_changed"`
+	DirectionChanged    bool   `json:"direction_changed"`
+	// MID is the review's minimal important difference (nil when none is
+	// given); MIDCrossed says whether the favourable magnitude of the
+	// random-effects estimate was at or beyond it in one analysis and not
+	// in the other (nil without a MID or a better direction).
+	MID        *float64 `json:"mid"`
+	MIDCrossed *bool    `json:"mid_crossed"`
+	// ConclusionChanged is significance, direction or MID changed.
+	ConclusionChanged bool `json:"conclusion_changed"`
+	// Tau2Change is augmented minus published tau²; PIChange the change
+	// of the prediction interval.
+	Tau2Change *float64  `json:"tau2_change"`
+	PIChange   *PIChange `json:"pi_change"`
+	// Subgroup is the published vs registry-only subgroup comparison;
+	// nil when nothing was added.
+	Subgroup *Subgroup `json:"subgroup"`
+	// Missing is the registered evidence that cannot be added.
+	Missing Missing `json:"missing"`
+	// Discrepancies compare published values with the registry's for
+	// trials that are both in the review and in the registry.
+	Discrepancies []Discrepancy `json:"discrepancies"`
+	Studies       []StudyEffect `json:"studies"`
 	// Bias is the publication-bias battery on the published studies: what
 	// a reader of the published literature could have seen.
 	Bias     *BiasReport `json:"bias"`
@@ -162,8 +239,20 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 		return links[i].OutcomeIndex < links[j].OutcomeIndex
 	})
 	added := map[string]bool{}
+	var incLinks, missingLinks []ingest.Link
 	for _, l := range links {
-		if l.ReviewID != rv.ReviewID || !strings.EqualFold(l.Decision, "accept") {
+		if l.ReviewID != rv.ReviewID || strings.EqualFold(l.Decision, "reject") {
+			continue
+		}
+		switch l.Class {
+		case ClassIncluded:
+			incLinks = append(incLinks, l)
+			continue
+		case ClassNoResults:
+			missingLinks = append(missingLinks, l)
+			continue
+		}
+		if !strings.EqualFold(l.Decision, "accept") {
 			continue
 		}
 		t, ok := in.Trials[l.TrialID]
@@ -227,7 +316,53 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 	}
 	out.SignificanceChanged = significant(out.Published.Random) != significant(out.Augmented.Random)
 	out.DirectionChanged = sign(out.Published.Random.Estimate) != sign(out.Augmented.Random.Estimate)
+	out.MID = rv.MID
+	out.MIDCrossed = midCrossed(out.Published.Random.Estimate, out.Augmented.Random.Estimate, rv.MID, rv.Better)
+	out.ConclusionChanged = out.SignificanceChanged || out.DirectionChanged || (out.MIDCrossed != nil && *out.MIDCrossed)
+	out.Tau2Change = diffPtr(out.Augmented.Random.Tau2, out.Published.Random.Tau2)
+	if out.Published.PILow != nil && out.Augmented.PILow != nil {
+		out.PIChange = &PIChange{Low: diffPtr(out.Augmented.PILow, out.Published.PILow), High: diffPtr(out.Augmented.PIHigh, out.Published.PIHigh),
+			Width: opt((*out.Augmented.PIHigh - *out.Augmented.PILow) - (*out.Published.PIHigh - *out.Published.PILow))}
+	}
+	if out.KAdded > 0 {
+		sg := subgroupOf(out.Studies[:out.KPublished], out.Studies[out.KPublished:], opts)
+		out.Subgroup = &sg
+		if opts.Bootstrap > 0 {
+			bootstrapShift(&out.Shift, out.Studies, out.KPublished, rv.ReviewID, opts)
+		}
+	}
+	out.Missing = missingOf(rv, out, missingLinks, in.Trials, included, added, opts)
+	out.Discrepancies = discrepanciesOf(rv, out.Studies[:out.KPublished], incLinks, in.Trials, opts)
 	return out, nil
+}
+
+// How AuditReview uses link classes (ingest.Link.Class, set by automatic
+// matching): links with ClassIncluded are compared with the published
+// study (Discrepancies); links with ClassNoResults count as missing
+// evidence (Missing); neither is pooled. Links of any other class, or of
+// none, are pooled when accepted.
+
+// midCrossed reports whether the favourable magnitude of the estimate was
+// at or beyond the MID in one analysis and not in the other:
+//
+//	beyond(x) = dir · x >= MID,  dir = -1 when lower is better, +1 when higher
+//
+// nil when there is no MID, no better direction or a missing estimate.
+func midCrossed(pub, aug, mid *float64, better string) *bool {
+	dir := favourable(better)
+	if mid == nil || dir == 0 || pub == nil || aug == nil {
+		return nil
+	}
+	m := math.Abs(*mid)
+	b := (dir**pub >= m) != (dir**aug >= m)
+	return &b
+}
+
+func diffPtr(a, b *float64) *float64 {
+	if a == nil || b == nil {
+		return nil
+	}
+	return opt(*a - *b)
 }
 
 // reviewPooledSD is the SD that puts a review's mean differences on a
@@ -301,8 +436,9 @@ func pool(studies []StudyEffect, opts Options) (Pooled, error) {
 	r := res.Random
 	p.Random = Estimate{Model: "random", Estimate: opt(r.Estimate), SE: opt(r.SE), CILow: opt(r.CILow), CIHigh: opt(r.CIHigh), P: opt(r.P),
 		Tau2Method: string(r.Method), Tau2: opt(r.Tau2), CIMethod: "wald"}
-	if opts.HKSJ {
-		p.Random.CILow, p.Random.CIHigh, p.Random.CIMethod = opt(r.HKSJLow), opt(r.HKSJHigh), "hksj"
+	// HKSJ needs k >= 2; a single study keeps the Wald interval.
+	if opts.ciMethod() == CIHKSJ && len(studies) >= 2 {
+		p.Random.CILow, p.Random.CIHigh, p.Random.CIMethod = opt(r.HKSJLow), opt(r.HKSJHigh), CIHKSJ
 		p.Random.SE = opt(r.HKSJSE)
 	}
 	p.I2, p.Q = opt(res.Het.I2), opt(res.Het.Q)
@@ -372,4 +508,183 @@ func prefixed(p string, s []string) []string {
 		out[i] = p + x
 	}
 	return out
+}
+
+// ReviewError is a review that could not be audited, with the reason.
+type ReviewError struct {
+	ReviewID string
+	Err      error
+}
+
+func (e *ReviewError) Error() string { return fmt.Sprintf("review %s: %v", e.ReviewID, e.Err) }
+func (e *ReviewError) Unwrap() error { return e.Err }
+
+// AuditAll audits every input with up to workers goroutines (zero or less
+// means 1) and returns the audits in input order, leaving out reviews that
+// failed; their errors come back as *ReviewError, also in input order. The
+// context is checked before each review; when it is cancelled AuditAll
+// returns its error and no audits.
+func AuditAll(ctx context.Context, inputs []AuditInput, opts Options, workers int) ([]ReviewAudit, []error, error) {
+	workers = max(1, min(workers, len(inputs)))
+	results := make([]ReviewAudit, len(inputs))
+	errs := make([]error, len(inputs))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				results[i], errs[i] = AuditReview(inputs[i], opts)
+			}
+		}()
+	}
+	var cancelled error
+	for i := range inputs {
+		if err := ctx.Err(); err != nil {
+			cancelled = err
+			break
+		}
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	if cancelled != nil {
+		return nil, nil, cancelled
+	}
+	var out []ReviewAudit
+	var failed []error
+	for i := range inputs {
+		if errs[i] != nil {
+			failed = append(failed, &ReviewError{ReviewID: inputs[i].Review.ReviewID, Err: errs[i]})
+			continue
+		}
+		out = append(out, results[i])
+	}
+	return out, failed, nil
+}
+
+// LoadAuditInputs reads the named reviews (all when ids is empty) with
+// their studies, links and the linked registry records: the records of
+// accepted links, and of links classed included or no-results that were
+// not rejected (for Discrepancies and Missing).
+func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditInput, error) {
+	reviews, err := selectReviews(ctx, db, ids)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]AuditInput, 0, len(reviews))
+	for _, rv := range reviews {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		in, err := loadInput(ctx, db, rv)
+		if err != nil {
+			return nil, err
+		}
+		for _, l := range in.Links {
+			if strings.EqualFold(l.Decision, "reject") || (l.Class != ClassIncluded && l.Class != ClassNoResults) {
+				continue
+			}
+			if _, ok := in.Trials[l.TrialID]; ok {
+				continue
+			}
+			t, err := db.Trial(ctx, l.TrialID)
+			if errors.Is(err, store.ErrNotFound) {
+				continue
+			}
+			if err != nil {
+				return nil, fmt.Errorf("load trial %s: %w", l.TrialID, err)
+			}
+			in.Trials[l.TrialID] = t
+		}
+		out = append(out, in)
+	}
+	return out, nil
+}
+
+// AuditRun is a stored audit run and what it produced.
+type AuditRun struct {
+	RunID  int64
+	Audits []ReviewAudit
+	Failed []error // *ReviewError per review that could not be audited
+}
+
+// RunAudit audits the named reviews (all when ids is empty) and records
+// the run in the store: StartRun with kind "audit", opts as JSON, version
+// and opts.Seed; each review's audit JSON with SaveRunResult; FinishRun
+// with "complete", "cancelled" when ctx was cancelled (the error is then
+// ctx's), or "failed" on any other error. A run cut short is never marked
+// complete. Reviews that fail on their own (no usable study) do not fail
+// the run; they are listed in Failed.
+func RunAudit(ctx context.Context, db *store.DB, ids []string, opts Options, version string, workers int) (AuditRun, error) {
+	optJSON, err := json.Marshal(opts.record())
+	if err != nil {
+		return AuditRun{}, fmt.Errorf("encode options: %w", err)
+	}
+	runID, err := db.StartRun(ctx, "audit", string(optJSON), version, opts.Seed)
+	if err != nil {
+		return AuditRun{}, err
+	}
+	run := AuditRun{RunID: runID}
+	err = func() error {
+		inputs, err := LoadAuditInputs(ctx, db, ids)
+		if err != nil {
+			return err
+		}
+		run.Audits, run.Failed, err = AuditAll(ctx, inputs, opts, workers)
+		if err != nil {
+			return err
+		}
+		for _, a := range run.Audits {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			b, err := json.Marshal(a)
+			if err != nil {
+				return fmt.Errorf("encode audit of %s: %w", a.ReviewID, err)
+			}
+			if err := db.SaveRunResult(ctx, runID, a.ReviewID, string(b)); err != nil {
+				return err
+			}
+		}
+		return nil
+	}()
+	return run, finishRun(db, runID, ctx, err)
+}
+
+// finishRun records the final status of a run and returns err (or the
+// error of recording it). It uses a fresh context so that a cancelled run
+// is still recorded as cancelled.
+func finishRun(db *store.DB, runID int64, ctx context.Context, err error) error {
+	status := store.RunComplete
+	switch {
+	case err != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) || ctx.Err() != nil):
+		status = store.RunCancelled
+	case err != nil:
+		status = store.RunFailed
+	}
+	if ferr := db.FinishRun(context.WithoutCancel(ctx), runID, status); ferr != nil && err == nil {
+		return ferr
+	}
+	return err
+}
+
+// optionsRecord is Options as stored with a run.
+type optionsRecord struct {
+	Level          float64 `json:"level"`
+	Tau2           string  `json:"tau2"`
+	CI             string  `json:"ci"`
+	Bootstrap      int     `json:"bootstrap"`
+	Seed           uint64  `json:"seed"`
+	SkipBias       bool    `json:"skip_bias"`
+	SkipSelection  bool    `json:"skip_selection"`
+	DiscrepancySD  float64 `json:"discrepancy_sd_units"`
+	DiscrepancyRel float64 `json:"discrepancy_relative"`
+}
+
+func (o Options) record() optionsRecord {
+	d := o.Discrepancy.resolve()
+	return optionsRecord{Level: o.level(), Tau2: string(o.tau2()), CI: o.ciMethod(), Bootstrap: o.Bootstrap, Seed: o.Seed,
+		SkipBias: o.SkipBias, SkipSelection: o.SkipSelection, DiscrepancySD: d.SDUnits, DiscrepancyRel: d.Relative}
 }

@@ -52,7 +52,7 @@ func auditFixture() AuditInput {
 }
 
 func TestAuditReview(t *testing.T) {
-	a, err := AuditReview(auditFixture(), Options{Tau2: analysis.Tau2DL})
+	a, err := AuditReview(auditFixture(), Options{Tau2: analysis.Tau2DL, CI: CIWald})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -138,7 +138,7 @@ func TestAuditReviewSignificanceChange(t *testing.T) {
 		in.Trials[id] = tr
 		in.Links = append(in.Links, ingest.Link{ReviewID: "R2", TrialID: id, TreatGroups: []string{"OG001"}, CtrlGroups: []string{"OG000"}, Decision: "accept"})
 	}
-	a, err := AuditReview(in, Options{Tau2: analysis.Tau2DL})
+	a, err := AuditReview(in, Options{Tau2: analysis.Tau2DL, CI: CIWald})
 	if err != nil {
 		t.Fatal(err)
 	}

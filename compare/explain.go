@@ -1,0 +1,307 @@
+package compare
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"unshelved/analysis"
+	"unshelved/ingest"
+	"unshelved/store"
+)
+
+// DiscrepancyTolerance says when a published value and the registry value
+// of the same trial's outcome disagree. A difference is flagged when it
+// exceeds SDUnits in units of the study's SD (for MD: the published
+// study's pooled SD when it gave arms, else the review's pooled SD; for
+// SMD the difference itself), or when it exceeds Relative (a fraction) of
+// the published effect's magnitude. Zero fields take DefaultDiscrepancy's.
+type DiscrepancyTolerance struct {
+	SDUnits  float64
+	Relative float64
+}
+
+// DefaultDiscrepancy flags differences beyond 0.1 SD units or 10% of the
+// published effect (common practice, no source: a tenth of an SD is well
+// below the usual small-effect size of 0.2, and 10% is beyond rounding of
+// values reported to two significant digits).
+var DefaultDiscrepancy = DiscrepancyTolerance{SDUnits: 0.1, Relative: 0.10}
+
+func (t DiscrepancyTolerance) resolve() DiscrepancyTolerance {
+	if t.SDUnits == 0 {
+		t.SDUnits = DefaultDiscrepancy.SDUnits
+	}
+	if t.Relative == 0 {
+		t.Relative = DefaultDiscrepancy.Relative
+	}
+	return t
+}
+
+// Discrepancy compares one published study with the registry result of the
+// same trial (a link with class "included" naming an outcome and groups).
+// Difference is registry minus published, on the review's measure.
+type Discrepancy struct {
+	Study        string `json:"study"`
+	TrialID      string `json:"trial_id"`
+	OutcomeIndex int    `json:"outcome_index"`
+	OutcomeTitle string `json:"outcome_title"`
+	OutcomeType  string `json:"outcome_type"`
+	// RegistryPrimary says whether the outcome the review used is a
+	// primary outcome of the registry record; PrimaryOutcomes lists the
+	// record's primary outcome titles.
+	RegistryPrimary  bool     `json:"registry_primary"`
+	PrimaryOutcomes  []string `json:"primary_outcomes"`
+	PublishedEffect  *float64 `json:"published_effect"`
+	RegistryEffect   *float64 `json:"registry_effect"`
+	Difference       *float64 `json:"difference"`
+	DifferenceSD     *float64 `json:"difference_sd_units"`
+	RelativePct      *float64 `json:"relative_pct"`
+	Flagged          bool     `json:"flagged"`
+	Reason           string   `json:"reason,omitempty"` // why the registry value could not be computed
+	PublishedStudyIn bool     `json:"published_study_found"`
+}
+
+func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
+	trials map[string]ingest.Trial, opts Options) []Discrepancy {
+	out := []Discrepancy{}
+	tol := opts.Discrepancy.resolve()
+	reviewSD := reviewPooledSD(pub, len(pub))
+	for _, l := range links {
+		if len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0 {
+			continue
+		}
+		t, ok := trials[l.TrialID]
+		if !ok {
+			continue
+		}
+		d := Discrepancy{TrialID: l.TrialID, OutcomeIndex: l.OutcomeIndex, PrimaryOutcomes: []string{}}
+		for _, o := range t.Outcomes {
+			if strings.EqualFold(o.Type, "PRIMARY") {
+				d.PrimaryOutcomes = append(d.PrimaryOutcomes, o.Title)
+			}
+			if o.Index == l.OutcomeIndex {
+				d.OutcomeTitle, d.OutcomeType = o.Title, o.Type
+				d.RegistryPrimary = strings.EqualFold(o.Type, "PRIMARY")
+			}
+		}
+		var ps *StudyEffect
+		for i := range pub {
+			id := strings.ToUpper(strings.TrimSpace(pub[i].TrialID))
+			if id != "" && isIncluded(t, map[string]bool{id: true}) {
+				ps = &pub[i]
+				break
+			}
+		}
+		if ps != nil {
+			d.Study, d.PublishedStudyIn = ps.Study, true
+			d.PublishedEffect = opt(ps.Effect)
+		}
+		e, err := RegistryEffect(rv, t, l)
+		if err != nil {
+			var re *RejectError
+			if errors.As(err, &re) {
+				d.Reason = re.Reason + ": " + re.Detail
+			} else {
+				d.Reason = err.Error()
+			}
+			out = append(out, d)
+			continue
+		}
+		d.RegistryEffect = opt(e.Effect)
+		if ps != nil {
+			diff := e.Effect - ps.Effect
+			d.Difference = opt(diff)
+			sd := 1.0
+			if !strings.EqualFold(rv.Measure, "SMD") {
+				sd = ps.PooledSD
+				if !(sd > 0) {
+					sd = reviewSD
+				}
+			}
+			if sd > 0 {
+				d.DifferenceSD = opt(diff / sd)
+			}
+			if ps.Effect != 0 {
+				d.RelativePct = opt(100 * diff / math.Abs(ps.Effect))
+			}
+			d.Flagged = d.DifferenceSD != nil && math.Abs(*d.DifferenceSD) > tol.SDUnits ||
+				d.RelativePct != nil && math.Abs(*d.RelativePct) > 100*tol.Relative
+		}
+		out = append(out, d)
+	}
+	return out
+}
+
+// Explanation traces one registry trial's use in one review: the record,
+// the outcome and groups used as posted, every conversion and the result
+// or the reason it was not used.
+type Explanation struct {
+	ReviewID string            `json:"review_id"`
+	Measure  string            `json:"measure"`
+	Unit     string            `json:"unit"`
+	Trial    ExplainedRecord   `json:"trial"`
+	Link     ExplainedLink     `json:"link"`
+	Outcome  *ExplainedOutcome `json:"outcome"`
+	// Effect and SE on the review's measure, nil when rejected.
+	Effect        *float64              `json:"effect"`
+	SE            *float64              `json:"se"`
+	ConvertedFrom string                `json:"converted_from,omitempty"`
+	Derivations   []analysis.Derivation `json:"derivations"`
+	Flags         []string              `json:"flags"`
+	Rejected      string                `json:"rejected,omitempty"` // reason: detail
+}
+
+// ExplainedRecord is the registry record's identity and dates.
+type ExplainedRecord struct {
+	TrialID            string `json:"trial_id"`
+	Registry           string `json:"registry"`
+	Title              string `json:"title"`
+	Sponsor            string `json:"sponsor"`
+	SponsorClass       string `json:"sponsor_class"`
+	Status             string `json:"status"`
+	Start              string `json:"start_date"`
+	PrimaryCompletion  string `json:"primary_completion_date"`
+	Completion         string `json:"completion_date"`
+	ResultsFirstPosted string `json:"results_first_posted"`
+	HasResults         *bool  `json:"has_results"`
+	Enrollment         *int   `json:"enrollment"`
+}
+
+// ExplainedLink is the link as stored.
+type ExplainedLink struct {
+	OutcomeIndex int      `json:"outcome_index"`
+	TreatGroups  []string `json:"treat_groups"`
+	CtrlGroups   []string `json:"ctrl_groups"`
+	Flip         bool     `json:"flip"`
+	UnitFrom     string   `json:"unit_from"`
+	Decision     string   `json:"decision"`
+	Class        string   `json:"class"`
+}
+
+// ExplainedOutcome is the outcome measure as posted.
+type ExplainedOutcome struct {
+	Index      int            `json:"index"`
+	Type       string         `json:"type"`
+	Title      string         `json:"title"`
+	TimeFrame  string         `json:"time_frame"`
+	Unit       string         `json:"unit"`
+	Param      string         `json:"param_type"`
+	Dispersion string         `json:"dispersion"`
+	Groups     []ExplainedArm `json:"groups"`
+}
+
+// ExplainedArm is one group's posted values (text as posted).
+type ExplainedArm struct {
+	GroupID string `json:"group_id"`
+	Title   string `json:"title"`
+	Role    string `json:"role"` // experimental, comparator or "" (not used)
+	N       string `json:"n"`
+	Value   string `json:"value"`
+	Spread  string `json:"spread"`
+	Lower   string `json:"lower"`
+	Upper   string `json:"upper"`
+}
+
+// ExplainLink traces the conversion of one link (see Explanation).
+func ExplainLink(rv ingest.Review, t ingest.Trial, l ingest.Link) Explanation {
+	ex := Explanation{ReviewID: rv.ReviewID, Measure: rv.Measure, Unit: rv.Unit, Derivations: []analysis.Derivation{}, Flags: []string{},
+		Trial: ExplainedRecord{TrialID: t.TrialID, Registry: t.Registry, Title: t.BriefTitle, Sponsor: t.LeadSponsor.Name,
+			SponsorClass: t.LeadSponsor.Class, Status: t.OverallStatus, Start: t.StartDate.Text,
+			PrimaryCompletion: t.PrimaryCompletionDate.Text, Completion: t.CompletionDate.Text,
+			ResultsFirstPosted: t.ResultsFirstPosted.Text, HasResults: t.HasResults, Enrollment: t.Enrollment},
+		Link: ExplainedLink{OutcomeIndex: l.OutcomeIndex, TreatGroups: nonNil(l.TreatGroups), CtrlGroups: nonNil(l.CtrlGroups),
+			Flip: l.Flip, UnitFrom: l.UnitFrom, Decision: l.Decision, Class: l.Class}}
+	for i := range t.Outcomes {
+		o := &t.Outcomes[i]
+		if o.Index != l.OutcomeIndex {
+			continue
+		}
+		eo := &ExplainedOutcome{Index: o.Index, Type: o.Type, Title: o.Title, TimeFrame: o.TimeFrame, Unit: o.Unit,
+			Param: o.ParamType, Dispersion: o.DispersionText, Groups: []ExplainedArm{}}
+		role := map[string]string{}
+		for _, g := range l.TreatGroups {
+			role[g] = "experimental"
+		}
+		for _, g := range l.CtrlGroups {
+			role[g] = "comparator"
+		}
+		for _, g := range o.Groups {
+			a := ExplainedArm{GroupID: g.ID, Title: g.Title, Role: role[g.ID]}
+			if len(o.Classes) > 0 {
+				if n, ok := groupN(o, 0, g.ID); ok {
+					a.N = fmt.Sprint(n)
+				}
+				if len(o.Classes[0].Categories) > 0 {
+					for _, m := range o.Classes[0].Categories[0].Measurements {
+						if m.GroupID == g.ID {
+							a.Value, a.Spread, a.Lower, a.Upper = m.Value.Text, m.Spread.Text, m.Lower.Text, m.Upper.Text
+						}
+					}
+				}
+			}
+			eo.Groups = append(eo.Groups, a)
+		}
+		ex.Outcome = eo
+	}
+	e, err := RegistryEffect(rv, t, l)
+	if err != nil {
+		var re *RejectError
+		if errors.As(err, &re) {
+			ex.Rejected = re.Reason + ": " + re.Detail
+		} else {
+			ex.Rejected = err.Error()
+		}
+		return ex
+	}
+	ex.Effect, ex.SE, ex.ConvertedFrom = opt(e.Effect), opt(e.SE), e.ConvertedFrom
+	if e.Derivations != nil {
+		ex.Derivations = e.Derivations
+	}
+	if e.Flags != nil {
+		ex.Flags = e.Flags
+	}
+	return ex
+}
+
+// Explain traces every link of a trial (in one review when reviewID is
+// not empty), in review id order. A trial with no link gives one
+// explanation of the record alone, with Rejected saying so.
+func Explain(ctx context.Context, db *store.DB, trialID, reviewID string) ([]Explanation, error) {
+	t, err := db.Trial(ctx, trialID)
+	if errors.Is(err, store.ErrNotFound) {
+		return nil, fmt.Errorf("trial %q is not in the workspace", trialID)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("load trial %s: %w", trialID, err)
+	}
+	links, err := db.Links(ctx, reviewID)
+	if err != nil {
+		return nil, fmt.Errorf("load links: %w", err)
+	}
+	var out []Explanation
+	reviews := map[string]ingest.Review{}
+	for _, l := range links {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		if !strings.EqualFold(l.TrialID, t.TrialID) {
+			continue
+		}
+		rv, ok := reviews[l.ReviewID]
+		if !ok {
+			if rv, err = db.Review(ctx, l.ReviewID); err != nil {
+				return nil, fmt.Errorf("load review %s: %w", l.ReviewID, err)
+			}
+			reviews[l.ReviewID] = rv
+		}
+		out = append(out, ExplainLink(rv, t, l))
+	}
+	if len(out) == 0 {
+		ex := ExplainLink(ingest.Review{ReviewID: reviewID}, t, ingest.Link{OutcomeIndex: -1})
+		ex.Rejected = "no-link: the trial is not linked to " + map[bool]string{true: "any review", false: "review " + reviewID}[reviewID == ""]
+		out = append(out, ex)
+	}
+	return out, nil
+}
