@@ -4,6 +4,9 @@ import (
 	"bytes"
 	"context"
 	"fmt"
+	"os"
+	"strconv"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -13,16 +16,38 @@ import (
 )
 
 type matchOptions struct {
-	g     *globals
-	Apply string
+	g           *globals
+	Apply       string
+	Links       string
+	Reviews     []string
+	AcceptAbove float64
+	HighestDose bool
 }
 
 func newCmdMatch(g *globals) *cobra.Command {
 	opts := &matchOptions{g: g}
 	cmd := &cobra.Command{
-		Use:   "match --apply FILE",
+		Use:   "match (--links FILE [--review ID] [--accept-above SCORE] | --apply FILE)",
 		Short: "Link reviews to registry trial outcomes",
 		Long: `Link reviews to registry trial outcomes.
+
+--links FILE proposes, for each review (or those named by --review), the
+registry trials that fit it (condition, intervention, a comparator arm of
+the review's kind, randomised, completed before the search date) and,
+within each, the posted outcome measures and groups that fit the review's
+outcome, unit and timepoint. Every candidate trial is classed included
+(already in the review, by registry id or by matching arm data),
+missed-publication (results and a RESULT reference), registry-only
+(results, no RESULT reference) or no-results. The proposals go to the
+workspace and to FILE, a links CSV with one row per candidate outcome, best
+first within each trial and trials by their best score. Set the decision
+column to accept or reject and load the file with --apply. Running again
+keeps the decisions already made.
+
+--accept-above SCORE accepts, for each missed-publication or registry-only
+trial, the best outcome when its score (0 to 1) is above SCORE and it
+converts to the review's measure; it is marked auto-accepted. Failed
+criteria cap a score at 0.5 or less, so 0.7 is a reasonable choice.
 
 --apply FILE loads a links file: CSV with the columns review_id, trial_id,
 outcome_index (0-based position in the record's posted outcome measures),
@@ -34,13 +59,23 @@ Every row is checked against the workspace: the review and the trial must
 be loaded, and the outcome and groups must exist in the record.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if opts.Apply == "" {
-				return flagErrorf("give --apply FILE with the links to load (automatic proposals are not available yet)")
+			switch {
+			case opts.Apply != "" && opts.Links != "":
+				return flagErrorf("give either --links FILE or --apply FILE, not both")
+			case opts.Apply == "" && opts.Links == "":
+				return flagErrorf("give --links FILE to write proposals, or --apply FILE to load decisions")
+			}
+			if cmd.Flags().Changed("accept-above") && !(opts.AcceptAbove > 0 && opts.AcceptAbove < 1) {
+				return flagErrorf("invalid --accept-above %v: give a score between 0 and 1", opts.AcceptAbove)
 			}
 			return matchRun(cmd, opts)
 		},
 	}
 	cmd.Flags().StringVar(&opts.Apply, "apply", "", "links CSV file to load (- for stdin)")
+	cmd.Flags().StringVar(&opts.Links, "links", "", "links CSV file to write the proposals to (- for stdout)")
+	cmd.Flags().StringSliceVar(&opts.Reviews, "review", nil, "review id to match (repeat or join with commas; default all)")
+	cmd.Flags().Float64Var(&opts.AcceptAbove, "accept-above", 0, "accept automatically the best outcome per trial scoring above this")
+	cmd.Flags().BoolVar(&opts.HighestDose, "highest-dose", false, "keep only the highest dose instead of combining experimental groups")
 	return cmd
 }
 
@@ -51,7 +86,90 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 		return err
 	}
 	defer db.Close()
-	return applyLinksFile(cmd.Context(), g, db, opts.Apply)
+	if opts.Apply != "" {
+		return applyLinksFile(cmd.Context(), g, db, opts.Apply)
+	}
+	return proposeLinks(cmd.Context(), g, db, opts)
+}
+
+// proposeLinks runs automatic matching, writes the links file and prints
+// the per-review summary.
+func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOptions) error {
+	rep, err := compare.Match(ctx, db, compare.MatchOptions{
+		ReviewIDs:   opts.Reviews,
+		AcceptAbove: opts.AcceptAbove,
+		HighestDose: opts.HighestDose,
+		Save:        true,
+		Progress: func(id string, done, total int) {
+			g.progressf("matched %s (%d/%d)", id, done, total)
+		},
+	})
+	if err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	if err := writeCSV(&buf, linkColumns(), linkRows(rep)); err != nil {
+		return err
+	}
+	if opts.Links == "-" {
+		_, err = g.IO.Out.Write(buf.Bytes())
+		return err
+	}
+	if err := os.WriteFile(opts.Links, buf.Bytes(), 0o644); err != nil {
+		return fmt.Errorf("write links file: %w", err)
+	}
+	g.progressf("searched %d registry trial(s); wrote %s", rep.TrialsIndexed, opts.Links)
+	return render(g.IO.Out, g.Format, rep, matchGrid(rep))
+}
+
+// linkColumns returns the links file's columns; --apply reads the same file.
+func linkColumns() []string {
+	return []string{"review_id", "trial_id", "class", "outcome_index", "outcome_title", "time_frame",
+		"treat_groups", "ctrl_groups", "flip", "unit_from", "score", "reasons", "decision"}
+}
+
+// linkRows lists one row per proposed outcome, best first within each
+// trial and trials by best score; trials without a proposed outcome get
+// one row with empty outcome columns.
+func linkRows(rep compare.MatchReport) [][]string {
+	var rows [][]string
+	for _, rp := range rep.Reviews {
+		for _, tp := range rp.Trials {
+			if len(tp.Outcomes) == 0 {
+				rows = append(rows, []string{rp.ReviewID, tp.TrialID, tp.Class, "", "", "", "", "", "", "",
+					full(tp.Score), strings.Join(tp.Reasons, "; "), ""})
+				continue
+			}
+			for _, op := range tp.Outcomes {
+				reasons := append(append([]string(nil), tp.Reasons...), op.Reasons...)
+				rows = append(rows, []string{rp.ReviewID, tp.TrialID, tp.Class, strconv.Itoa(op.OutcomeIndex),
+					op.Title, op.TimeFrame, strings.Join(op.TreatGroups, ";"), strings.Join(op.CtrlGroups, ";"),
+					yesNo(op.Flip), op.UnitFrom, full(op.Score), strings.Join(reasons, "; "), op.Decision})
+			}
+		}
+	}
+	return rows
+}
+
+// matchGrid is the per-review summary: candidates per class, proposed
+// outcomes and automatic acceptances.
+func matchGrid(rep compare.MatchReport) grid {
+	cols := []string{"review_id", "examined", "excluded", "included", "missed_publication", "registry_only",
+		"no_results", "no_results_enrollment", "proposed_outcomes", "matched", "converted", "auto_accepted"}
+	var rows [][]string
+	for _, rp := range rep.Reviews {
+		f := rp.Flow
+		rows = append(rows, []string{rp.ReviewID, strconv.Itoa(f.Examined), strconv.Itoa(f.Excluded),
+			strconv.Itoa(f.Included), strconv.Itoa(f.MissedPublication), strconv.Itoa(f.RegistryOnly),
+			strconv.Itoa(f.NoResults), strconv.Itoa(f.NoResultsEnrollment), strconv.Itoa(f.ProposedOutcomes),
+			strconv.Itoa(f.Matched), strconv.Itoa(f.Converted), strconv.Itoa(f.AutoAccepted)})
+	}
+	return grid{
+		Header: []string{"review", "examined", "excluded", "included", "missed pub.", "registry-only",
+			"no results", "no-results n", "outcomes", "matched", "converted", "auto-accepted"},
+		Table: rows, Columns: cols, CSV: rows,
+		Notes: []string{fmt.Sprintf("matched: best outcome scores above %g; examined: trials found by the condition and intervention search", compare.DefaultAcceptAbove)},
+	}
 }
 
 // applyLinksFile loads a links CSV into the workspace, rejecting rows that
