@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"fmt"
 	"testing"
 
 	"unshelved/compare/internal/corpus"
@@ -96,7 +97,13 @@ func (w *corpusWorld) truth() map[pairKey]truthLink {
 // reviews and 360 trials with known truth (seeded, invented), plus 3000
 // background trials that fit no review.
 func TestProposeCorpus(t *testing.T) {
-	w := newCorpusWorld(t, corpus.Settings{Reviews: 20, Background: 3000, Seed: 1})
+	for _, seed := range []uint64{1, 2, 3, 4, 5} {
+		t.Run(fmt.Sprint("seed ", seed), func(t *testing.T) { checkCorpus(t, seed) })
+	}
+}
+
+func checkCorpus(t *testing.T, seed uint64) {
+	w := newCorpusWorld(t, corpus.Settings{Reviews: 20, Background: 3000, Seed: seed})
 	if n := len(w.c.Trials); n < 300 {
 		t.Fatalf("corpus has %d trials, want at least 300", n)
 	}

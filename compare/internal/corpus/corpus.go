@@ -281,6 +281,9 @@ func buildTrial(r *rand.Rand, g *review, id, kind string) (ingest.Trial, Truth) 
 	if g.glucose {
 		main.desc = "Fasting plasma glucose measured centrally."
 	}
+	if r.IntN(4) == 0 {
+		main.desc = "" // many records post no description
+	}
 	decoy := main
 	decoy.title = fmt.Sprintf("%s at Week %d", name, offWeek)
 	decoy.timeFrame = fmt.Sprintf("Week %d", offWeek)
@@ -436,9 +439,10 @@ func (sp outcomeSpec) build(r *rand.Rand, index int, groups []groupSpec, ns []in
 	if sp.unit == "mg/dL" {
 		scale = 18.016
 	}
+	tag := []string{"", "", "", " (FAS)", " (ITT)"}[r.IntN(5)]
 	for i, gs := range groups {
 		gid := fmt.Sprintf("OG%03d", i)
-		o.Groups = append(o.Groups, ingest.Group{ID: gid, Title: gs.title, Description: gs.desc})
+		o.Groups = append(o.Groups, ingest.Group{ID: gid, Title: gs.title + tag, Description: gs.desc})
 		d.Counts = append(d.Counts, ingest.Count{GroupID: gid, Value: num(float64(ns[i]), 0)})
 		switch sp.param {
 		case "COUNT_OF_PARTICIPANTS":
