@@ -30,6 +30,12 @@ type ScanOptions struct {
 	// SkipFile is asked once per input file with its hex SHA-256, before the
 	// file is parsed; true skips it (an unchanged file). nil never skips.
 	SkipFile func(path, sha256 string) bool
+	// KnownContent, when set, is asked from the parsing goroutines (so it
+	// must be safe for concurrent use) with each record's ContentHash
+	// before the record is decoded. known true means a trial with exactly
+	// this content is stored: the record is counted (Records, Unchanged,
+	// and WithResults from hasResults) but not decoded or emitted.
+	KnownContent func(contentHash string) (known, hasResults bool)
 	// FileDone is called from the emitting goroutine once per input file
 	// (skipped ones too), after emit has been called for its last record.
 	// A non-nil error stops the scan and is returned. nil is not called.
@@ -59,7 +65,7 @@ type FileResult struct {
 	SHA256      string // hex SHA-256 of the file's bytes; "" when it could not be read
 	Format      string // container read: json, page, jsonl, zip, csv, with a "gzip+" prefix when compressed
 	Bytes       int64  // size of the file
-	Records     int    // trials passed to emit
+	Records     int    // trials passed to emit or recognised as unchanged
 	WithResults int    // of those, with hasResults true
 	Rejected    int    // records (or the file itself) rejected
 	Skipped     bool   // SkipFile said so; nothing was read
@@ -82,6 +88,7 @@ type ProgressEvent struct {
 // and files (at most MaxScanErrors of them; RejectedByReason counts all).
 type ScanSummary struct {
 	Files, SkippedFiles, Records, WithResults, Rejected int
+	Unchanged                                          int // records recognised by KnownContent, not emitted
 	Bytes                                               int64
 	RejectedByReason                                    map[string]int
 	Errors                                              []*ParseError
@@ -150,7 +157,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 		defer wg.Done()
 		defer close(order)
 		defer close(work)
-		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, budget: budget, spool: spool}
+		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, known: opts.KnownContent, budget: budget, spool: spool}
 		for _, pe := range listErrs {
 			if !p.send(&item{kind: itemFileError, err: pe, file: pe.File}) {
 				return
@@ -203,6 +210,9 @@ type item struct {
 	done     chan struct{}
 	trial    Trial
 	err      *ParseError
+	known    func(string) (bool, bool)
+	same     bool // the content is stored already (KnownContent)
+	results  bool // with same: the stored trial has results
 }
 
 func (it *item) parse(ctx context.Context) {
@@ -227,7 +237,20 @@ func (it *item) parse(ctx context.Context) {
 		}
 		it.raw = raw
 	}
-	t, err := ParseStudy(it.raw, it.src)
+	var hash string
+	if it.known != nil && len(it.raw) <= MaxRecordBytes {
+		hash = ContentHash(it.raw)
+		if same, res := it.known(hash); same {
+			it.same, it.results = true, res
+			it.trial.TrialID, it.trial.Registry, it.trial.Source = sniffNCT(string(it.raw)), RegistryCTGov, it.src
+			it.raw = nil
+			return
+		}
+	}
+	t, err := parseStudy(it.raw, it.src, hash == "")
+	if err == nil && hash != "" {
+		t.ContentHash = hash
+	}
 	it.raw = nil
 	if err != nil {
 		pe := err.(*ParseError)
@@ -338,6 +361,7 @@ type producer struct {
 	order  chan<- *item
 	work   chan<- *item
 	skip   func(path, sha256 string) bool
+	known  func(string) (bool, bool)
 	budget *byteBudget
 	spool  int64
 	cur    inputFile
@@ -359,7 +383,7 @@ func (p *producer) send(it *item) bool {
 
 // record queues a raw record for parsing and for ordered delivery.
 func (p *producer) record(raw []byte, pos string, baseLine int, offset int64) bool {
-	return p.queue(&item{kind: itemRecord, file: p.cur.path, raw: raw, baseLine: baseLine, offset: offset, cost: int64(len(raw)),
+	return p.queue(&item{kind: itemRecord, file: p.cur.path, raw: raw, baseLine: baseLine, offset: offset, cost: int64(len(raw)), known: p.known,
 		src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})})
 }
 
@@ -525,7 +549,7 @@ func (p *producer) zip(ra io.ReaderAt, size int64) bool {
 			continue
 		}
 		// Inflated and parsed by a worker, so that zip input uses every core.
-		if !p.queue(&item{kind: itemRecord, file: p.cur.path, zf: zf, offset: off, cost: int64(zf.UncompressedSize64),
+		if !p.queue(&item{kind: itemRecord, file: p.cur.path, zf: zf, offset: off, cost: int64(zf.UncompressedSize64), known: p.known,
 			src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})}) {
 			return false
 		}
@@ -936,7 +960,7 @@ func (e *emitter) handle(ctx context.Context, it *item) error {
 	t := it.trial
 	it.trial = Trial{}
 	key := t.Registry + " " + t.TrialID
-	if first, dup := e.seen[key]; dup {
+	if first, dup := e.seen[key]; dup && t.TrialID != "" {
 		pe := &ParseError{File: t.Source.Path, Line: it.baseLine, Position: t.Source.Position, Record: t.TrialID,
 			Field: "protocolSection.identificationModule.nctId", Err: errorf(ErrDuplicateID, "also at %s", describePos(first))}
 		return e.reject(pe)
@@ -944,6 +968,17 @@ func (e *emitter) handle(ctx context.Context, it *item) error {
 	e.seen[key] = t.Source.Position
 	if err := ctx.Err(); err != nil {
 		return context.Cause(ctx)
+	}
+	if it.same {
+		e.sum.Records++
+		e.sum.Unchanged++
+		e.file.Records++
+		if it.results {
+			e.sum.WithResults++
+			e.file.WithResults++
+		}
+		e.progress(it.offset)
+		return nil
 	}
 	if err := e.emit(t); err != nil {
 		// The caller refused this record (e.g. a value its store cannot

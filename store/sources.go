@@ -111,3 +111,22 @@ func sources(ctx context.Context, q querier) ([]SourceFile, error) {
 	}
 	return out, nil
 }
+
+// ContentHashes calls fn with the content hash and has-results flag of
+// every stored trial, so that a scan can recognise unchanged records
+// before decoding them.
+func (db *DB) ContentHashes(ctx context.Context, fn func(contentHash string, hasResults bool)) error {
+	err := eachRow(ctx, db.read, `SELECT content_hash, coalesce(has_results, 0) FROM trials`, nil, func(r *sql.Rows) error {
+		var h string
+		var res bool
+		if err := r.Scan(&h, &res); err != nil {
+			return err
+		}
+		fn(h, res)
+		return nil
+	})
+	if err != nil {
+		return fmt.Errorf("list content hashes: %w", err)
+	}
+	return nil
+}

@@ -135,7 +135,11 @@ func (w *TrialWriter) Write(ctx context.Context, t ingest.Trial) (WriteOutcome, 
 			return 0, w.fail(t.TrialID, err)
 		}
 	}
-	out, err := w.upsert(ctx, t)
+	// ctx was checked above, once per trial. The statements run under a
+	// context that cannot be cancelled: the driver would otherwise start a
+	// goroutine per statement to watch it, which costs more than the
+	// insert itself.
+	out, err := w.upsert(context.WithoutCancel(ctx), t)
 	if err != nil {
 		return 0, w.fail(t.TrialID, err)
 	}
@@ -177,6 +181,9 @@ func (w *TrialWriter) Close(ctx context.Context) error {
 }
 
 func (w *TrialWriter) begin(ctx context.Context) error {
+	// Not cancellable either: database/sql would roll the batch back on
+	// its own when ctx ends, while Flush and Close decide that here.
+	ctx = context.WithoutCancel(ctx)
 	tx, err := w.db.write.BeginTx(ctx, nil)
 	if err != nil {
 		return fmt.Errorf("begin batch: %w", err)

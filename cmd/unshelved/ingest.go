@@ -118,6 +118,28 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 			return err == nil && known
 		}
 	}
+	// Records whose content is stored already are recognised by their
+	// hash before decoding: a re-download of the registry, where most
+	// records did not change, costs little more than hashing it.
+	known := map[[32]byte]bool{}
+	if err := db.ContentHashes(ctx, func(h string, res bool) {
+		var k [32]byte
+		if n, err := hex.Decode(k[:], []byte(h)); err == nil && n == 32 {
+			known[k] = res
+		}
+	}); err != nil {
+		return sum, err
+	}
+	if len(known) > 0 {
+		scanOpts.KnownContent = func(h string) (bool, bool) {
+			var k [32]byte
+			if n, err := hex.Decode(k[:], []byte(h)); err != nil || n != 32 {
+				return false, false
+			}
+			res, ok := known[k]
+			return ok, res
+		}
+	}
 	started := g.IO.now()
 	// A file read whole without a rejected record is recorded as a source
 	// in the same transaction as its last trial, so that a crash leaves
@@ -159,6 +181,7 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 	bar.finish()
 	sum.Files, sum.SkippedFiles, sum.Records, sum.WithResults = scan.Files, scan.SkippedFiles, scan.Records, scan.WithResults
 	sum.Rejected, sum.Bytes = scan.Rejected, scan.Bytes
+	sum.Unchanged += scan.Unchanged
 	for k, v := range scan.RejectedByReason {
 		sum.RejectedByReason[k] = v
 	}
