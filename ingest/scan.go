@@ -88,7 +88,7 @@ type ProgressEvent struct {
 // and files (at most MaxScanErrors of them; RejectedByReason counts all).
 type ScanSummary struct {
 	Files, SkippedFiles, Records, WithResults, Rejected int
-	Unchanged                                          int // records recognised by KnownContent, not emitted
+	Unchanged                                           int // records recognised by KnownContent, not emitted
 	Bytes                                               int64
 	RejectedByReason                                    map[string]int
 	Errors                                              []*ParseError
