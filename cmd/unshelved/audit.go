@@ -2,6 +2,8 @@ package main
 
 import (
 	"fmt"
+	"runtime"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -10,11 +12,16 @@ import (
 )
 
 type auditOptions struct {
-	g       *globals
-	Reviews []string
-	Tau2    string
-	HKSJ    bool
-	Level   float64
+	g         *globals
+	Reviews   []string
+	Tau2      string
+	CI        string
+	HKSJ      bool
+	Level     float64
+	Bootstrap int
+	Seed      uint64
+	Workers   int
+	Explain   string
 }
 
 func newCmdAudit(g *globals) *cobra.Command {
@@ -27,24 +34,63 @@ accepted registry-only trials (fixed effect and random effects), and report
 the shift of the random-effects estimate: absolute (augmented - published),
 relative (percent of the published estimate), inflation (percent by which
 the published estimate overstates the augmented one) and in units of the
-published-only standard error, with whether significance or direction
-changed.`,
+published-only standard error, with whether significance, direction or
+the review's minimal important difference changed; the published vs
+registry-only subgroup test; a seeded bootstrap interval of the shift;
+registered trials without results and a null-imputation what-if; and
+published vs registry values of trials in both.
+
+Every run is stored in the workspace (kind audit) with its options, the
+tool version and the seed. --explain TRIAL shows how one registry trial's
+numbers were derived instead (not stored).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if err := checkTau2(opts.Tau2); err != nil {
 				return err
 			}
+			if opts.HKSJ {
+				if cmd.Flags().Changed("ci") && opts.CI != compare.CIHKSJ {
+					return flagErrorf("--hksj contradicts --ci %s", opts.CI)
+				}
+				opts.CI = compare.CIHKSJ
+			}
+			if opts.CI != compare.CIHKSJ && opts.CI != compare.CIWald {
+				return flagErrorf("invalid --ci %q: valid values are hksj, wald", opts.CI)
+			}
 			if !(opts.Level > 0 && opts.Level < 1) {
 				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
+			}
+			if opts.Bootstrap < 0 {
+				return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", opts.Bootstrap)
+			}
+			if opts.Explain != "" {
+				if len(opts.Reviews) > 1 {
+					return flagErrorf("--explain takes at most one --review")
+				}
+				return explainRun(cmd, opts)
 			}
 			return auditRun(cmd, opts)
 		},
 	}
+	addAuditFlags(cmd, opts)
 	cmd.Flags().StringSliceVar(&opts.Reviews, "review", nil, "review id to audit (repeatable; default all)")
-	cmd.Flags().StringVar(&opts.Tau2, "tau2", "dl", "tau² estimator for random effects: dl, reml or pm")
-	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "random-effects interval by Hartung-Knapp-Sidik-Jonkman instead of Wald")
-	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
+	cmd.Flags().StringVar(&opts.Explain, "explain", "", "show the registry record, outcome, arms and every conversion behind one trial's numbers")
 	return cmd
+}
+
+// addAuditFlags adds the flags shared by audit and summary.
+func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
+	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator for random effects: reml, dl or pm")
+	cmd.Flags().StringVar(&opts.CI, "ci", compare.CIHKSJ, "random-effects interval: hksj (Hartung-Knapp-Sidik-Jonkman) or wald")
+	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
+	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
+	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", 1000, "bootstrap replicates of the shift (0 turns it off)")
+	cmd.Flags().Uint64Var(&opts.Seed, "seed", compare.DefaultSeed, "seed of the bootstrap (stored with the run)")
+	cmd.Flags().IntVar(&opts.Workers, "workers", runtime.GOMAXPROCS(0), "reviews audited in parallel (results stay in review order)")
+}
+
+func (o *auditOptions) compareOptions() compare.Options {
+	return compare.Options{Level: o.Level, Tau2: analysis.Tau2Method(o.Tau2), CI: o.CI, Bootstrap: o.Bootstrap, Seed: o.Seed}
 }
 
 func checkTau2(m string) error {
@@ -62,12 +108,15 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 		return err
 	}
 	defer db.Close()
-	audits, err := compare.Audit(cmd.Context(), db, opts.Reviews, compare.Options{
-		Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), HKSJ: opts.HKSJ,
-	})
+	run, err := compare.RunAudit(cmd.Context(), db, opts.Reviews, opts.compareOptions(), version, opts.Workers)
 	if err != nil {
 		return err
 	}
+	audits := run.Audits
+	if audits == nil {
+		audits = []compare.ReviewAudit{}
+	}
+	g.progressf("audit: run %d stored (seed %d)", run.RunID, opts.Seed)
 	for _, a := range audits {
 		for _, w := range a.Warnings {
 			g.progressf("%s: %s", a.ReviewID, w)
@@ -76,7 +125,16 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 			g.progressf("%s: link %s outcome %d not used (%s): %s", a.ReviewID, r.TrialID, r.OutcomeIndex, r.Reason, r.Detail)
 		}
 	}
-	return render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level))
+	for _, e := range run.Failed {
+		g.progressf("%v", e)
+	}
+	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level)); err != nil {
+		return err
+	}
+	if len(run.Failed) > 0 {
+		return &rejectedError{n: len(run.Failed)}
+	}
+	return nil
 }
 
 var auditColumns = []string{
@@ -88,6 +146,11 @@ var auditColumns = []string{
 	"tau2_method", "ci_method",
 	"shift_absolute", "shift_relative", "shift_inflation", "shift_published_se_units", "shift_toward",
 	"significance_changed", "direction_changed",
+	"shift_sd_units", "shift_boot_ci_low", "shift_boot_ci_high", "shift_boot_failed",
+	"subgroup_difference", "subgroup_se", "subgroup_ci_low", "subgroup_ci_high", "subgroup_q_between", "subgroup_p",
+	"mid", "mid_crossed", "conclusion_changed", "tau2_change", "pi_width_change",
+	"missing_k", "missing_enrollment", "missing_share", "what_if_estimate", "what_if_significance_changed",
+	"discrepancies_flagged",
 }
 
 func auditGrid(audits []compare.ReviewAudit, level float64) grid {
@@ -102,7 +165,7 @@ func auditGrid(audits []compare.ReviewAudit, level float64) grid {
 				roundPtr(a.Shift.PublishedSEUnits, 2), yesNo(a.SignificanceChanged), yesNo(a.DirectionChanged)},
 		)
 		p, q := a.Published, a.Augmented
-		g.CSV = append(g.CSV, []string{
+		g.CSV = append(g.CSV, append([]string{
 			a.ReviewID, a.Measure, a.Unit, fmt.Sprint(a.KPublished), fmt.Sprint(a.KAdded),
 			fullPtr(p.Fixed.Estimate), fullPtr(p.Fixed.SE), fullPtr(p.Fixed.CILow), fullPtr(p.Fixed.CIHigh),
 			fullPtr(p.Random.Estimate), fullPtr(p.Random.SE), fullPtr(p.Random.CILow), fullPtr(p.Random.CIHigh), fullPtr(p.Random.Tau2),
@@ -111,12 +174,13 @@ func auditGrid(audits []compare.ReviewAudit, level float64) grid {
 			p.Random.Tau2Method, p.Random.CIMethod,
 			fullPtr(a.Shift.Absolute), fullPtr(a.Shift.Relative), fullPtr(a.Shift.Inflation), fullPtr(a.Shift.PublishedSEUnits), a.Shift.Toward,
 			fmt.Sprint(a.SignificanceChanged), fmt.Sprint(a.DirectionChanged),
-		})
+		}, auditExtraCSV(a)...))
 	}
 	g.Notes = append([]string{
 		fmt.Sprintf("Estimates with %g%% confidence intervals on each review's measure (MD in the review's unit, SMD as Hedges' g).", 100*level),
 		"Shift = augmented - published random-effects estimate; relative = 100 shift / published; inflation = 100 (published - augmented) / augmented.",
 	}, cautions...)
+	g.Extra = append(g.Extra, auditDetailTable(audits, level))
 	return g
 }
 
@@ -142,4 +206,193 @@ var cautions = []string{
 	"- Registry results are posted by sponsors and are not peer reviewed; check each added trial's record.",
 	"- A shift, or funnel-plot asymmetry, is not proof of publication bias: heterogeneity, chance and small-study effects can cause it.",
 	"- Defer to the review authors, their GRADE assessment and local practice before drawing clinical or editorial conclusions.",
+}
+
+// auditExtraCSV gives the audit CSV columns added after direction_changed.
+func auditExtraCSV(a compare.ReviewAudit) []string {
+	var sg compare.Subgroup
+	if a.Subgroup != nil {
+		sg = *a.Subgroup
+	}
+	midCrossed := ""
+	if a.MIDCrossed != nil {
+		midCrossed = fmt.Sprint(*a.MIDCrossed)
+	}
+	var piWidth *float64
+	if a.PIChange != nil {
+		piWidth = a.PIChange.Width
+	}
+	var wiEst *float64
+	wiChanged := ""
+	if w := a.Missing.WhatIf; w != nil && w.Estimate != nil {
+		wiEst, wiChanged = w.Estimate, fmt.Sprint(w.SignificanceChanged)
+	}
+	flagged := 0
+	for _, d := range a.Discrepancies {
+		if d.Flagged {
+			flagged++
+		}
+	}
+	return []string{
+		fullPtr(a.Shift.SDUnits), fullPtr(a.Shift.BootCILow), fullPtr(a.Shift.BootCIHigh), fmt.Sprint(a.Shift.BootFailed),
+		fullPtr(sg.Difference), fullPtr(sg.SE), fullPtr(sg.CILow), fullPtr(sg.CIHigh), fullPtr(sg.QBetween), fullPtr(sg.P),
+		fullPtr(a.MID), midCrossed, fmt.Sprint(a.ConclusionChanged), fullPtr(a.Tau2Change), fullPtr(piWidth),
+		fmt.Sprint(a.Missing.K), fmt.Sprint(a.Missing.Enrollment), fullPtr(a.Missing.Share), fullPtr(wiEst), wiChanged,
+		fmt.Sprint(flagged),
+	}
+}
+
+// auditDetailTable is the second table for people: the shift's
+// uncertainty, conclusion changes and what is missing.
+func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
+	t := titled{Title: "Shift uncertainty, conclusions and missing evidence",
+		Header: []string{"review", "shift [bootstrap CI]", "registry - published [CI]", "Q-between p", "MID crossed", "conclusion changed", "tau² change", "missing trials (enrolment, share)", "null what-if", "discrepancies"}}
+	for _, a := range audits {
+		boot := roundPtr(a.Shift.Absolute, 2)
+		if a.Shift.BootCILow != nil {
+			boot += fmt.Sprintf(" [%s, %s]", roundPtr(a.Shift.BootCILow, 2), roundPtr(a.Shift.BootCIHigh, 2))
+		}
+		if a.Shift.BootFailed > 0 {
+			boot += fmt.Sprintf(" (%d failed)", a.Shift.BootFailed)
+		}
+		sub, subP := "-", "-"
+		if sg := a.Subgroup; sg != nil && sg.Difference != nil {
+			sub = fmt.Sprintf("%s [%s, %s]", roundPtr(sg.Difference, 2), roundPtr(sg.CILow, 2), roundPtr(sg.CIHigh, 2))
+			subP = pPtr(sg.P)
+		}
+		mid := "-"
+		if a.MIDCrossed != nil {
+			mid = yesNo(*a.MIDCrossed)
+		}
+		missing := "0"
+		if a.Missing.K > 0 {
+			share := "-"
+			if a.Missing.Share != nil {
+				share = round(100**a.Missing.Share, 0) + "%"
+			}
+			missing = fmt.Sprintf("%d (%d, %s)", a.Missing.K, a.Missing.Enrollment, share)
+		}
+		whatIf := "-"
+		if w := a.Missing.WhatIf; w != nil && w.Estimate != nil {
+			whatIf = fmt.Sprintf("%s [%s, %s]", roundPtr(w.Estimate, 2), roundPtr(w.CILow, 2), roundPtr(w.CIHigh, 2))
+			if w.SignificanceChanged {
+				whatIf += " sig. changes"
+			}
+		}
+		flagged := 0
+		for _, d := range a.Discrepancies {
+			if d.Flagged {
+				flagged++
+			}
+		}
+		t.Rows = append(t.Rows, []string{a.ReviewID, boot, sub, subP, mid, yesNo(a.ConclusionChanged), roundPtr(a.Tau2Change, 3),
+			missing, whatIf, fmt.Sprintf("%d of %d flagged", flagged, len(a.Discrepancies))})
+	}
+	t.Notes = []string{
+		fmt.Sprintf("Bootstrap: percentile %g%% interval, studies resampled within the published and registry subgroups.", 100*level),
+		"Registry - published: each subgroup pooled with its own tau²; Q-between with 1 df. Same sign as the shift.",
+		"Missing trials: linked as eligible with no results posted; share of all randomized participants counted. Null what-if: each imputed as effect 0.",
+		"Discrepancies: registry vs published value of the same trial beyond 0.1 SD or 10%; see --format json.",
+	}
+	return t
+}
+
+// explainRun shows the derivation of one trial's numbers.
+func explainRun(cmd *cobra.Command, opts *auditOptions) error {
+	g := opts.g
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	review := ""
+	if len(opts.Reviews) == 1 {
+		review = opts.Reviews[0]
+	}
+	exps, err := compare.Explain(cmd.Context(), db, opts.Explain, review)
+	if err != nil {
+		return err
+	}
+	return render(g.IO.Out, g.Format, exps, explainGrid(exps))
+}
+
+var explainColumns = []string{"review_id", "trial_id", "outcome_index", "outcome_title", "effect", "se", "converted_from", "rejected", "derivations"}
+
+func explainGrid(exps []compare.Explanation) grid {
+	g := grid{Columns: explainColumns}
+	for i, ex := range exps {
+		title := ""
+		if ex.Outcome != nil {
+			title = ex.Outcome.Title
+		}
+		var steps []string
+		for _, d := range ex.Derivations {
+			steps = append(steps, d.Method)
+		}
+		g.CSV = append(g.CSV, []string{ex.ReviewID, ex.Trial.TrialID, fmt.Sprint(ex.Link.OutcomeIndex), title,
+			fullPtr(ex.Effect), fullPtr(ex.SE), ex.ConvertedFrom, ex.Rejected, strings.Join(steps, ";")})
+		tr := ex.Trial
+		posted := tr.ResultsFirstPosted
+		if posted == "" {
+			posted = "not posted"
+		}
+		prefix := fmt.Sprintf("Review %s (%s %s): trial %s", ex.ReviewID, ex.Measure, ex.Unit, tr.TrialID)
+		if i == 0 {
+			g.Header = []string{"field", "value"}
+		}
+		rows := [][]string{
+			{prefix, ""},
+			{"title", tr.Title},
+			{"sponsor", strings.TrimSpace(tr.Sponsor + " " + bracket(tr.SponsorClass))},
+			{"status", tr.Status},
+			{"start / primary completion / completion", fmt.Sprintf("%s / %s / %s", dash(tr.Start), dash(tr.PrimaryCompletion), dash(tr.Completion))},
+			{"results first posted", posted},
+		}
+		if o := ex.Outcome; o != nil {
+			rows = append(rows,
+				[]string{"outcome", fmt.Sprintf("%d: %s (%s)", o.Index, o.Title, dash(o.Type))},
+				[]string{"time frame, unit", fmt.Sprintf("%s, %s", dash(o.TimeFrame), dash(o.Unit))},
+				[]string{"parameter, dispersion", fmt.Sprintf("%s, %s", dash(o.Param), dash(o.Dispersion))})
+			for _, a := range o.Groups {
+				role := a.Role
+				if role == "" {
+					role = "not used"
+				}
+				rows = append(rows, []string{"group " + a.GroupID + " (" + role + ")",
+					fmt.Sprintf("%s: n %s, value %s, spread %s, limits %s to %s", a.Title, dash(a.N), dash(a.Value), dash(a.Spread), dash(a.Lower), dash(a.Upper))})
+			}
+		}
+		for _, d := range ex.Derivations {
+			v := d.Formula
+			if d.Source != "" {
+				v += " (" + d.Source + ")"
+			}
+			rows = append(rows, []string{"step: " + d.Method, v})
+		}
+		for _, f := range ex.Flags {
+			rows = append(rows, []string{"flag", f})
+		}
+		if ex.Rejected != "" {
+			rows = append(rows, []string{"not used", ex.Rejected})
+		} else {
+			rows = append(rows, []string{"effect (SE)", fmt.Sprintf("%s (%s) from %s", roundPtr(ex.Effect, 4), roundPtr(ex.SE, 4), ex.ConvertedFrom)})
+		}
+		g.Table = append(g.Table, rows...)
+	}
+	g.Notes = cautions
+	return g
+}
+
+func dash(s string) string {
+	if s == "" {
+		return "-"
+	}
+	return s
+}
+
+func bracket(s string) string {
+	if s == "" {
+		return ""
+	}
+	return "(" + s + ")"
 }

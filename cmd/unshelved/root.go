@@ -122,6 +122,7 @@ estimate shifts.`,
 		newCmdDemo(g),
 		newCmdDB(g),
 		newCmdReport(g),
+		newCmdSummary(g), newCmdTrials(g),
 	)
 	return root, g
 }

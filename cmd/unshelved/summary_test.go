@@ -1,0 +1,186 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"unshelved/store"
+)
+
+// demoDB builds the demo workspace once per test and returns its path.
+func demoDB(t *testing.T) string {
+	t.Helper()
+	dir := t.TempDir()
+	if code, _, stderr := runCLI(t, "", "demo", "--out", filepath.Join(dir, "demo")); code != exitOK {
+		t.Fatalf("demo exit %d: %s", code, stderr)
+	}
+	return filepath.Join(dir, "demo", "unshelved.db")
+}
+
+func TestAuditStoresRunsAndExplains(t *testing.T) {
+	db := demoDB(t)
+	code, out, stderr := runCLI(t, "", "--db", db, "audit", "--format", "json", "--seed", "77", "--bootstrap", "200")
+	if code != exitOK {
+		t.Fatalf("audit exit %d: %s", code, stderr)
+	}
+	var audits []map[string]any
+	if err := json.Unmarshal([]byte(out), &audits); err != nil {
+		t.Fatal(err)
+	}
+	for _, a := range audits {
+		shift := a["shift"].(map[string]any)
+		if shift["boot_ci_low"] == nil || shift["boot_replicates"].(float64) != 200 {
+			t.Errorf("%v: bootstrap %v", a["review_id"], shift)
+		}
+		sg, ok := a["subgroup"].(map[string]any)
+		if !ok {
+			t.Fatalf("%v: no subgroup", a["review_id"])
+		}
+		for _, k := range []string{"published_estimate", "registry_estimate", "difference", "se", "ci_low", "ci_high", "q_between", "p"} {
+			if _, ok := sg[k]; !ok {
+				t.Errorf("subgroup lacks %s", k)
+			}
+		}
+		for _, k := range []string{"mid_crossed", "conclusion_changed", "tau2_change", "pi_change", "missing", "discrepancies"} {
+			if _, ok := a[k]; !ok {
+				t.Errorf("audit lacks %s", k)
+			}
+		}
+		if a["published"].(map[string]any)["random"].(map[string]any)["tau2_method"] != "reml" {
+			t.Errorf("default tau² method is not reml")
+		}
+	}
+	// Same seed, same output.
+	_, again, _ := runCLI(t, "", "--db", db, "audit", "--format", "json", "--seed", "77", "--bootstrap", "200")
+	if again != out {
+		t.Errorf("rerun with the same seed differs")
+	}
+	s, err := store.Open(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	runs, err := s.Runs(context.Background(), "audit")
+	if err != nil || len(runs) != 2 {
+		t.Fatalf("runs %v, %v", runs, err)
+	}
+	if r := runs[0]; r.Status != store.RunComplete || r.Seed != 77 || !strings.Contains(r.Options, `"tau2":"reml"`) || !strings.Contains(r.Options, `"bootstrap":200`) {
+		t.Errorf("stored run %+v", r)
+	}
+	res, _ := s.RunResults(context.Background(), runs[0].ID)
+	if len(res) != 3 {
+		t.Errorf("stored %d results, want 3", len(res))
+	}
+
+	// A cancelled audit is stored as cancelled, not complete.
+	io, _, _ := testIO("")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if code := run(ctx, []string{"--db", db, "audit"}, io); code == exitOK {
+		t.Errorf("cancelled audit exit %d", code)
+	}
+	runs, _ = s.Runs(context.Background(), "audit")
+	if last := runs[len(runs)-1]; len(runs) == 3 && last.Status == store.RunComplete {
+		t.Errorf("cancelled run recorded as complete")
+	}
+
+	code, out, stderr = runCLI(t, "", "--db", db, "audit", "--explain", "NCT99000105", "--review", "TINN-01")
+	if code != exitOK {
+		t.Fatalf("explain exit %d: %s", code, stderr)
+	}
+	for _, want := range []string{"NCT99000105", "group OG001 (experimental)", "group OG000 (comparator)", "step: md_from_arms", "effect (SE)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("explain lacks %q:\n%s", want, out)
+		}
+	}
+	if code, _, _ := runCLI(t, "", "--db", db, "audit", "--ci", "normal"); code != exitUsage {
+		t.Errorf("--ci normal exit %d, want usage error", code)
+	}
+}
+
+func TestSummaryCommand(t *testing.T) {
+	db := demoDB(t)
+	code, out, stderr := runCLI(t, "", "--db", db, "summary", "--format", "json", "--bootstrap", "0")
+	if code != exitOK {
+		t.Fatalf("summary exit %d: %s", code, stderr)
+	}
+	var s map[string]any
+	if err := json.Unmarshal([]byte(out), &s); err != nil {
+		t.Fatal(err)
+	}
+	if s["reviews"].(float64) != 3 {
+		t.Errorf("reviews %v", s["reviews"])
+	}
+	for _, k := range []string{"shift_smd", "conclusion_changed_share", "pooled_difference_smd", "detection", "adjusted_error"} {
+		if _, ok := s[k]; !ok {
+			t.Errorf("summary lacks %s", k)
+		}
+	}
+	for _, k := range []string{"median", "q1", "q3", "toward_benefit_share"} {
+		if _, ok := s["shift_smd"].(map[string]any)[k]; !ok {
+			t.Errorf("shift_smd lacks %s", k)
+		}
+	}
+	for _, k := range []string{"estimate", "se", "ci_low", "ci_high", "tau2", "i2"} {
+		if _, ok := s["pooled_difference_smd"].(map[string]any)[k]; !ok {
+			t.Errorf("pooled_difference_smd lacks %s", k)
+		}
+	}
+	d := s["detection"].([]any)[0].(map[string]any)
+	for _, k := range []string{"test", "tp", "fp", "fn", "tn", "sensitivity", "sensitivity_ci_low", "sensitivity_ci_high", "specificity", "specificity_ci_low", "specificity_ci_high"} {
+		if _, ok := d[k]; !ok {
+			t.Errorf("detection lacks %s", k)
+		}
+	}
+	// The stored run reads back the same summary, beside a second one.
+	runCLI(t, "", "--db", db, "summary", "--bootstrap", "0", "--truth", "q-between")
+	code, table, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--compare", "2")
+	if code != exitOK || !strings.Contains(table, "run 1") || !strings.Contains(table, "run 2") || !strings.Contains(table, "not proof of publication bias") {
+		t.Errorf("stored summaries table (exit %d):\n%s", code, table)
+	}
+	code, back, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--format", "json")
+	var st struct {
+		Summary map[string]any `json:"summary"`
+		Status  string         `json:"status"`
+	}
+	if err := json.Unmarshal([]byte(back), &st); err != nil || code != exitOK || st.Status != "complete" {
+		t.Fatalf("stored summary: %v %d %s", err, code, back)
+	}
+	if st.Summary["pooled_difference_smd"].(map[string]any)["estimate"] != s["pooled_difference_smd"].(map[string]any)["estimate"] {
+		t.Errorf("stored estimate differs from the computed one")
+	}
+	code, csv, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--format", "csv")
+	if lines := strings.Split(strings.TrimSpace(csv), "\n"); code != exitOK || len(lines) != 2 || !strings.HasPrefix(lines[0], "run_id,reviews,") {
+		t.Errorf("summary csv:\n%s", csv)
+	}
+}
+
+func TestTrialsCommand(t *testing.T) {
+	db := demoDB(t)
+	code, out, stderr := runCLI(t, "", "--db", db, "trials", "--format", "json", "--as-of", "2026-12-01")
+	if code != exitOK {
+		t.Fatalf("trials exit %d: %s", code, stderr)
+	}
+	var rep map[string]any
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if rep["as_of"] != "2026-12-01" || len(rep["trials"].([]any)) == 0 {
+		t.Errorf("trials report %v", rep["as_of"])
+	}
+	// Without --as-of the injected clock (2026-12-01 in tests) is used.
+	_, again, _ := runCLI(t, "", "--db", db, "trials", "--format", "json")
+	if again != out {
+		t.Errorf("--as-of default is not the injected clock")
+	}
+	code, table, _ := runCLI(t, "", "--db", db, "trials", "--sponsor", "zzz-nobody")
+	if code != exitOK || !strings.Contains(table, "0 trials") {
+		t.Errorf("empty filter (exit %d):\n%s", code, table)
+	}
+	if code, _, _ := runCLI(t, "", "--db", db, "trials", "--as-of", "soon"); code != exitUsage {
+		t.Errorf("--as-of soon exit %d", code)
+	}
+}
