@@ -13,9 +13,9 @@ import (
 func TestSubgroupAgainstR(t *testing.T) {
 	pub := []StudyEffect{{Effect: -8, SE: 2}, {Effect: -6, SE: 2.5}, {Effect: -10, SE: 3}, {Effect: -4, SE: 1.5}}
 	for _, tc := range []struct {
-		name                                 string
-		reg                                  []StudyEffect
-		tau2                                 analysis.Tau2Method
+		name                                    string
+		reg                                     []StudyEffect
+		tau2                                    analysis.Tau2Method
 		pubEst, regEst, diff, se, lo, hi, qb, p float64
 	}{
 		{"fixture dl", []StudyEffect{{Effect: -1, SE: 2}, {Effect: -2, SE: 1.8}}, analysis.Tau2DL,
