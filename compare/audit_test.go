@@ -154,3 +154,65 @@ func deref(x *float64) any {
 	}
 	return *x
 }
+
+// Conclusion, missing-evidence and discrepancy figures on the fixture, by
+// their definitions (numbers worked by hand in the comments).
+func TestAuditMIDMissingDiscrepancy(t *testing.T) {
+	in := auditFixture()
+	in.Review.MID = fp(5)
+	// The already-included trial is linked as "included": compared, not pooled.
+	for i := range in.Links {
+		if in.Links[i].TrialID == "NCT99999900" {
+			in.Links[i].Class = ClassIncluded
+		}
+	}
+	enrol := 100
+	in.Trials["NCT99999907"] = ingest.Trial{TrialID: "NCT99999907", BriefTitle: "Silent trial", Enrollment: &enrol}
+	in.Links = append(in.Links, ingest.Link{ReviewID: "R1", TrialID: "NCT99999907", Class: ClassNoResults})
+	a, err := AuditReview(in, Options{Tau2: analysis.Tau2DL, CI: CIWald})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Published DL -6.40 is beyond the MID of 5 (lower is better); the
+	// augmented -4.76 is not.
+	if a.MIDCrossed == nil || !*a.MIDCrossed || !a.ConclusionChanged {
+		t.Errorf("mid crossed %v, conclusion changed %v", deref2(a.MIDCrossed), a.ConclusionChanged)
+	}
+	if want := 5.6096069018962584 - 2.3629817049435573; a.Tau2Change == nil || !scalar.EqualWithinAbsOrRel(*a.Tau2Change, want, 1e-10, 1e-10) {
+		t.Errorf("tau2 change %v, want %v", deref(a.Tau2Change), want)
+	}
+	m := a.Missing
+	// Randomized: 4 published studies without N, two added trials of 100,
+	// and 100 missing: share 100/300.
+	if m.K != 1 || m.Enrollment != 100 || m.PublishedWithoutN != 4 || m.Randomized != 300 || !scalar.EqualWithinAbsOrRel(*m.Share, 1.0/3, 1e-15, 1e-15) {
+		t.Errorf("missing %+v", m)
+	}
+	if m.WhatIf == nil || m.WhatIf.KImputed != 1 || m.WhatIf.Estimate == nil {
+		t.Fatalf("what-if %+v", m.WhatIf)
+	}
+	// The SD falls back to the registry trials' pooled SD, sqrt((49·100 + 49·81)·2/196)
+	// = sqrt(90.5), so the imputed SE is 0.2·sqrt(90.5); a null study pulls
+	// the estimate toward 0.
+	if !scalar.EqualWithinAbsOrRel(*m.WhatIf.SD, 9.513148795220223, 1e-12, 1e-12) || !(*m.WhatIf.Estimate > *a.Augmented.Random.Estimate) {
+		t.Errorf("what-if SD %v estimate %v (augmented %v)", *m.WhatIf.SD, *m.WhatIf.Estimate, *a.Augmented.Random.Estimate)
+	}
+	if len(a.Discrepancies) != 1 {
+		t.Fatalf("discrepancies %+v", a.Discrepancies)
+	}
+	// Study A published -8; the registry gives 40 - 50 = -10: difference -2,
+	// 25% of the published magnitude, beyond 10%.
+	d := a.Discrepancies[0]
+	if d.Study != "A" || *d.Difference != -2 || *d.RelativePct != -25 || !d.Flagged || !d.RegistryPrimary {
+		t.Errorf("discrepancy %+v", d)
+	}
+	if a.KAdded != 2 {
+		t.Errorf("k added %d: included and no-results links must not be pooled", a.KAdded)
+	}
+}
+
+func deref2(b *bool) any {
+	if b == nil {
+		return nil
+	}
+	return *b
+}
