@@ -36,13 +36,6 @@ const (
 	// root of machine epsilon, the usual choice for central differences
 	// (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, sec. 8.1).
 	hessianStep = 6e-6
-	// armijoC is the sufficient-decrease constant of the backtracking line
-	// search (Nocedal & Wright 2006, sec. 3.1, who suggest 1e-4).
-	armijoC = 1e-4
-	// maxNewtonStep caps each component of a Newton step on the optimizer
-	// scale (log tau² and log weights change by at most a factor e^5 per
-	// step), which keeps exp from overflowing far from the optimum.
-	maxNewtonStep = 5.0
 )
 
 // SelectionSettings configures SelectionModel.
@@ -109,9 +102,10 @@ type SelectionResult struct {
 //	σ_i² = tau² + se_i²,  A_i = Σ_j ω_j P(p in interval j | mu, σ_i),
 //
 // where interval j corresponds to d·y between se_i·Φ⁻¹(1 - a_j) and
-// se_i·Φ⁻¹(1 - a_{j-1}). It is maximised by a damped Newton method (analytic
-// gradient, central-difference Hessian, backtracking line search; see
-// minimize) over (mu, log tau², log ω_2, ..., log ω_{J+1}), on
+// se_i·Φ⁻¹(1 - a_{j-1}). It is maximised with gonum's optimize.Newton
+// (analytic gradient, central-difference Hessian of that gradient, gonum's
+// Hessian modification and line search; see minimizeGonum) over
+// (mu, log tau², log ω_2, ..., log ω_{J+1}), on
 // effects divided by the root mean within-study variance. The default one
 // cut at 0.025 is the three-parameter model (McShane, Böckenholt & Hansen
 // 2016, Perspect Psychol Sci 11:730-749).
@@ -210,7 +204,7 @@ func SelectionModel(effects, seEffects []float64, s SelectionSettings) (Selectio
 	m.free = true
 	x := make([]float64, nParam)
 	copy(x, nullX)
-	iter, ok, msg := m.minimize(x, tol, maxIter)
+	iter, ok, msg := m.minimizeGonum(x, tol, maxIter)
 	r.Iterations = iter
 	r.LogLik = -m.nll(x, nil) - float64(k)*math.Log(m.scale)
 	r.LRT = max(0, 2*(r.LogLik-r.LogLikNull))
@@ -323,7 +317,7 @@ func (m *selModel) fitNull(tol float64, maxIter int) (x []float64, ok bool, msg 
 	fe, _ := fixedEffect(m.y, m.se)
 	x = []float64{fe, math.Log(max(m.tau2Start(fe), 0.01))}
 	m.free = false
-	_, ok, msg = m.minimize(x, tol, maxIter)
+	_, ok, msg = m.minimizeGonum(x, tol, maxIter)
 	return x, ok, msg
 }
 
@@ -425,86 +419,6 @@ func (m *selModel) nll(x, grad []float64) float64 {
 	return f
 }
 
-// minimize minimises m.nll from x, which it overwrites with the last
-// iterate, by Newton's method with a central-difference Hessian of the
-// analytic gradient, Levenberg damping (H + λI) when the Hessian is not
-// positive definite or a step fails, and a backtracking Armijo line search
-// (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, ch. 3). It stops
-// when every gradient component is at most tol in absolute value.
-func (m *selModel) minimize(x []float64, tol float64, maxIter int) (iter int, ok bool, msg string) {
-	n := len(x)
-	buf := make([]float64, 4*n)
-	g, step, trial, gTrial := buf[:n], buf[n:2*n], buf[2*n:3*n], buf[3*n:]
-	h := mat.NewSymDense(n, nil)
-	damped := mat.NewSymDense(n, nil)
-	var chol mat.Cholesky
-	stepVec := mat.NewVecDense(n, step)
-	gVec := mat.NewVecDense(n, g)
-	f := m.nll(x, g)
-	lambda := 0.0
-	for iter = 0; ; iter++ {
-		if maxAbs(g) <= tol {
-			return iter, true, fmt.Sprintf("converged in %d iterations", iter)
-		}
-		if iter >= maxIter {
-			return iter, false, fmt.Sprintf("gradient %.3g above tolerance %g after %d iterations", maxAbs(g), tol, iter)
-		}
-		if !(f < math.Inf(1)) {
-			return iter, false, "likelihood not finite"
-		}
-		m.hessian(h, x, trial, gTrial)
-		var maxDiag float64
-		for i := 0; i < n; i++ {
-			maxDiag = max(maxDiag, math.Abs(h.At(i, i)))
-		}
-		lambda = max(lambda/10, 0)
-		accepted := false
-		for attempt := 0; attempt < 60 && !accepted; attempt++ {
-			damped.CopySym(h)
-			for i := 0; i < n; i++ {
-				damped.SetSym(i, i, h.At(i, i)+lambda)
-			}
-			if chol.Factorize(damped) {
-				if err := chol.SolveVecTo(stepVec, gVec); err == nil {
-					var slope float64
-					for i := range step {
-						step[i] = -step[i]
-						step[i] = max(-maxNewtonStep, min(maxNewtonStep, step[i]))
-						slope += step[i] * g[i]
-					}
-					if slope < 0 {
-						accepted = m.lineSearch(x, trial, gTrial, step, &f, slope, g)
-					}
-				}
-			}
-			if !accepted {
-				lambda = max(2*lambda, 1e-8*max(maxDiag, 1))
-			}
-		}
-		if !accepted {
-			return iter, false, fmt.Sprintf("no decrease of the negative log-likelihood found at iteration %d", iter+1)
-		}
-	}
-}
-
-// lineSearch backtracks along step from x until the Armijo condition holds;
-// on success it moves x, *f and g to the accepted point.
-func (m *selModel) lineSearch(x, trial, gTrial, step []float64, f *float64, slope float64, g []float64) bool {
-	for t := 1.0; t > 1e-12; t /= 2 {
-		for i := range x {
-			trial[i] = x[i] + t*step[i]
-		}
-		ft := m.nll(trial, gTrial)
-		if ft <= *f+armijoC*t*slope {
-			copy(x, trial)
-			copy(g, gTrial)
-			*f = ft
-			return true
-		}
-	}
-	return false
-}
-
 // hessian fills dst with the symmetrized central-difference Jacobian of the
 // analytic gradient at x,
 //
@@ -536,14 +450,6 @@ func (m *selModel) hessian(dst *mat.SymDense, x, trial, gTrial []float64) {
 			dst.SetSym(i, j, 0.5*(jac[i*n+j]+jac[j*n+i]))
 		}
 	}
-}
-
-func maxAbs(x []float64) float64 {
-	var a float64
-	for _, v := range x {
-		a = max(a, math.Abs(v))
-	}
-	return a
 }
 
 // standardErrors returns the standard errors of the optimizer-scale
