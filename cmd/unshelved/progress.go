@@ -9,7 +9,8 @@ import (
 	"unshelved/ingest"
 )
 
-// progress shows a byte-based progress bar with records/s on stderr when
+// progress shows a byte-based progress bar with records/s, MB/s and the
+// time left (elapsed:remaining) on stderr when
 // stderr is a terminal and --quiet is off; otherwise it does nothing.
 type progress struct {
 	bar     *progressbar.ProgressBar
@@ -43,8 +44,9 @@ func (p *progress) update(ev ingest.ProgressEvent) {
 	if ev.TotalBytes > 0 && p.bar.GetMax64() != ev.TotalBytes {
 		p.bar.ChangeMax64(ev.TotalBytes)
 	}
-	rate := float64(ev.Records) / time.Since(p.started).Seconds()
-	p.bar.Describe(fmt.Sprintf("%d records (%.0f/s), %d rejected", ev.Records, rate, ev.Rejected))
+	sec := time.Since(p.started).Seconds()
+	p.bar.Describe(fmt.Sprintf("%d records (%.0f/s, %.1f MB/s), %d rejected",
+		ev.Records, float64(ev.Records)/sec, float64(ev.Bytes)/1e6/sec, ev.Rejected))
 	_ = p.bar.Set64(ev.Bytes)
 }
 
