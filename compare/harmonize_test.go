@@ -198,3 +198,21 @@ func TestGroupNPrefersClassDenoms(t *testing.T) {
 		t.Errorf("N = %d/%d, want the class-level 37/35", got.TreatN, got.CtrlN)
 	}
 }
+
+func TestUnitSpellings(t *testing.T) {
+	// HbA1c: IFCC (mmol/mol) = 10.929 (NGSP % - 2.15), Hoelzel et al. 2004;
+	// 7% is 53.0 mmol/mol (10.929 * 4.85 = 53.00565).
+	for _, from := range []string{"%", "percent", "percentage of haemoglobin", "Percentage of hemoglobin", "% of total hemoglobin"} {
+		c, err := findConversion(from, "mmol/mol", "HbA1c")
+		if err != nil || c == nil {
+			t.Errorf("%q: %v", from, err)
+			continue
+		}
+		if got := c.Scale*7 + c.Offset; !scalar.EqualWithinAbsOrRel(got, 53.00565, 1e-12, 1e-12) {
+			t.Errorf("%q: 7%% = %v mmol/mol, want 53.00565", from, got)
+		}
+	}
+	if c, err := findConversion("mg/dL", "mmol/L", "C-peptide"); err == nil || c != nil {
+		t.Errorf("C-peptide mg/dL converted with a table factor: %+v", c)
+	}
+}

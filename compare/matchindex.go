@@ -284,7 +284,7 @@ func withStoredDecisions(ctx context.Context, db *store.DB, rp *ReviewProposals)
 
 // NoOutcome is the outcome index of a stored no-results candidate: the
 // trial posted nothing, so its link names no outcome.
-const NoOutcome = -1
+const NoOutcome = ingest.NoOutcomeIndex
 
 // Links returns the proposals of a review as links for the store: one per
 // proposed outcome, with the decision "accept" on automatically accepted

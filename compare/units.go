@@ -42,7 +42,9 @@ func normUnit(u string) string {
 	u = strings.ReplaceAll(u, " per ", "/")
 	u = strings.ReplaceAll(u, " ", "")
 	switch u {
-	case "percent", "percentage", "%hba1c", "percentofhemoglobin", "percentofhaemoglobin":
+	case "percent", "percentage", "%hba1c", "percentofhemoglobin", "percentofhaemoglobin",
+		"percentageofhemoglobin", "percentageofhaemoglobin", "%ofhemoglobin", "%ofhaemoglobin",
+		"percentoftotalhemoglobin", "percentoftotalhaemoglobin", "%oftotalhemoglobin", "%oftotalhaemoglobin":
 		return "%"
 	case "kilograms", "kilogram", "kgs":
 		return "kg"

@@ -132,7 +132,12 @@ func ApplyLinks(ctx context.Context, db *store.DB, links []ingest.Link) (saved i
 			problems = append(problems, LinkProblem{l, fmt.Sprintf("trial %q is not in the workspace", l.TrialID)})
 			continue
 		}
-		if msg := checkLinkGroups(t, l); msg != "" {
+		if l.OutcomeIndex == ingest.NoOutcomeIndex {
+			if !strings.EqualFold(l.Class, "no-results") {
+				problems = append(problems, LinkProblem{l, "only a no-results link may name no outcome"})
+				continue
+			}
+		} else if msg := checkLinkGroups(t, l); msg != "" {
 			problems = append(problems, LinkProblem{l, msg})
 			continue
 		}

@@ -274,3 +274,20 @@ func TestReadMetaAnalysisWithoutReviewID(t *testing.T) {
 		t.Errorf("ReadStudies accepted a file without review_id")
 	}
 }
+
+func TestReadLinksNoResultsRow(t *testing.T) {
+	const data = "review_id,trial_id,class,outcome_index,treat_groups,ctrl_groups,flip,decision\n" +
+		"R1,NCT99000109,no-results,,,,,\n" +
+		"R1,NCT99000110,registry-only,,OG000,OG001,no,\n"
+	got, bad, err := ReadLinks(strings.NewReader(data), Source{Path: "l.csv"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 1 || got[0].OutcomeIndex != NoOutcomeIndex || got[0].Class != "no-results" {
+		t.Errorf("links %+v: want the no-results row with NoOutcomeIndex", got)
+	}
+	// Any other class still needs an outcome index.
+	if len(bad) != 1 || !strings.Contains(bad[0].Error(), `l.csv:3`) || !strings.Contains(bad[0].Error(), `"outcome_index"`) {
+		t.Errorf("errors %v: want line 3 rejected for its empty outcome_index", bad)
+	}
+}

@@ -255,12 +255,16 @@ func ReadLinks(r io.Reader, src Source) ([]Link, []*ParseError, error) {
 			AutoAccepted: e.boolean("auto_accepted"),
 			Source:       t.source(),
 		}
-		if idx := e.integer("outcome_index"); idx != nil {
-			if *idx < 0 {
-				e.fail("outcome_index", ErrBadValue, "negative: %q", t.get("outcome_index"))
-			}
+		noResults := strings.EqualFold(l.Class, "no-results")
+		switch idx := e.integer("outcome_index"); {
+		case idx != nil && *idx < 0:
+			e.fail("outcome_index", ErrBadValue, "negative: %q", t.get("outcome_index"))
+		case idx != nil:
 			l.OutcomeIndex = *idx
-		} else {
+		case noResults && t.get("outcome_index") == "":
+			// A trial with no results posted has no outcome to name.
+			l.OutcomeIndex = NoOutcomeIndex
+		default:
 			e.fail("outcome_index", ErrMissing, "empty")
 		}
 		if t.get("decision") != "" {
@@ -279,7 +283,7 @@ func ReadLinks(r io.Reader, src Source) ([]Link, []*ParseError, error) {
 				}
 			}
 		}
-		if l.Decision == "accept" && (len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0) {
+		if l.Decision == "accept" && !noResults && (len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0) {
 			e.fail(map[bool]string{true: "treat_groups", false: "ctrl_groups"}[len(l.TreatGroups) == 0], ErrMissing, "an accepted link needs groups on both sides")
 		}
 		if e.err != nil {

@@ -288,6 +288,10 @@ type ReviewStudy struct {
 	Source Source
 }
 
+// NoOutcomeIndex is Link.OutcomeIndex for a link that names no outcome: a
+// registered trial with no results posted (class no-results).
+const NoOutcomeIndex = -1
+
 // Link connects a review to one registry outcome and says which groups
 // form the experimental and comparator arms.
 type Link struct {
