@@ -68,7 +68,7 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 	out := []Discrepancy{}
 	tol := opts.Discrepancy.resolve()
 	reviewSD := reviewPooledSD(pub, len(pub))
-	for _, l := range links {
+	for _, l := range bestLinkPerTrial(links) {
 		if len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0 {
 			continue
 		}
@@ -94,11 +94,16 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 				break
 			}
 		}
+		e, err := RegistryEffect(rv, t, l)
+		if ps == nil && err == nil {
+			// A published study that cites no registry id: the one whose
+			// arm sizes match the registry outcome's (as matching found it).
+			ps = studyByArmSizes(pub, e.TreatN, e.CtrlN)
+		}
 		if ps != nil {
 			d.Study, d.PublishedStudyIn = ps.Study, true
 			d.PublishedEffect = opt(ps.Effect)
 		}
-		e, err := RegistryEffect(rv, t, l)
 		if err != nil {
 			var re *RejectError
 			if errors.As(err, &re) {
@@ -132,6 +137,62 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 		out = append(out, d)
 	}
 	return out
+}
+
+// bestLinkPerTrial keeps, for each trial, the outcome link a discrepancy
+// check should use: an accepted one if any, else the best-scoring one
+// (lowest outcome index on ties); rejected links and links without groups
+// are left out. Trials keep their first-seen order.
+func bestLinkPerTrial(links []ingest.Link) []ingest.Link {
+	best := map[string]int{}
+	var order []string
+	var out []ingest.Link
+	better := func(a, b ingest.Link) bool {
+		aa, ba := strings.EqualFold(a.Decision, "accept"), strings.EqualFold(b.Decision, "accept")
+		if aa != ba {
+			return aa
+		}
+		as, bs := -1.0, -1.0
+		if a.Score != nil {
+			as = *a.Score
+		}
+		if b.Score != nil {
+			bs = *b.Score
+		}
+		if as != bs {
+			return as > bs
+		}
+		return a.OutcomeIndex < b.OutcomeIndex
+	}
+	for _, l := range links {
+		if strings.EqualFold(l.Decision, "reject") || len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0 {
+			continue
+		}
+		i, seen := best[l.TrialID]
+		if !seen {
+			best[l.TrialID] = len(out)
+			order = append(order, l.TrialID)
+			out = append(out, l)
+			continue
+		}
+		if better(l, out[i]) {
+			out[i] = l
+		}
+	}
+	return out
+}
+
+// studyByArmSizes finds the published study with arm data whose group
+// sizes equal n1 and n2 (within 2 participants each, in either order).
+func studyByArmSizes(pub []StudyEffect, n1, n2 int) *StudyEffect {
+	near := func(a, b int) bool { return a > 0 && b > 0 && a-b <= 2 && b-a <= 2 }
+	for i := range pub {
+		p := &pub[i]
+		if p.TrialID == "" && (near(p.TreatN, n1) && near(p.CtrlN, n2) || near(p.TreatN, n2) && near(p.CtrlN, n1)) {
+			return p
+		}
+	}
+	return nil
 }
 
 // Explanation traces one registry trial's use in one review: the record,

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"runtime"
 	"strings"
 
 	"unshelved/ingest"
@@ -11,26 +12,22 @@ import (
 )
 
 // Audit audits the named reviews (all reviews when ids is empty) in the
-// workspace, in review id order.
+// workspace, in review id order, on all cores. The inputs are those of
+// LoadAuditInputs (accepted links, and the records behind included and
+// no-results links for the discrepancy and missing-evidence figures). A
+// review that cannot be audited is an error naming it; use RunAudit to
+// keep going past such reviews and to record the run.
 func Audit(ctx context.Context, db *store.DB, ids []string, opts Options) ([]ReviewAudit, error) {
-	reviews, err := selectReviews(ctx, db, ids)
+	inputs, err := LoadAuditInputs(ctx, db, ids)
 	if err != nil {
 		return nil, err
 	}
-	out := make([]ReviewAudit, 0, len(reviews))
-	for _, rv := range reviews {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		in, err := loadInput(ctx, db, rv)
-		if err != nil {
-			return nil, err
-		}
-		a, err := AuditReview(in, opts)
-		if err != nil {
-			return nil, err
-		}
-		out = append(out, a)
+	out, failed, err := AuditAll(ctx, inputs, opts, runtime.GOMAXPROCS(0))
+	if err != nil {
+		return nil, err
+	}
+	if len(failed) > 0 {
+		return nil, errors.Join(failed...)
 	}
 	return out, nil
 }

@@ -45,23 +45,8 @@ tool version and the seed. --explain TRIAL shows how one registry trial's
 numbers were derived instead (not stored).`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if err := checkTau2(opts.Tau2); err != nil {
+			if err := opts.validate(cmd); err != nil {
 				return err
-			}
-			if opts.HKSJ {
-				if cmd.Flags().Changed("ci") && opts.CI != compare.CIHKSJ {
-					return flagErrorf("--hksj contradicts --ci %s", opts.CI)
-				}
-				opts.CI = compare.CIHKSJ
-			}
-			if opts.CI != compare.CIHKSJ && opts.CI != compare.CIWald {
-				return flagErrorf("invalid --ci %q: valid values are hksj, wald", opts.CI)
-			}
-			if !(opts.Level > 0 && opts.Level < 1) {
-				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
-			}
-			if opts.Bootstrap < 0 {
-				return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", opts.Bootstrap)
 			}
 			if opts.Explain != "" {
 				if len(opts.Reviews) > 1 {
@@ -78,15 +63,46 @@ numbers were derived instead (not stored).`,
 	return cmd
 }
 
-// addAuditFlags adds the flags shared by audit and summary.
+// defaultAuditOptions are the audit defaults: REML tau² with the HKSJ
+// interval at the 95% level, a 1000-replicate bootstrap with the fixed
+// default seed, one worker per core.
+func defaultAuditOptions(g *globals) auditOptions {
+	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 1000, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0)}
+}
+
+// addAuditFlags adds the flags shared by audit, summary and report.
 func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
-	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator for random effects: reml, dl or pm")
-	cmd.Flags().StringVar(&opts.CI, "ci", compare.CIHKSJ, "random-effects interval: hksj (Hartung-Knapp-Sidik-Jonkman) or wald")
+	d := defaultAuditOptions(opts.g)
+	cmd.Flags().StringVar(&opts.Tau2, "tau2", d.Tau2, "tau² estimator for random effects: reml, dl or pm")
+	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval: hksj (Hartung-Knapp-Sidik-Jonkman) or wald")
 	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
-	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
-	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", 1000, "bootstrap replicates of the shift (0 turns it off)")
-	cmd.Flags().Uint64Var(&opts.Seed, "seed", compare.DefaultSeed, "seed of the bootstrap (stored with the run)")
-	cmd.Flags().IntVar(&opts.Workers, "workers", runtime.GOMAXPROCS(0), "reviews audited in parallel (results stay in review order)")
+	cmd.Flags().Float64Var(&opts.Level, "level", d.Level, "confidence level")
+	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "bootstrap replicates of the shift (0 turns it off)")
+	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of the bootstrap (stored with the run)")
+	cmd.Flags().IntVar(&opts.Workers, "workers", d.Workers, "reviews audited in parallel (results stay in review order)")
+}
+
+// validate checks the shared audit flags.
+func (o *auditOptions) validate(cmd *cobra.Command) error {
+	if err := checkTau2(o.Tau2); err != nil {
+		return err
+	}
+	if o.HKSJ {
+		if cmd.Flags().Changed("ci") && o.CI != compare.CIHKSJ {
+			return flagErrorf("--hksj contradicts --ci %s", o.CI)
+		}
+		o.CI = compare.CIHKSJ
+	}
+	if o.CI != compare.CIHKSJ && o.CI != compare.CIWald {
+		return flagErrorf("invalid --ci %q: valid values are hksj, wald", o.CI)
+	}
+	if !(o.Level > 0 && o.Level < 1) {
+		return flagErrorf("--level must lie between 0 and 1, not %v", o.Level)
+	}
+	if o.Bootstrap < 0 {
+		return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", o.Bootstrap)
+	}
+	return nil
 }
 
 func (o *auditOptions) compareOptions() compare.Options {

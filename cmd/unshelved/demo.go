@@ -24,11 +24,13 @@ func newCmdDemo(g *globals) *cobra.Command {
 		Use:   "demo",
 		Short: "Run the whole job on the embedded, invented demo scenario",
 		Long: `Build a workspace from the embedded demo scenario (three invented reviews and
-about thirty invented registry records whose ids cannot be real), load the
-links between them, and print the audit table.
+about thirty invented registry records whose ids cannot be real), find the
+registry trials and outcomes that fit each review automatically (accepting
+proposals scoring above 0.7), print the audit table and write the HTML
+report.
 
 The scenario's input files are written to DIR/input, the workspace database
-to DIR/unshelved.db (DIR is unshelved-demo in the current folder unless
+to DIR/unshelved.db, the report to DIR/report/index.html (DIR is unshelved-demo in the current folder unless
 --out says otherwise). An earlier demo database in DIR is replaced; nothing
 else is touched. The --db flag does not apply.`,
 		Args: exactArgs(0),
@@ -76,19 +78,29 @@ func demoRun(cmd *cobra.Command, opts *demoOptions) error {
 	if err := saveReviews(ctx, &quiet, db, reviews, studies); err != nil {
 		return fmt.Errorf("demo reviews: %w", err)
 	}
-	if err := applyLinksFile(ctx, &quiet, db, filepath.Join(input, "links.csv")); err != nil {
-		return fmt.Errorf("demo links: %w", err)
+	// The links are found automatically and accepted above the default
+	// score, as 'match --links FILE --accept-above 0.7' would; a person
+	// would read the proposals file and confirm them. The hand-made links
+	// of the scenario (input/links.csv) give the same audit.
+	proposals := filepath.Join(opts.Out, "links-proposed.csv")
+	fmt.Fprintln(g.IO.Out, "Registry trials found for each review (automatic matching):")
+	if err := proposeLinks(ctx, &quiet, db, &matchOptions{g: &quiet, Links: proposals, AcceptAbove: compare.DefaultAcceptAbove}); err != nil {
+		return fmt.Errorf("demo matching: %w", err)
 	}
-	audits, err := compare.Audit(ctx, db, nil, compare.Options{})
+	fmt.Fprintln(g.IO.Out)
+	ropts := &reportOptions{g: g, Out: filepath.Join(opts.Out, "report"), Audit: defaultAuditOptions(g)}
+	index, audits, err := writeReport(cmd, db, ropts)
 	if err != nil {
 		return err
 	}
 	g.progressf("demo: %d registry records, %d reviews with %d published studies", sum.Records, len(reviews), len(studies))
-	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, 0.95)); err != nil {
+	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, ropts.Audit.Level)); err != nil {
 		return err
 	}
 	g.progressf("demo: input files in %s", input)
 	g.progressf("demo: workspace database %s (try: unshelved --db %s audit --format json)", dbPath, dbPath)
+	g.progressf("demo: proposed links (accepted above %.1f; check them as a person would) %s", compare.DefaultAcceptAbove, proposals)
+	g.progressf("demo: report %s", index)
 	return nil
 }
 

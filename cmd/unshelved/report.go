@@ -6,7 +6,6 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"unshelved/analysis"
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
 	"unshelved/ingest"
@@ -15,16 +14,13 @@ import (
 
 type reportOptions struct {
 	g       *globals
-	Reviews []string
 	Out     string
-	Tau2    string
-	HKSJ    bool
-	Level   float64
 	Imputed bool
+	Audit   auditOptions // the audit's flags and defaults
 }
 
 func newCmdReport(g *globals) *cobra.Command {
-	opts := &reportOptions{g: g}
+	opts := &reportOptions{g: g, Audit: auditOptions{g: g}}
 	cmd := &cobra.Command{
 		Use:   "report --out DIR",
 		Short: "Write the self-contained HTML audit report with funnel and forest plots",
@@ -44,52 +40,55 @@ printed on stdout.`,
 			if opts.Out == "" {
 				return flagErrorf("--out DIR is required")
 			}
-			if err := checkTau2(opts.Tau2); err != nil {
+			if err := opts.Audit.validate(cmd); err != nil {
 				return err
-			}
-			if !(opts.Level > 0 && opts.Level < 1) {
-				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
 			}
 			return reportRun(cmd, opts)
 		},
 	}
-	cmd.Flags().StringSliceVar(&opts.Reviews, "review", nil, "review id to report (repeatable; default all)")
+	cmd.Flags().StringSliceVar(&opts.Audit.Reviews, "review", nil, "review id to report (repeatable; default all)")
 	cmd.Flags().StringVar(&opts.Out, "out", "", "folder for the report's pages (created if needed)")
-	cmd.Flags().StringVar(&opts.Tau2, "tau2", "dl", "tau² estimator for random effects: dl, reml or pm")
-	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "random-effects interval by Hartung-Knapp-Sidik-Jonkman instead of Wald")
-	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
+	addAuditFlags(cmd, &opts.Audit)
 	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plots")
 	return cmd
 }
 
 func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 	g := opts.g
-	ctx := cmd.Context()
 	db, err := g.openDB(cmd)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	audits, err := compare.Audit(ctx, db, opts.Reviews, compare.Options{
-		Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), HKSJ: opts.HKSJ,
-	})
-	if err != nil {
-		return err
-	}
-	reviews, err := reviewDetails(cmd, db, audits)
-	if err != nil {
-		return err
-	}
-	index, err := plotrender.WriteReport(opts.Out, audits, plotrender.ReportOptions{
-		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Level,
-		Generated: g.IO.Now().UTC().Format("2006-01-02") + ", unshelved " + version,
-	})
+	index, audits, err := writeReport(cmd, db, opts)
 	if err != nil {
 		return err
 	}
 	g.progressf("report: %d review page(s) in %s", len(audits), opts.Out)
 	fmt.Fprintln(g.IO.Out, index)
 	return nil
+}
+
+// writeReport audits the reviews with the report's audit options, records
+// the run, and writes the pages; it returns the overview page's path.
+func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, error) {
+	g := opts.g
+	run, err := compare.RunAudit(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version, opts.Audit.Workers)
+	if err != nil {
+		return "", nil, err
+	}
+	for _, e := range run.Failed {
+		g.progressf("report: left out: %v", e)
+	}
+	reviews, err := reviewDetails(cmd, db, run.Audits)
+	if err != nil {
+		return "", nil, err
+	}
+	index, err := plotrender.WriteReport(opts.Out, run.Audits, plotrender.ReportOptions{
+		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level,
+		Generated: g.IO.now().UTC().Format("2006-01-02") + ", unshelved " + version,
+	})
+	return index, run.Audits, err
 }
 
 // reviewDetails loads each audited review's question (outcome, timepoint,

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -64,13 +65,14 @@ func TestAuditStoresRunsAndExplains(t *testing.T) {
 	}
 	defer s.Close()
 	runs, err := s.Runs(context.Background(), "audit")
-	if err != nil || len(runs) != 2 {
+	// The demo's own audit run, then the two above (oldest first).
+	if err != nil || len(runs) != 3 {
 		t.Fatalf("runs %v, %v", runs, err)
 	}
-	if r := runs[0]; r.Status != store.RunComplete || r.Seed != 77 || !strings.Contains(r.Options, `"tau2":"reml"`) || !strings.Contains(r.Options, `"bootstrap":200`) {
+	if r := runs[1]; r.Status != store.RunComplete || r.Seed != 77 || !strings.Contains(r.Options, `"tau2":"reml"`) || !strings.Contains(r.Options, `"bootstrap":200`) {
 		t.Errorf("stored run %+v", r)
 	}
-	res, _ := s.RunResults(context.Background(), runs[0].ID)
+	res, _ := s.RunResults(context.Background(), runs[1].ID)
 	if len(res) != 3 {
 		t.Errorf("stored %d results, want 3", len(res))
 	}
@@ -83,7 +85,7 @@ func TestAuditStoresRunsAndExplains(t *testing.T) {
 		t.Errorf("cancelled audit exit %d", code)
 	}
 	runs, _ = s.Runs(context.Background(), "audit")
-	if last := runs[len(runs)-1]; len(runs) == 3 && last.Status == store.RunComplete {
+	if last := runs[len(runs)-1]; len(runs) == 4 && last.Status == store.RunComplete {
 		t.Errorf("cancelled run recorded as complete")
 	}
 
@@ -137,11 +139,21 @@ func TestSummaryCommand(t *testing.T) {
 	}
 	// The stored run reads back the same summary, beside a second one.
 	runCLI(t, "", "--db", db, "summary", "--bootstrap", "0", "--truth", "q-between")
-	code, table, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--compare", "2")
-	if code != exitOK || !strings.Contains(table, "run 1") || !strings.Contains(table, "run 2") || !strings.Contains(table, "not proof of publication bias") {
+	ws, err := store.Open(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sruns, err := ws.Runs(context.Background(), "summary")
+	ws.Close()
+	if err != nil || len(sruns) != 2 {
+		t.Fatalf("summary runs %v, %v", sruns, err)
+	}
+	first, second := fmt.Sprint(sruns[0].ID), fmt.Sprint(sruns[1].ID) // oldest first
+	code, table, _ := runCLI(t, "", "--db", db, "summary", "--run", first, "--compare", second)
+	if code != exitOK || !strings.Contains(table, "run "+first) || !strings.Contains(table, "run "+second) || !strings.Contains(table, "not proof of publication bias") {
 		t.Errorf("stored summaries table (exit %d):\n%s", code, table)
 	}
-	code, back, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--format", "json")
+	code, back, _ := runCLI(t, "", "--db", db, "summary", "--run", first, "--format", "json")
 	var st struct {
 		Summary map[string]any `json:"summary"`
 		Status  string         `json:"status"`
@@ -152,7 +164,7 @@ func TestSummaryCommand(t *testing.T) {
 	if st.Summary["pooled_difference_smd"].(map[string]any)["estimate"] != s["pooled_difference_smd"].(map[string]any)["estimate"] {
 		t.Errorf("stored estimate differs from the computed one")
 	}
-	code, csv, _ := runCLI(t, "", "--db", db, "summary", "--run", "1", "--format", "csv")
+	code, csv, _ := runCLI(t, "", "--db", db, "summary", "--run", first, "--format", "csv")
 	if lines := strings.Split(strings.TrimSpace(csv), "\n"); code != exitOK || len(lines) != 2 || !strings.HasPrefix(lines[0], "run_id,reviews,") {
 		t.Errorf("summary csv:\n%s", csv)
 	}
