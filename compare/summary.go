@@ -422,7 +422,25 @@ func Wilson(x, n int, level float64) (est, lo, hi float64) {
 type SummaryRun struct {
 	RunID   int64
 	Summary Summary
+	Audits  []ReviewAudit // the audits summarized, in review order
 	Failed  []error
+}
+
+// ShiftPoints returns, for the audits with a shift in SD units, the
+// published-only random-effects estimate in SD units (the estimate divided
+// by the review's SD scale: 1 for SMD, the pooled SD for MD), the shift in
+// SD units, and the review ids: the data of the batch figures.
+func ShiftPoints(audits []ReviewAudit) (publishedSD, shiftSD []float64, labels []string) {
+	for _, a := range audits {
+		sd := sdScale(a)
+		if a.Shift.SDUnits == nil || a.Published.Random.Estimate == nil || !(sd > 0) {
+			continue
+		}
+		publishedSD = append(publishedSD, *a.Published.Random.Estimate/sd)
+		shiftSD = append(shiftSD, *a.Shift.SDUnits)
+		labels = append(labels, a.ReviewID)
+	}
+	return publishedSD, shiftSD, labels
 }
 
 // RunSummary audits every review with auditOpts (not stored as an audit
@@ -450,7 +468,7 @@ func RunSummary(ctx context.Context, db *store.DB, auditOpts Options, opts Summa
 		if err != nil {
 			return err
 		}
-		run.Failed = failed
+		run.Failed, run.Audits = failed, audits
 		run.Summary = Summarize(audits, o)
 		b, err := json.Marshal(run.Summary)
 		if err != nil {

@@ -5,10 +5,13 @@ import (
 	"fmt"
 	"strings"
 
+	"path/filepath"
+
 	"github.com/spf13/cobra"
 
 	"unshelved/analysis"
 	"unshelved/compare"
+	plotrender "unshelved/compare/render"
 	"unshelved/ingest"
 )
 
@@ -19,6 +22,9 @@ type poolOptions struct {
 	Tau2         string
 	Level        float64
 	TruncateHKSJ bool
+	Plots        []string
+	Unit         string
+	Imputed      bool
 }
 
 func newCmdPool(g *globals) *cobra.Command {
@@ -48,6 +54,11 @@ tau², and leave-one-out estimates.`,
 			if !(opts.Level > 0 && opts.Level < 1) {
 				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
 			}
+			for _, p := range opts.Plots {
+				if _, err := plotKind(p); err != nil {
+					return &flagError{err: err}
+				}
+			}
 			return poolRun(cmd, opts)
 		},
 	}
@@ -55,6 +66,9 @@ tau², and leave-one-out estimates.`,
 	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator of the main random-effects result: reml, dl or pm")
 	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
 	cmd.Flags().BoolVar(&opts.TruncateHKSJ, "truncate-hksj", false, "floor the HKSJ scale factor at 1")
+	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write a plot: a file name containing funnel or forest, ending .svg, .png or .pdf (repeatable)")
+	cmd.Flags().StringVar(&opts.Unit, "unit", "", "unit of the measure, for plot axis labels (e.g. points)")
+	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plot")
 	return cmd
 }
 
@@ -83,7 +97,36 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 		}
 		return fmt.Errorf("%s: %w", opts.File, err)
 	}
+	for _, p := range opts.Plots {
+		kind, _ := plotKind(p)
+		po := plotrender.PlotOptions{Unit: opts.Unit, Imputed: opts.Imputed}
+		var fig plotrender.Figure = plotrender.ForestFromPool(rep, po)
+		if kind == "funnel" {
+			fig = plotrender.FunnelFromPool(rep, po)
+		}
+		if err := plotrender.WritePlot(p, fig); err != nil {
+			return fmt.Errorf("write %s plot %s: %w", kind, p, err)
+		}
+		g.progressf("pool: %s plot written to %s", kind, p)
+	}
 	return render(g.IO.Out, g.Format, rep, poolGrid(rep))
+}
+
+// plotKind tells the plot a --plot file name asks for, by its name
+// (funnel or forest) and its extension (.svg, .png or .pdf).
+func plotKind(path string) (string, error) {
+	base := strings.ToLower(filepath.Base(path))
+	ext := filepath.Ext(base)
+	if ext != ".svg" && ext != ".png" && ext != ".pdf" {
+		return "", fmt.Errorf("--plot %s: the file must end in .svg, .png or .pdf", path)
+	}
+	switch {
+	case strings.Contains(base, "funnel") && !strings.Contains(base, "forest"):
+		return "funnel", nil
+	case strings.Contains(base, "forest") && !strings.Contains(base, "funnel"):
+		return "forest", nil
+	}
+	return "", fmt.Errorf("--plot %s: the file name must say funnel or forest (e.g. funnel.svg, forest.png)", path)
 }
 
 var poolColumns = []string{"study", "effect", "se", "ci_low", "ci_high", "weight_fixed", "weight_random", "converted_from"}

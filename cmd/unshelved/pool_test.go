@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -155,4 +156,27 @@ func deref(x *float64) any {
 		return nil
 	}
 	return *x
+}
+
+func TestPoolPlots(t *testing.T) {
+	dir := t.TempDir()
+	path := writeFile(t, dir, "studies.csv", poolCSV)
+	funnel, forest := filepath.Join(dir, "funnel.svg"), filepath.Join(dir, "my-forest.png")
+	code, _, stderr := runCLI(t, "", "pool", path, "--plot", funnel, "--plot", forest, "--unit", "points")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	svg, err := os.ReadFile(funnel)
+	if err != nil || !strings.Contains(string(svg), "<svg") || !strings.Contains(string(svg), "Mean difference (points)") {
+		t.Errorf("funnel.svg: %v, %.200s", err, svg)
+	}
+	png, err := os.ReadFile(forest)
+	if err != nil || len(png) < 8 || string(png[1:4]) != "PNG" {
+		t.Errorf("my-forest.png is not a PNG: %v", err)
+	}
+	for _, bad := range []string{"plot.svg", "funnel.jpg"} {
+		if code, _, stderr := runCLI(t, "", "pool", path, "--plot", filepath.Join(dir, bad)); code != exitUsage || !strings.Contains(stderr, bad) {
+			t.Errorf("--plot %s: exit %d, stderr %q", bad, code, stderr)
+		}
+	}
 }

@@ -2,11 +2,14 @@ package main
 
 import (
 	"fmt"
+	"os"
+	"path/filepath"
 
 	"github.com/spf13/cobra"
 
 	"unshelved/analysis"
 	"unshelved/compare"
+	plotrender "unshelved/compare/render"
 )
 
 type summaryOptions struct {
@@ -15,6 +18,7 @@ type summaryOptions struct {
 	Threshold float64
 	Run       int64
 	Compare   int64
+	PlotDir   string
 }
 
 func newCmdSummary(g *globals) *cobra.Command {
@@ -64,6 +68,7 @@ and seed. --run N shows a stored summary instead of computing one;
 	cmd.Flags().Float64Var(&opts.Threshold, "truth-threshold", compare.DefaultTruthThreshold, "shift in SD units above which a review counts as shifted")
 	cmd.Flags().Int64Var(&opts.Run, "run", 0, "show the stored summary run N instead of computing one")
 	cmd.Flags().Int64Var(&opts.Compare, "compare", 0, "with --run: put stored summary run M beside it")
+	cmd.Flags().StringVar(&opts.PlotDir, "plot", "", "write the batch figures (shift-histogram.svg, shift-vs-published.svg) to this folder")
 	return cmd
 }
 
@@ -116,6 +121,12 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		g.progressf("summary: %s", w)
 	}
 	g.progressf("summary: run %d stored (seed %d)", run.RunID, opts.audit.Seed)
+	if opts.PlotDir != "" {
+		if err := writeBatchFigures(opts.PlotDir, run.Audits); err != nil {
+			return err
+		}
+		g.progressf("summary: figures in %s", opts.PlotDir)
+	}
 	if err := render(g.IO.Out, g.Format, run.Summary, summaryGrid([]storedSummary{{RunID: run.RunID, Summary: run.Summary}})); err != nil {
 		return err
 	}
@@ -243,4 +254,20 @@ func propCell(p, lo, hi *float64) string {
 		return "-"
 	}
 	return fmt.Sprintf("%s [%s, %s]", round(*p, 2), roundPtr(lo, 2), roundPtr(hi, 2))
+}
+
+// writeBatchFigures writes the distribution of shifts across reviews and
+// shift against the published-only estimate, both in SD units.
+func writeBatchFigures(dir string, audits []compare.ReviewAudit) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("figures folder: %w", err)
+	}
+	published, shifts, labels := compare.ShiftPoints(audits)
+	if err := plotrender.WritePlot(filepath.Join(dir, "shift-histogram.svg"), plotrender.ShiftHistogram{ShiftsSD: shifts}); err != nil {
+		return fmt.Errorf("shift histogram: %w", err)
+	}
+	if err := plotrender.WritePlot(filepath.Join(dir, "shift-vs-published.svg"), plotrender.ShiftScatter{Published: published, ShiftSD: shifts, Labels: labels}); err != nil {
+		return fmt.Errorf("shift scatter: %w", err)
+	}
+	return nil
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -194,5 +195,27 @@ func TestTrialsCommand(t *testing.T) {
 	}
 	if code, _, _ := runCLI(t, "", "--db", db, "trials", "--as-of", "soon"); code != exitUsage {
 		t.Errorf("--as-of soon exit %d", code)
+	}
+}
+
+func TestSummaryFigures(t *testing.T) {
+	db := demoDB(t)
+	dir := filepath.Join(t.TempDir(), "figs")
+	code, _, stderr := runCLI(t, "", "--db", db, "summary", "--bootstrap", "0", "--plot", dir)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	for _, name := range []string{"shift-histogram.svg", "shift-vs-published.svg"} {
+		b, err := os.ReadFile(filepath.Join(dir, name))
+		if err != nil || !strings.Contains(string(b), "<svg") {
+			t.Errorf("%s: %v", name, err)
+		}
+	}
+	// The scatter labels each review that has a shift.
+	b, _ := os.ReadFile(filepath.Join(dir, "shift-vs-published.svg"))
+	for _, id := range []string{"TINN-01", "GLUC-02", "MOOD-03"} {
+		if !strings.Contains(string(b), id) {
+			t.Errorf("scatter lacks %s", id)
+		}
 	}
 }
