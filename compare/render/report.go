@@ -48,8 +48,11 @@ var tmplFuncs = template.FuncMap{
 	"f2":  fmt2,
 	"f3":  func(p *float64) string { return fmtP(p, 3) },
 	"p":   fmtPValue,
+	"peq": pEquals,
 	"pct": func(p *float64) string { return fmtP(p, 1) },
 	"num": func(x float64) string { return fmtFixed(x, 2) },
+	// plain prints a number without trailing zeros (12, not 12.00).
+	"plain": func(x float64) string { return strconv.FormatFloat(x, 'f', -1, 64) },
 	"yes": func(b bool) string {
 		if b {
 			return "yes"
@@ -58,6 +61,9 @@ var tmplFuncs = template.FuncMap{
 	},
 	"trialURL": trialURL,
 	"inputs":   derivationInputs,
+	"deref2":   func(b *bool) bool { return b != nil && *b },
+	"derefInt": func(p *int) int { return *p },
+	"pct100":   func(p *float64) string { return fmtP(scale100(p), 0) },
 	"deref": func(p *float64) float64 {
 		if p == nil {
 			return 0
@@ -88,6 +94,15 @@ func fmtPValue(p *float64) string {
 		return "< 0.001"
 	}
 	return strconv.FormatFloat(*p, 'f', 3, 64)
+}
+
+// pEquals writes "p = 0.038" or "p < 0.001" for running text.
+func pEquals(p *float64) string {
+	v := fmtPValue(p)
+	if strings.HasPrefix(v, "<") {
+		return "p " + v
+	}
+	return "p = " + v
 }
 
 var nctID = regexp.MustCompile(`^NCT[0-9]{8}$`)
@@ -216,8 +231,30 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 	} else {
 		out = append(out, "The direction of the pooled effect does not change.")
 	}
+	if a.MIDCrossed != nil && a.MID != nil {
+		mid := strconv.FormatFloat(*a.MID, 'f', -1, 64)
+		if *a.MIDCrossed {
+			out = append(out, "The pooled estimate crosses the review's minimal important difference ("+mid+"): the published-only and the fuller estimate fall on different sides of it.")
+		} else {
+			out = append(out, "Both estimates fall on the same side of the review's minimal important difference ("+mid+").")
+		}
+	}
 	if s := a.Shift.SDUnits; s != nil {
 		out = append(out, "In standard-deviation units the shift is "+fmtFixed(*s, 2)+" SD.")
+	}
+	if a.Shift.BootCILow != nil && a.Shift.BootCIHigh != nil {
+		out = append(out, "Bootstrap "+lv+" interval of the shift: "+fmtFixed(*a.Shift.BootCILow, 2)+" to "+fmtFixed(*a.Shift.BootCIHigh, 2)+".")
+	}
+	if m := a.Missing; m.K > 0 {
+		t := fmt.Sprintf("%d registered eligible %s posted no results", m.K, map[bool]string{true: "trial", false: "trials"}[m.K == 1])
+		if m.Enrollment > 0 {
+			t += fmt.Sprintf(" (%d participants enrolled", m.Enrollment)
+			if m.Share != nil {
+				t += fmt.Sprintf(", %s%% of all randomized", fmtFixed(100**m.Share, 0))
+			}
+			t += ")"
+		}
+		out = append(out, t+"; their evidence is still missing.")
 	}
 	switch a.Shift.Toward {
 	case "benefit":
@@ -250,8 +287,8 @@ func eggerText(b *compare.BiasReport) (string, string) {
 		return fmt.Sprintf("Egger's test could not be run (%d studies).", b.K), note
 	}
 	e := b.Egger
-	return fmt.Sprintf("Intercept (bias) %s (SE %s), t = %s on %d df, p = %s; k = %d published studies.",
-		fmt2(e.Bias), fmt2(e.BiasSE), fmt2(e.T), e.DF, fmtPValue(e.P), b.K), note
+	return fmt.Sprintf("Asymmetry coefficient (slope on SE) %s (SE %s), t = %s on %d df, %s; limit effect at SE = 0 %s [%s, %s]; k = %d published studies.",
+		fmt2(e.Bias), fmt2(e.BiasSE), fmt2(e.T), e.DF, pEquals(e.P), fmt2(e.LimitEffect), fmt2(e.LimitCILow), fmt2(e.LimitCIHigh), b.K), note
 }
 
 func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageData, error) {
@@ -260,7 +297,7 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 		level = 0.95
 	}
 	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a),
-		Verdict: verdict(a, level), Changes: a.SignificanceChanged || a.DirectionChanged, Bias: a.Bias,
+		Verdict: verdict(a, level), Changes: a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged, Bias: a.Bias,
 		Methods: methodsFor(a), Cautions: reportCautions, Generated: opts.Generated, Index: index}
 	if rv, ok := opts.Reviews[a.ReviewID]; ok {
 		d.Review = &rv
@@ -368,4 +405,12 @@ func writeFile(path string, fill func(io.Writer) error) (err error) {
 		return fmt.Errorf("write report page: %w", err)
 	}
 	return nil
+}
+
+func scale100(p *float64) *float64 {
+	if p == nil {
+		return nil
+	}
+	v := 100 * *p
+	return &v
 }
