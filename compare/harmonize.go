@@ -146,7 +146,7 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	if len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0 {
 		return se, reject(ReasonMissingGroup, "%s outcome %d: the link names no experimental or no comparator group", t.TrialID, idx)
 	}
-	class, cat, err := singleRow(o)
+	class, cat, rowDeriv, err := selectRow(rv, o)
 	if err != nil {
 		return se, reject(ReasonAmbiguousRow, "%s outcome %d: %v", t.TrialID, idx, err)
 	}
@@ -165,6 +165,9 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	}
 
 	var derivs []analysis.Derivation
+	if rowDeriv != nil {
+		derivs = append(derivs, *rowDeriv)
+	}
 	var flags []string
 	buildArm := func(groups []string) (analysis.Arm, error) {
 		arms := make([]analysis.Arm, 0, len(groups))
@@ -261,7 +264,8 @@ func changeFlags(rv ingest.Review, o *ingest.Outcome) []string {
 // comment must name the experimental group before "minus"/"vs" the
 // comparator, else the analysis is not used.
 func analysisEffect(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Link, se StudyEffect, conv *unitConversion) (StudyEffect, bool) {
-	if !strings.EqualFold(rv.Measure, "MD") && rv.Measure != "" || len(l.TreatGroups) != 1 || len(l.CtrlGroups) != 1 {
+	if !strings.EqualFold(rv.Measure, "MD") && rv.Measure != "" || len(l.TreatGroups) != 1 || len(l.CtrlGroups) != 1 || len(o.Classes) > 1 {
+		// With several posted rows nothing says which one an analysis is of.
 		return se, false
 	}
 	tg, cg := l.TreatGroups[0], l.CtrlGroups[0]
@@ -417,20 +421,57 @@ func parameterKind(paramType string) (string, error) {
 	}
 }
 
-// singleRow returns the one class and category of an outcome. Outcomes
-// posted in several rows (visits, components) cannot be used until the row
-// is chosen.
-func singleRow(o *ingest.Outcome) (int, int, error) {
-	if len(o.Classes) == 0 {
-		return 0, 0, errors.New("no measurements posted")
+// selectRow returns the class (row) and category of an outcome to use. An
+// outcome posted in one row uses it. One posted in several rows (visits,
+// as real records post per-visit results) uses the row whose title is a
+// time at the review's timepoint: titles are parsed like time frames
+// ("Week 12", "Day 84", "Month 3") and the closest within the matching
+// window (±25% or ±2 weeks) is taken, recorded as a derivation step. Rows
+// with several categories, several rows without such a title, or a tie are
+// not used.
+func selectRow(rv ingest.Review, o *ingest.Outcome) (int, int, *analysis.Derivation, error) {
+	switch len(o.Classes) {
+	case 0:
+		return 0, 0, nil, errors.New("no measurements posted")
+	case 1:
+		if n := len(o.Classes[0].Categories); n != 1 {
+			return 0, 0, nil, fmt.Errorf("posted in %d categories; only single-category rows are used", n)
+		}
+		return 0, 0, nil, nil
 	}
-	if len(o.Classes) > 1 {
-		return 0, 0, fmt.Errorf("posted in %d rows; only single-row outcomes are used", len(o.Classes))
+	titles := make([]string, len(o.Classes))
+	for i, c := range o.Classes {
+		titles[i] = fmt.Sprintf("%q", c.Title)
 	}
-	if n := len(o.Classes[0].Categories); n != 1 {
-		return 0, 0, fmt.Errorf("posted in %d categories; only single-row outcomes are used", n)
+	if rv.TimepointWeeks == nil {
+		return 0, 0, nil, fmt.Errorf("posted in %d rows (%s) and the review gives no timepoint to choose one", len(o.Classes), strings.Join(titles, ", "))
 	}
-	return 0, 0, nil
+	target := *rv.TimepointWeeks * daysPerWeek
+	window := timeWindow(target)
+	best, bestDist, tie := -1, math.Inf(1), false
+	for i, c := range o.Classes {
+		tf := ParseTimeFrame(c.Title)
+		if !tf.Usable() || tf.UpTo || len(tf.Days) != 1 || len(c.Categories) != 1 {
+			continue
+		}
+		d := math.Abs(tf.Days[0] - target)
+		switch {
+		case d > window:
+		case d < bestDist:
+			best, bestDist, tie = i, d, false
+		case d == bestDist:
+			tie = true
+		}
+	}
+	if best < 0 || tie {
+		return 0, 0, nil, fmt.Errorf("posted in %d rows (%s); none is a single time at the review's timepoint of %s weeks", len(o.Classes), strings.Join(titles, ", "), fmtWeeks(target))
+	}
+	d := &analysis.Derivation{
+		Method:  "row_by_timepoint",
+		Formula: fmt.Sprintf("row %q of %d chosen: the posted time closest to the review's timepoint (%s weeks, window ±%s weeks)", o.Classes[best].Title, len(o.Classes), fmtWeeks(target), fmtWeeks(window)),
+		Inputs:  []analysis.NamedValue{{Name: "row", Value: float64(best)}, {Name: "distance_days", Value: bestDist}},
+	}
+	return best, 0, d, nil
 }
 
 // groupArm reads one group's mean, SD and N from an outcome row.
