@@ -152,6 +152,7 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	}
 
 	var conv *unitConversion
+	var unitFlags []string
 	if l.UnitFrom != "" || (o.Unit != "" && rv.Unit != "") {
 		from := l.UnitFrom
 		if from == "" {
@@ -161,6 +162,12 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 		if err != nil && l.UnitFrom != "" {
 			return se, reject(ReasonUnit, "%s outcome %d: %v", t.TrialID, idx, err)
 		}
+		if err != nil && (physicalUnit(o.Unit) || physicalUnit(rv.Unit)) {
+			// Registries write units freely ("score on a scale" for
+			// "points"), so only a difference involving a physical unit
+			// is flagged, and not refused.
+			unitFlags = append(unitFlags, fmt.Sprintf("unit %q differs from the review's %q and no conversion is known: check that the scales agree", o.Unit, rv.Unit))
+		}
 		conv = c
 	}
 
@@ -168,7 +175,10 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	if rowDeriv != nil {
 		derivs = append(derivs, *rowDeriv)
 	}
-	var flags []string
+	flags := unitFlags
+	if kind == kindMean && strings.EqualFold(o.ParamType, "LEAST_SQUARES_MEAN") && o.Dispersion == "STANDARD_ERROR" {
+		flags = append(flags, "least-squares (model-adjusted) means; an SD from their SE is approximate")
+	}
 	buildArm := func(groups []string) (analysis.Arm, error) {
 		arms := make([]analysis.Arm, 0, len(groups))
 		for _, g := range groups {

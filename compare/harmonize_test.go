@@ -2,6 +2,7 @@ package compare
 
 import (
 	"errors"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -214,5 +215,35 @@ func TestUnitSpellings(t *testing.T) {
 	}
 	if c, err := findConversion("mg/dL", "mmol/L", "C-peptide"); err == nil || c != nil {
 		t.Errorf("C-peptide mg/dL converted with a table factor: %+v", c)
+	}
+}
+
+func TestUnitMismatchIsFlagged(t *testing.T) {
+	tr := twoArmTrial("STANDARD_DEVIATION", "MEAN", map[string][4]string{"OG000": {"7.9", "1.1", "", ""}, "OG001": {"8.4", "1.2", "", ""}},
+		map[string]string{"OG000": "40", "OG001": "40"})
+	link := ingest.Link{TreatGroups: []string{"OG000"}, CtrlGroups: []string{"OG001"}}
+	for _, tc := range []struct {
+		registryUnit, reviewUnit string
+		flagged                  bool
+	}{
+		{"%", "mmol/L", true},                 // HbA1c percent posted for a glucose review
+		{"score on a scale", "points", false}, // scale scores are written freely
+		{"mmol/L", "mmol/l", false},           // same unit
+	} {
+		tr.Outcomes[0].Unit = tc.registryUnit
+		rv := ingest.Review{Measure: "MD", Outcome: "fasting plasma glucose", Unit: tc.reviewUnit}
+		got, err := RegistryEffect(rv, tr, link)
+		if err != nil {
+			t.Fatal(err)
+		}
+		flagged := false
+		for _, f := range got.Flags {
+			if strings.Contains(f, "no conversion is known") {
+				flagged = true
+			}
+		}
+		if flagged != tc.flagged {
+			t.Errorf("%q vs %q: flagged %v, want %v (flags %q)", tc.registryUnit, tc.reviewUnit, flagged, tc.flagged, got.Flags)
+		}
 	}
 }
