@@ -45,9 +45,9 @@ func trialRows(t ingest.Trial) (rows, measurements int) {
 // measurements, committing every 2000 trials (and at the end).
 func BenchmarkWriteTrials(b *testing.B) {
 	for _, mode := range []struct {
-		name     string
-		multiRow bool
-	}{{"single-row", false}, {"multi-row", true}} {
+		name    string
+		maxRows int
+	}{{"single-row", 1}, {"multi-row", maxChunkRows}} {
 		b.Run(mode.name, func(b *testing.B) {
 			ctx := context.Background()
 			db := mustOpen(b)
@@ -57,7 +57,7 @@ func BenchmarkWriteTrials(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			w.multiRow = mode.multiRow
+			w.maxRows = mode.maxRows
 			b.ReportAllocs()
 			b.ResetTimer()
 			for i := 0; i < b.N; i++ {

@@ -52,16 +52,16 @@ func TestMeasurementInsertPathsAgree(t *testing.T) {
 	trials := []ingest.Trial{oddTrial("NCT99001301"), fullTrial("NCT99001302"), odd}
 
 	var dumps []string
-	for _, multiRow := range []bool{true, false} {
+	for _, maxRows := range []int{maxChunkRows, 1, 4} {
 		db := mustOpen(t)
 		w, err := db.NewTrialWriter(ctx, 0)
 		if err != nil {
 			t.Fatal(err)
 		}
-		w.multiRow = multiRow
+		w.maxRows = maxRows
 		for _, tr := range trials {
 			if _, err := w.Write(ctx, tr); err != nil {
-				t.Fatalf("multi-row %v: %v", multiRow, err)
+				t.Fatalf("%d rows per insert: %v", maxRows, err)
 			}
 		}
 		if err := w.Close(ctx); err != nil {
@@ -73,7 +73,7 @@ func TestMeasurementInsertPathsAgree(t *testing.T) {
 				t.Fatal(err)
 			}
 			if !reflect.DeepEqual(got, want) {
-				t.Errorf("multi-row %v: %s does not round-trip", multiRow, want.TrialID)
+				t.Errorf("%d rows per insert: %s does not round-trip", maxRows, want.TrialID)
 				diffTrial(t, got, want)
 			}
 		}
@@ -81,7 +81,7 @@ func TestMeasurementInsertPathsAgree(t *testing.T) {
 	}
 	for i := 1; i < len(dumps); i++ {
 		if dumps[i] != dumps[0] {
-			t.Error("single-row and multi-row inserts give different dumps")
+			t.Errorf("%d rows per insert and %d give different dumps", maxChunkRows, []int{maxChunkRows, 1, 4}[i])
 		}
 	}
 }
