@@ -16,7 +16,7 @@ import (
 )
 
 // TestIngestWhileReading runs an ingest into the demo workspace while
-// 'db info' and 'audit' run against the same file from other handles:
+// 'db info', 'audit' and 'trials' run against the same file from other handles:
 // no reader fails (no "database is locked"), the audit never changes
 // (the ingested trials are not linked), and the trial count only grows.
 func TestIngestWhileReading(t *testing.T) {
@@ -82,6 +82,34 @@ func TestIngestWhileReading(t *testing.T) {
 			} else if out != wantAudit {
 				report("audit changed during the ingest")
 			}
+		}
+	}()
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		last := -1
+		for {
+			select {
+			case <-done:
+				return
+			default:
+			}
+			code, out, stderr := runCLI(t, "", "--db", db, "--quiet", "--format", "json", "trials", "--as-of", "2026-12-01")
+			if code != exitOK {
+				report("trials: " + stderr)
+				continue
+			}
+			var rep struct {
+				Trials []json.RawMessage `json:"trials"`
+			}
+			if err := json.Unmarshal([]byte(out), &rep); err != nil {
+				report("trials JSON: " + err.Error())
+				continue
+			}
+			if len(rep.Trials) < last {
+				report("trials went back during the ingest")
+			}
+			last = len(rep.Trials)
 		}
 	}()
 	code, _, stderr = runCLI(t, "", "--db", db, "--quiet", "ingest", "registry", "--batch", "25", name)
