@@ -219,3 +219,27 @@ func TestSummaryFigures(t *testing.T) {
 		}
 	}
 }
+
+func TestSummaryCancelledIsNotComplete(t *testing.T) {
+	db := demoDB(t)
+	io, _, _ := testIO("")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if code := run(ctx, []string{"--db", db, "summary"}, io); code != exitInterrupted {
+		t.Errorf("cancelled summary exit %d, want %d", code, exitInterrupted)
+	}
+	s, err := store.Open(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	runs, err := s.Runs(context.Background(), "summary")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range runs {
+		if r.Status == store.RunComplete {
+			t.Errorf("a cancelled summary was recorded as complete: %+v", r)
+		}
+	}
+}
