@@ -638,6 +638,20 @@ func scaleUnit(u string) bool {
 	return false
 }
 
+// shareWords reports whether two unit texts share a content word (stemmed).
+func shareWords(a, b string) bool {
+	bs := map[string]bool{}
+	for _, w := range stems(b, false) {
+		bs[w] = true
+	}
+	for _, w := range stems(a, false) {
+		if bs[w] {
+			return true
+		}
+	}
+	return false
+}
+
 // unitScore scores a registry unit against the review's. MD reviews need
 // the same unit, two rating-scale units, or a conversion in the unit table
 // (then unitFrom is the registry's unit); SMD reviews are unit-free but a
@@ -661,6 +675,14 @@ func unitScore(rv ingest.Review, unit string) (score float64, unitFrom, why stri
 	c, err := findConversion(unit, rv.Unit, rv.Outcome)
 	if err == nil && c != nil {
 		return 0.9, unit, fmt.Sprintf("unit %q converts to %q (%s)", unit, rv.Unit, c.Source)
+	}
+	if !physicalUnit(unit) && !physicalUnit(rv.Unit) {
+		// Counts and scores are worded freely ("number of lesions" for
+		// "lesions"): not a failure, but shared words count for more.
+		if shareWords(unit, rv.Unit) {
+			return 0.9, "", fmt.Sprintf("unit %q resembles %q", unit, rv.Unit)
+		}
+		return 0.6, "", fmt.Sprintf("unit %q and %q are worded differently (neither is a physical unit): check they are the same scale", unit, rv.Unit)
 	}
 	return 0, "", fmt.Sprintf("unit %q cannot be converted to %q", unit, rv.Unit)
 }

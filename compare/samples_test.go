@@ -123,3 +123,32 @@ func TestRegistryEffectRealPerVisitOutcome(t *testing.T) {
 		t.Errorf("component rows (Erythema, ...) were taken for a timepoint")
 	}
 }
+
+// TestRegistryEffectAgreesWithPostedAnalysis: for a real record's primary
+// outcome (LS means with SE), the mean difference computed from the arms
+// must agree with the sponsor's own posted between-group analysis
+// ("Difference of Least Squares (LS) Mean" 1.8, SE 1.95 in
+// NCT03064438), to the rounding of the posted values.
+func TestRegistryEffectAgreesWithPostedAnalysis(t *testing.T) {
+	_, tr := sampleRecord(t, "NCT03064438.json")
+	o := tr.Outcomes[0]
+	if len(o.Analyses) == 0 || !o.Analyses[0].ParamValue.OK || !o.Analyses[0].DispersionValue.OK {
+		t.Fatalf("sample outcome 0 has no posted analysis with an SE: %+v", o.Analyses)
+	}
+	a := o.Analyses[0]
+	rv := ingest.Review{ReviewID: "X", Measure: "MD", Unit: "lesions", Better: "lower", TimepointWeeks: fp(12)}
+	got, err := RegistryEffect(rv, tr, ingest.Link{OutcomeIndex: 0, TreatGroups: []string{a.GroupIDs[0]}, CtrlGroups: []string{a.GroupIDs[1]}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.ConvertedFrom != "arms_se" {
+		t.Errorf("converted from %q, want the arms (arms_se)", got.ConvertedFrom)
+	}
+	// The posted values carry one or two decimals: agree within half a unit of the last.
+	if math.Abs(got.Effect-a.ParamValue.Value) > 0.05 {
+		t.Errorf("MD %v, posted analysis %v", got.Effect, a.ParamValue.Value)
+	}
+	if math.Abs(got.SE-a.DispersionValue.Value) > 0.01 {
+		t.Errorf("SE %v, posted analysis SE %v", got.SE, a.DispersionValue.Value)
+	}
+}
