@@ -216,8 +216,8 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 
 	included := map[string]bool{}
 	for _, s := range in.Studies {
-		if s.RegistryID != "" {
-			included[strings.ToUpper(strings.TrimSpace(s.RegistryID))] = true
+		for _, id := range RegistryIDs(s.RegistryID) {
+			included[id] = true
 		}
 		e, err := PublishedEffect(rv, s)
 		if err != nil {

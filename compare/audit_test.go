@@ -216,3 +216,26 @@ func deref2(b *bool) any {
 	}
 	return *b
 }
+
+func TestRegistryIDsCell(t *testing.T) {
+	got := RegistryIDs(" nct99999900; 2099-001234-55 ,ISRCTN99999999|")
+	want := []string{"NCT99999900", "2099-001234-55", "ISRCTN99999999"}
+	if len(got) != len(want) {
+		t.Fatalf("got %q, want %q", got, want)
+	}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Errorf("got %q, want %q", got, want)
+		}
+	}
+	// A study citing two ids keeps its trial out of the registry additions.
+	in := auditFixture()
+	in.Studies[0].RegistryID = "2099-001234-55; NCT99999900"
+	a, err := AuditReview(in, Options{Bootstrap: 0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.KAdded != 2 || len(a.Rejected) != 1 || a.Rejected[0].Reason != ReasonIncluded {
+		t.Errorf("k_added %d, rejected %+v: the doubly-cited trial must count as included", a.KAdded, a.Rejected)
+	}
+}

@@ -88,8 +88,11 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 		}
 		var ps *StudyEffect
 		for i := range pub {
-			id := strings.ToUpper(strings.TrimSpace(pub[i].TrialID))
-			if id != "" && isIncluded(t, map[string]bool{id: true}) {
+			ids := map[string]bool{}
+			for _, id := range RegistryIDs(pub[i].TrialID) {
+				ids[id] = true
+			}
+			if len(ids) > 0 && isIncluded(t, ids) {
 				ps = &pub[i]
 				break
 			}

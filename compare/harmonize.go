@@ -64,6 +64,20 @@ const (
 	ReasonIncluded      = "already-included"
 )
 
+// RegistryIDs splits a study's registry_id cell into ids: several may be
+// given, separated by ';', ',', '|' or spaces (a trial registered in two
+// registries), upper-cased.
+func RegistryIDs(cell string) []string {
+	f := strings.FieldsFunc(cell, func(r rune) bool { return r == ';' || r == ',' || r == '|' || r == ' ' || r == '\t' })
+	out := f[:0]
+	for _, id := range f {
+		if id = strings.ToUpper(strings.TrimSpace(id)); id != "" {
+			out = append(out, id)
+		}
+	}
+	return out
+}
+
 // PublishedEffect converts one published study of a review into an effect
 // on the review's measure. A study that gives effect and SE is used as the
 // review reported it; otherwise the arm data are converted (MD, or Hedges'

@@ -184,8 +184,10 @@ func prepareReview(rv ingest.Review, studies []ingest.ReviewStudy) *reviewTerms 
 		if s.ReviewID != "" && s.ReviewID != rv.ReviewID {
 			continue
 		}
-		if id := strings.ToUpper(strings.TrimSpace(s.RegistryID)); id != "" {
-			rt.included[id] = s.Study
+		if ids := RegistryIDs(s.RegistryID); len(ids) > 0 {
+			for _, id := range ids {
+				rt.included[id] = s.Study
+			}
 			continue
 		}
 		if s.TreatMean != nil && s.TreatN != nil && s.CtrlMean != nil && s.CtrlN != nil {

@@ -197,17 +197,15 @@ func Match(ctx context.Context, db *store.DB, opts MatchOptions) (MatchReport, e
 			ids[id] = true
 		}
 		for _, s := range studies {
-			id := strings.TrimSpace(s.RegistryID)
-			if id == "" {
-				continue
-			}
-			ids[strings.ToUpper(id)] = true
-			other, err := db.TrialBySecondaryID(ctx, id)
-			if err != nil {
-				return rep, fmt.Errorf("look up %s: %w", id, err)
-			}
-			for _, o := range other {
-				ids[o] = true
+			for _, id := range RegistryIDs(s.RegistryID) {
+				ids[id] = true
+				other, err := db.TrialBySecondaryID(ctx, id)
+				if err != nil {
+					return rep, fmt.Errorf("look up %s: %w", id, err)
+				}
+				for _, o := range other {
+					ids[o] = true
+				}
 			}
 		}
 		trials := make([]ingest.Trial, 0, len(ids))
