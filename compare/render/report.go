@@ -383,7 +383,7 @@ func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (
 		if err := writeFile(filepath.Join(dir, name), func(w io.Writer) error { return ReviewPage(w, a, opts, "index.html") }); err != nil {
 			return "", err
 		}
-		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: a.SignificanceChanged || a.DirectionChanged}
+		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged}
 		if row.Changes {
 			idx.Changed++
 		}
