@@ -2,6 +2,8 @@ package store
 
 import (
 	"context"
+	"reflect"
+	"sort"
 	"strings"
 	"testing"
 )
@@ -63,4 +65,77 @@ func TestTableKindsMatchSchema(t *testing.T) {
 			}
 		})
 	}
+}
+
+// TestTablesCoverTrialChildren checks that the writer knows every table
+// referencing trials: it deletes a replaced trial's rows table by table.
+func TestTablesCoverTrialChildren(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpen(t)
+	var got []string
+	rows, err := db.read.QueryContext(ctx, `SELECT DISTINCT m.name FROM sqlite_schema m, pragma_foreign_key_list(m.name) f
+		WHERE m.type = 'table' AND f."table" = 'trials' ORDER BY m.name`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			t.Fatal(err)
+		}
+		got = append(got, name)
+	}
+	if err := rows.Close(); err != nil {
+		t.Fatal(err)
+	}
+	var want []string
+	for _, tab := range tables[1:] {
+		want = append(want, tab.name)
+	}
+	sort.Strings(want)
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("tables referencing trials %v, writer writes %v", got, want)
+	}
+}
+
+// TestWriterRestoresForeignKeys checks that the write connection enforces
+// foreign keys again after a committed and after a failed batch.
+func TestWriterRestoresForeignKeys(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpen(t)
+	check := func(when string) {
+		t.Helper()
+		var on int
+		if err := db.write.QueryRowContext(ctx, "PRAGMA foreign_keys").Scan(&on); err != nil {
+			t.Fatal(err)
+		}
+		if on != 1 {
+			t.Errorf("%s: foreign_keys = %d, want 1", when, on)
+		}
+	}
+	w, err := db.NewTrialWriter(ctx, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.Write(ctx, fullTrial("NCT99002001")); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(ctx); err != nil {
+		t.Fatal(err)
+	}
+	check("after commit")
+
+	w, err = db.NewTrialWriter(ctx, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.Write(ctx, fullTrial("NCT99002002")); err != nil {
+		t.Fatal(err)
+	}
+	cctx, cancel := context.WithCancel(ctx)
+	cancel()
+	if _, err := w.Write(cctx, fullTrial("NCT99002003")); err == nil {
+		t.Fatal("write under a cancelled context succeeded")
+	}
+	check("after rollback")
 }

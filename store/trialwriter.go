@@ -101,10 +101,10 @@ type TrialWriter struct {
 	closed  bool
 
 	// Valid only while a batch is open, and used only inside conn.Raw.
-	dc     driver.ConnPrepareContext
-	lookup driver.Stmt
-	delete driver.Stmt
-	stmts  [numTables][chunkLevels]driver.Stmt
+	dc      driver.ConnPrepareContext
+	lookup  driver.Stmt
+	deletes [numTables]driver.Stmt
+	stmts   [numTables][chunkLevels]driver.Stmt
 
 	rows [numTables]rowBuf
 	args []driver.NamedValue // reused for each statement
@@ -218,22 +218,37 @@ func (w *TrialWriter) begin(ctx context.Context) error {
 	if err != nil {
 		return fmt.Errorf("begin batch: %w", err)
 	}
+	// Foreign keys are not enforced during the batch (the pragma must come
+	// before BEGIN): every child row is inserted right after its trial's
+	// row, and a replaced trial's children are deleted table by table
+	// (deleteTrial), so the parent lookup SQLite would make for each
+	// child row checks nothing the writer does not already guarantee.
+	// release turns enforcement back on before the connection is reused.
+	if _, err := conn.ExecContext(ctx, "PRAGMA foreign_keys = OFF"); err != nil {
+		_ = conn.Close()
+		return fmt.Errorf("begin batch: %w", err)
+	}
 	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
-		_ = conn.Close()
+		w.conn = conn
+		w.release()
 		return fmt.Errorf("begin batch: %w", err)
 	}
 	w.conn, w.tx, w.pending = conn, tx, 0
 	return nil
 }
 
-// release finalizes the batch's statements and returns the connection to
-// the pool; the transaction must be over.
+// release finalizes the batch's statements, turns foreign keys back on
+// and returns the connection to the pool; the transaction must be over.
+// A connection whose foreign keys cannot be turned back on is discarded.
 func (w *TrialWriter) release() {
 	_ = w.conn.Raw(func(any) error {
 		w.closeStmts()
 		return nil
 	})
+	if _, err := w.conn.ExecContext(context.Background(), "PRAGMA foreign_keys = ON"); err != nil {
+		_ = w.conn.Raw(func(any) error { return driver.ErrBadConn })
+	}
 	_ = w.conn.Close()
 	w.conn, w.tx, w.dc, w.pending = nil, nil, nil, 0
 	for i := range w.rows {
@@ -242,10 +257,14 @@ func (w *TrialWriter) release() {
 }
 
 func (w *TrialWriter) closeStmts() {
-	for _, st := range []*driver.Stmt{&w.lookup, &w.delete} {
-		if *st != nil {
-			_ = (*st).Close()
-			*st = nil
+	if w.lookup != nil {
+		_ = w.lookup.Close()
+		w.lookup = nil
+	}
+	for i, st := range w.deletes {
+		if st != nil {
+			_ = st.Close()
+			w.deletes[i] = nil
 		}
 	}
 	for i := range w.stmts {
@@ -377,13 +396,7 @@ func (w *TrialWriter) upsert(ctx context.Context, dc any, t ingest.Trial) (Write
 		if c < 0 {
 			return Older, nil
 		}
-		if w.delete == nil {
-			if w.delete, err = w.prepare(ctx, `DELETE FROM trials WHERE trial_id = ?`); err != nil {
-				return 0, err
-			}
-		}
-		w.args = append(w.args[:0], driver.NamedValue{Ordinal: 1, Value: t.TrialID})
-		if err := w.exec(ctx, w.delete, w.args); err != nil {
+		if err := w.deleteTrial(ctx, t.TrialID); err != nil {
 			return 0, fmt.Errorf("delete stored version: %w", err)
 		}
 		out = Replaced
@@ -393,6 +406,26 @@ func (w *TrialWriter) upsert(ctx context.Context, dc any, t ingest.Trial) (Write
 		return 0, err
 	}
 	return out, nil
+}
+
+// deleteTrial deletes a stored trial's rows from every table, children
+// first (foreign keys are not enforced during a batch, so nothing
+// cascades).
+func (w *TrialWriter) deleteTrial(ctx context.Context, id string) error {
+	for i := numTables - 1; i >= 0; i-- {
+		if w.deletes[i] == nil {
+			st, err := w.prepare(ctx, "DELETE FROM "+tables[i].name+" WHERE trial_id = ?")
+			if err != nil {
+				return err
+			}
+			w.deletes[i] = st
+		}
+		w.args = append(w.args[:0], driver.NamedValue{Ordinal: 1, Value: id})
+		if err := w.exec(ctx, w.deletes[i], w.args); err != nil {
+			return fmt.Errorf("%s: %w", tables[i].name, err)
+		}
+	}
+	return nil
 }
 
 // flush inserts the collected rows of one trial, the trial row first (the
