@@ -2,6 +2,8 @@ package store
 
 import (
 	"context"
+	"database/sql"
+	"path/filepath"
 	"reflect"
 	"sort"
 	"strings"
@@ -138,4 +140,43 @@ func TestWriterRestoresForeignKeys(t *testing.T) {
 		t.Fatal("write under a cancelled context succeeded")
 	}
 	check("after rollback")
+}
+
+// TestPageSize checks that Open gives a new file PageSize and leaves an
+// existing file's page size alone.
+func TestPageSize(t *testing.T) {
+	ctx := context.Background()
+	pageSize := func(db *DB) int {
+		t.Helper()
+		var n int
+		if err := db.read.QueryRowContext(ctx, "PRAGMA page_size").Scan(&n); err != nil {
+			t.Fatal(err)
+		}
+		return n
+	}
+	if got := pageSize(mustOpen(t)); got != PageSize {
+		t.Errorf("new file: page size %d, want %d", got, PageSize)
+	}
+
+	path := filepath.Join(t.TempDir(), "old.db")
+	c, err := sql.Open("sqlite3", "file:"+path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, q := range []string{"PRAGMA page_size = 4096", "PRAGMA journal_mode = WAL", "CREATE TABLE early (x)", "DROP TABLE early"} {
+		if _, err := c.ExecContext(ctx, q); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := c.Close(); err != nil {
+		t.Fatal(err)
+	}
+	db := mustOpenPath(t, path)
+	if got := pageSize(db); got != 4096 {
+		t.Errorf("existing file: page size %d, want 4096", got)
+	}
+	writeTrials(t, db, fullTrial("NCT99002101"))
+	if got, err := db.Trial(ctx, "NCT99002101"); err != nil || got.TrialID != "NCT99002101" {
+		t.Errorf("existing file: trial not stored: %v", err)
+	}
 }
