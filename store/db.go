@@ -114,7 +114,12 @@ func dsn(file string, readOnly bool) string {
 		// nothing it committed and the file never corrupts; only a power
 		// cut can lose the last commits. A 64 MiB page cache keeps the
 		// index pages of a growing database in memory during bulk loads.
-		q += "&_txlock=immediate&_synchronous=NORMAL&_cache_size=-65536"
+		// _mutex=no opens the connection without SQLite's per-connection
+		// mutex, which every bind and step would otherwise take: the write
+		// pool has one connection and database/sql hands it to one
+		// goroutine at a time (the driver's cancellation watcher only calls
+		// sqlite3_interrupt, which is safe from any thread).
+		q += "&_txlock=immediate&_synchronous=NORMAL&_cache_size=-65536&_mutex=no"
 	}
 	return "file:" + file + "?" + q
 }
