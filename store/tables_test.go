@@ -8,6 +8,8 @@ import (
 	"sort"
 	"strings"
 	"testing"
+
+	"unshelved/ingest"
 )
 
 // TestTableKindsMatchSchema checks the writer's column kinds against the
@@ -178,5 +180,44 @@ func TestPageSize(t *testing.T) {
 	writeTrials(t, db, fullTrial("NCT99002101"))
 	if got, err := db.Trial(ctx, "NCT99002101"); err != nil || got.TrialID != "NCT99002101" {
 		t.Errorf("existing file: trial not stored: %v", err)
+	}
+}
+
+// TestVersionsWithinOneBatch writes versions of the same trial, between
+// other trials, in one batch (rows of several trials share statements
+// until the batch commits) and in a batch per trial: outcomes and dumps
+// must agree.
+func TestVersionsWithinOneBatch(t *testing.T) {
+	v1 := fullTrial("NCT99002201")
+	v2 := fullTrial("NCT99002201")
+	v2.ContentHash = "v2"
+	v2.LastUpdatePosted.Text = "2023-06-01"
+	v2.Outcomes = v2.Outcomes[:1]
+	v2.Aliases = nil
+	older := fullTrial("NCT99002201")
+	older.ContentHash = "v0"
+	older.LastUpdatePosted.Text = "2022-12"
+	seq := []ingest.Trial{v1, oddTrial("NCT99002202"), v1, v2, bigTrial("NCT99002203", 3, 150), older, v2, oddTrial("NCT99002204")}
+	want := []WriteOutcome{Inserted, Inserted, Unchanged, Replaced, Inserted, Older, Unchanged, Inserted}
+
+	one := mustOpen(t)
+	if got := writeTrials(t, one, seq...); !reflect.DeepEqual(got, want) {
+		t.Errorf("one batch: outcomes %v, want %v", got, want)
+	}
+	each := mustOpen(t)
+	for i, tr := range seq {
+		if got := writeTrials(t, each, tr); got[0] != want[i] {
+			t.Errorf("batch per trial: write %d = %v, want %v", i, got[0], want[i])
+		}
+	}
+	if dump(t, one) != dump(t, each) {
+		t.Error("one batch and a batch per trial give different dumps")
+	}
+	got, err := one.Trial(context.Background(), v2.TrialID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got, v2) {
+		diffTrial(t, got, v2)
 	}
 }
