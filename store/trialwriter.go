@@ -870,9 +870,15 @@ type table struct {
 
 // insertSQL returns the INSERT of k rows: ?1 is the trial id, and row r's
 // column c is ?(2+r*width+c).
+//
+// OR FAIL: a failing statement keeps the rows it inserted before the
+// failure instead of undoing them. The writer rolls the whole batch back
+// after any failure, so nothing partial survives; in return SQLite keeps
+// no statement journal, which would otherwise copy each stored page a
+// multi-row INSERT changes to a temporary file first.
 func (t *table) insertSQL(k int) string {
 	var sb strings.Builder
-	sb.WriteString("INSERT INTO " + t.name + " (trial_id, " + t.columns + ") VALUES ")
+	sb.WriteString("INSERT OR FAIL INTO " + t.name + " (trial_id, " + t.columns + ") VALUES ")
 	p := 2
 	for r := 0; r < k; r++ {
 		if r > 0 {
