@@ -91,3 +91,36 @@ func BenchmarkReadTrial(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkWriteTrialsNoResults writes new trials without posted results
+// (registry fields, ids, terms, arms, interventions, references), the
+// most common kind of record in a registry download.
+func BenchmarkWriteTrialsNoResults(b *testing.B) {
+	ctx := context.Background()
+	db := mustOpen(b)
+	tmpl := fullTrial("NCT99990000")
+	tmpl.Outcomes = nil
+	tmpl.HasResults = ptr(false)
+	rows, _ := trialRows(tmpl)
+	w, err := db.NewTrialWriter(ctx, DefaultBatchSize)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		t := tmpl
+		t.TrialID = fmt.Sprintf("NCT9%07d", i)
+		t.ContentHash = t.TrialID
+		if _, err := w.Write(ctx, t); err != nil {
+			b.Fatal(err)
+		}
+	}
+	if err := w.Close(ctx); err != nil {
+		b.Fatal(err)
+	}
+	b.StopTimer()
+	sec := b.Elapsed().Seconds()
+	b.ReportMetric(float64(b.N)/sec, "trials/s")
+	b.ReportMetric(float64(b.N*rows)/sec, "rows/s")
+}
