@@ -635,27 +635,30 @@ func commentSuffix(c string) string {
 	return fmt.Sprintf(" (comment: %s)", c)
 }
 
-// convertedFrom names the route a registry effect took, for tables.
+// convertedFrom names the route a registry effect took, for tables:
+// "arms_" then "median_" for medians, the dispersion (sd, se, ci95, iqr,
+// range) and "_combined" when groups were combined.
 func convertedFrom(kind, dispersion string, combined bool) string {
-	var s string
+	base := strings.ToLower(dispersion)
 	switch dispersion {
 	case "STANDARD_DEVIATION":
-		s = "arms_sd"
+		base = "sd"
 	case "STANDARD_ERROR":
-		s = "arms_se"
+		base = "se"
 	case "INTER_QUARTILE_RANGE":
-		s = "arms_median_iqr"
+		base = "iqr"
 	case "FULL_RANGE":
-		s = "arms_range"
+		base = "range"
 	default:
-		s = "arms_" + strings.ToLower(strings.TrimPrefix(dispersion, "CONFIDENCE_")) + "ci"
 		if strings.HasPrefix(dispersion, "CONFIDENCE_") {
-			s = "arms_ci" + strings.TrimPrefix(dispersion, "CONFIDENCE_")
+			base = "ci" + strings.TrimPrefix(dispersion, "CONFIDENCE_")
 		}
 	}
+	s := "arms_"
 	if kind == kindMedian {
-		s += "_median"
+		s += "median_"
 	}
+	s += base
 	if combined {
 		s += "_combined"
 	}

@@ -247,3 +247,22 @@ func TestUnitMismatchIsFlagged(t *testing.T) {
 		}
 	}
 }
+
+func TestConvertedFromNames(t *testing.T) {
+	for _, tc := range []struct {
+		kind, dispersion string
+		combined         bool
+		want             string
+	}{
+		{kindMean, "STANDARD_DEVIATION", false, "arms_sd"},
+		{kindMean, "STANDARD_ERROR", true, "arms_se_combined"},
+		{kindMean, "CONFIDENCE_95", false, "arms_ci95"},
+		{kindMedian, "INTER_QUARTILE_RANGE", false, "arms_median_iqr"},
+		{kindMedian, "FULL_RANGE", false, "arms_median_range"},
+		{kindMean, "FULL_RANGE", false, "arms_range"},
+	} {
+		if got := convertedFrom(tc.kind, tc.dispersion, tc.combined); got != tc.want {
+			t.Errorf("convertedFrom(%s, %s, %v) = %q, want %q", tc.kind, tc.dispersion, tc.combined, got, tc.want)
+		}
+	}
+}
