@@ -35,8 +35,9 @@ type GradeInput struct {
 	// ShiftSDUnits is the change in the pooled estimate, in SD units, when
 	// registry results of unpublished trials are added; nil when unknown.
 	ShiftSDUnits *float64
-	// Estimate is the pooled estimate of the published studies, in effect
-	// units, used to describe what trim-and-fill changes.
+	// Estimate is the fixed-effect estimate of the published studies, in
+	// effect units, compared with trim-and-fill's filled fixed-effect
+	// estimate in Reasons.
 	Estimate float64
 }
 
@@ -116,8 +117,8 @@ func Grade(in GradeInput) GradeHint {
 		tf := in.TrimFill
 		if tf.K0 > 0 {
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"trim-and-fill (%s) imputes %d studies on the %s; the random-effects estimate moves from %.3g to %.3g (not used for the hint)",
-				tf.Estimator, tf.K0, tf.Side, in.Estimate, tf.RandomEstimate))
+				"trim-and-fill (%s) imputes %d studies on the %s; the fixed-effect estimate moves from %.3g to %.3g (random effects of the filled data: %.3g) (not used for the hint)",
+				tf.Estimator, tf.K0, tf.Side, in.Estimate, tf.FixedEstimate, tf.RandomEstimate))
 		} else {
 			h.Reasons = append(h.Reasons, fmt.Sprintf("trim-and-fill (%s) imputes no studies (not used for the hint)", tf.Estimator))
 		}
