@@ -106,11 +106,6 @@ func (t *csvTable) get(name string) string {
 	return strings.TrimSpace(t.row[i])
 }
 
-func (t *csvTable) has(name string) bool {
-	_, ok := t.col[name]
-	return ok
-}
-
 func (t *csvTable) source() Source {
 	return Source{Path: t.src.Path, SHA256: t.src.SHA256, Position: "line " + strconv.Itoa(t.line)}
 }

@@ -264,10 +264,9 @@ func (it *item) parse(ctx context.Context) {
 }
 
 type inputFile struct {
-	path    string // as shown to the user
-	open    string // what to open
-	size    int64
-	listErr *ParseError
+	path string // as shown to the user
+	open string // what to open
+	size int64
 }
 
 // listInputs expands folders and spools standard input to a temporary file

@@ -226,11 +226,6 @@ func pValue(p float64) string {
 	}
 }
 
-// interval formats "est [lo, hi]" for people.
-func interval(est, lo, hi float64, d int) string {
-	return fmt.Sprintf("%s [%s, %s]", round(est, d), round(lo, d), round(hi, d))
-}
-
 func yesNo(b bool) string {
 	if b {
 		return "yes"
