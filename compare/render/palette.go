@@ -14,7 +14,7 @@ func (c rgb) alpha(a float64) color.NRGBA {
 	return color.NRGBA{R: c.R, G: c.G, B: c.B, A: uint8(a*255 + 0.5)}
 }
 
-// The Okabe-Ito palette (Okabe & Ito 2008, "Color universal design"),
+// The colours of the Okabe-Ito palette (Okabe & Ito 2008, "Color universal design") that the plots use,
 // plus ink and paper.
 var (
 	colInk       = rgb{0x22, 0x22, 0x22}
