@@ -1,8 +1,11 @@
 package ingest
 
 import (
+	"archive/zip"
+	"bytes"
 	"context"
 	"errors"
+	"hash/crc32"
 	"os"
 	"path/filepath"
 	"strings"
@@ -116,5 +119,58 @@ func TestFileDoneAndKnownContent(t *testing.T) {
 	}}, func(Trial) error { emitted++; return nil })
 	if err != nil || emitted != 0 || sum.Unchanged != 1 || sum.Records != 1 || sum.WithResults != 1 {
 		t.Errorf("known content: %v, emitted %d, %+v", err, emitted, sum)
+	}
+}
+
+// TestKnownEntrySkipsInflating checks that a bulk-zip entry whose CRC-32
+// and size match a stored trial's entry is counted as unchanged without
+// being read: its data here are garbage that would fail the checksum, and
+// do fail it once KnownEntry no longer vouches for them.
+func TestKnownEntrySkipsInflating(t *testing.T) {
+	good := []byte(`{"protocolSection":{"identificationModule":{"nctId":"NCT99000301"}},"hasResults":true}`)
+	other := []byte(`{"protocolSection":{"identificationModule":{"nctId":"NCT99000302"}},"hasResults":false}`)
+	var b bytes.Buffer
+	zw := zip.NewWriter(&b)
+	fw, err := zw.CreateRaw(&zip.FileHeader{Name: "NCT9900/NCT99000301.json", Method: zip.Store,
+		CRC32: crc32.ChecksumIEEE(good), CompressedSize64: uint64(len(good)), UncompressedSize64: uint64(len(good))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fw.Write(bytes.Repeat([]byte("x"), len(good)))
+	fw, err = zw.Create("NCT9900/NCT99000302.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	fw.Write(other)
+	if err := zw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	path := writeFile(t, filepath.Join(t.TempDir(), "bulk.zip"), b.Bytes())
+
+	var asked []string
+	known := func(id string, crc uint32, size int64) (bool, bool) {
+		asked = append(asked, id)
+		return id == "NCT99000301" && crc == crc32.ChecksumIEEE(good) && size == int64(len(good)), true
+	}
+	got, sum, err := scanAll(t, []string{path}, ScanOptions{KnownEntry: known})
+	if err != nil || sum.Rejected != 0 || sum.Unchanged != 1 || sum.Records != 2 || sum.WithResults != 1 {
+		t.Fatalf("known entry: %v, %+v", err, sum)
+	}
+	if len(asked) != 2 || asked[0] != "NCT99000301" || asked[1] != "NCT99000302" {
+		t.Errorf("KnownEntry asked for %v", asked)
+	}
+	if len(got) != 1 || got[0].TrialID != "NCT99000302" {
+		t.Fatalf("emitted %+v", got)
+	}
+	if s := got[0].Source; s.EntryCRC32 != crc32.ChecksumIEEE(other) || s.EntrySize != int64(len(other)) ||
+		s.Position != "entry NCT9900/NCT99000302.json" {
+		t.Errorf("source of the emitted entry: %+v", s)
+	}
+
+	// Without the match the garbage entry is inflated and fails its checksum.
+	_, sum, err = scanAll(t, []string{path}, ScanOptions{KnownEntry: func(string, uint32, int64) (bool, bool) { return false, false }})
+	if err != nil || sum.Rejected != 1 || sum.Unchanged != 0 || len(sum.Errors) != 1 ||
+		!strings.Contains(sum.Errors[0].Error(), "NCT99000301.json") {
+		t.Errorf("unknown entry: %v, %+v", err, sum)
 	}
 }

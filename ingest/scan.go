@@ -36,6 +36,16 @@ type ScanOptions struct {
 	// this content is stored: the record is counted (Records, Unchanged,
 	// and WithResults from hasResults) but not decoded or emitted.
 	KnownContent func(contentHash string) (known, hasResults bool)
+	// KnownEntry, when set, is asked from the reading goroutine with each
+	// bulk-zip entry's trial id (from its name), CRC-32 and inflated size,
+	// before the entry is inflated. known true means the stored trial of
+	// that id was read from an entry with the same checksum and size: the
+	// entry is counted as with KnownContent but not even inflated, so a
+	// re-download of the registry costs little more than reading the zip's
+	// directory. A record whose content differs from the stored one passes
+	// only if its CRC-32 (and size) collide, which for a changed record is
+	// a chance of about one in four billion.
+	KnownEntry func(trialID string, crc32 uint32, size int64) (known, hasResults bool)
 	// FileDone is called from the emitting goroutine once per input file
 	// (skipped ones too), after emit has been called for its last record.
 	// A non-nil error stops the scan and is returned. nil is not called.
@@ -160,7 +170,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 		defer wg.Done()
 		defer close(order)
 		defer close(work)
-		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, known: opts.KnownContent, budget: budget, spool: spool}
+		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, known: opts.KnownContent, knownEntry: opts.KnownEntry, budget: budget, spool: spool}
 		for _, pe := range listErrs {
 			if !p.send(&item{kind: itemFileError, err: pe, file: pe.File}) {
 				return
@@ -360,19 +370,21 @@ func registryFileName(name string) bool {
 
 // producer reads files in order, cuts them into records and queues them.
 type producer struct {
-	ctx    context.Context
-	order  chan<- *item
-	work   chan<- *item
-	skip   func(path, sha256 string) bool
-	known  func(string) (bool, bool)
-	budget *byteBudget
-	spool  int64
-	cur    inputFile
-	hash   string
-	format string // "gzip+" or ""
-	kind   string // the container: json, page, jsonl, zip, csv
-	count  *countingReader
-	items  sync.WaitGroup // the current file's records not yet parsed
+	ctx   context.Context
+	order chan<- *item
+	work  chan<- *item
+	skip  func(path, sha256 string) bool
+	known func(string) (bool, bool)
+	// knownEntry is ScanOptions.KnownEntry.
+	knownEntry func(trialID string, crc32 uint32, size int64) (bool, bool)
+	budget     *byteBudget
+	spool      int64
+	cur        inputFile
+	hash       string
+	format     string // "gzip+" or ""
+	kind       string // the container: json, page, jsonl, zip, csv
+	count      *countingReader
+	items      sync.WaitGroup // the current file's records not yet parsed
 }
 
 func (p *producer) send(it *item) bool {
@@ -523,6 +535,9 @@ func (p *producer) gzipZip(r io.Reader) bool {
 	return ok
 }
 
+// closedDone is the done channel of an item that needs no worker.
+var closedDone = func() chan struct{} { c := make(chan struct{}); close(c); return c }()
+
 var nctFile = func(base string) bool {
 	return len(base) == 16 && strings.HasSuffix(base, ".json") && validNCT(base[:11])
 }
@@ -551,9 +566,22 @@ func (p *producer) zip(ra io.ReaderAt, size int64) bool {
 			}
 			continue
 		}
+		src := Source{Path: p.cur.path, SHA256: p.hash, Position: pos, EntryCRC32: zf.CRC32, EntrySize: int64(zf.UncompressedSize64)}
+		if p.knownEntry != nil {
+			id := path.Base(zf.Name)[:11]
+			if same, res := p.knownEntry(id, zf.CRC32, src.EntrySize); same {
+				// Stored already: counted in order, never inflated.
+				it := &item{kind: itemRecord, file: p.cur.path, offset: off, src: src, done: closedDone,
+					same: true, results: res, trial: Trial{TrialID: id, Registry: RegistryCTGov, Source: src}}
+				if !p.send(it) {
+					return false
+				}
+				continue
+			}
+		}
 		// Inflated and parsed by a worker, so that zip input uses every core.
 		if !p.queue(&item{kind: itemRecord, file: p.cur.path, zf: zf, offset: off, cost: int64(zf.UncompressedSize64), known: p.known,
-			src: Source{Path: p.cur.path, SHA256: p.hash, Position: pos}, done: make(chan struct{})}) {
+			src: src, done: make(chan struct{})}) {
 			return false
 		}
 	}

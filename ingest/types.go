@@ -14,6 +14,11 @@ type Source struct {
 	Path     string // file path as given on the command line (or "-" for stdin)
 	SHA256   string // hex SHA-256 of the whole file's bytes
 	Position string // where in the file: "", "studies[3]", "line 12", "entry 35/NCT02252835.json"
+	// EntryCRC32 and EntrySize are the zip entry's CRC-32 and inflated
+	// size as the zip's directory declares them (the CRC is verified when
+	// the entry is read). EntrySize is 0 when the record was not a zip entry.
+	EntryCRC32 uint32
+	EntrySize  int64
 }
 
 // Num is a number that arrived as text. Text is kept exactly as found;

@@ -187,7 +187,7 @@ func fullTrial(id string) ingest.Trial {
 			{PMID: "99000002", Type: "DERIVED", Citation: "Roe R. Derived paper."},
 		},
 		ContentHash: "hash-" + id + "-v1",
-		Source:      ingest.Source{Path: "testdata/page.json", SHA256: "ab12", Position: "studies[3]"},
+		Source:      ingest.Source{Path: "testdata/bulk.zip", SHA256: "ab12", Position: "entry NCT12345678.json", EntryCRC32: 0xfedcba98, EntrySize: 61234},
 	}
 }
 

@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"math"
 	"time"
 )
 
@@ -110,6 +111,29 @@ func sources(ctx context.Context, q querier) ([]SourceFile, error) {
 		return nil, fmt.Errorf("list sources: %w", err)
 	}
 	return out, nil
+}
+
+// EntryFingerprints calls fn with the trial id, zip entry CRC-32 and
+// inflated size, and has-results flag of every stored trial that was read
+// from a bulk-zip entry (ingest.ScanOptions.KnownEntry).
+func (db *DB) EntryFingerprints(ctx context.Context, fn func(trialID string, crc32 uint32, size int64, hasResults bool)) error {
+	err := eachRow(ctx, db.read, `SELECT trial_id, source_crc32, source_size, coalesce(has_results, 0) FROM trials
+		WHERE source_size IS NOT NULL AND source_crc32 IS NOT NULL`, nil, func(r *sql.Rows) error {
+		var id string
+		var crc, size int64
+		var res bool
+		if err := r.Scan(&id, &crc, &size, &res); err != nil {
+			return err
+		}
+		if crc >= 0 && crc <= math.MaxUint32 {
+			fn(id, uint32(crc), size, res)
+		}
+		return nil
+	})
+	if err != nil {
+		return fmt.Errorf("list zip entry fingerprints: %w", err)
+	}
+	return nil
 }
 
 // ContentHashes calls fn with the content hash and has-results flag of

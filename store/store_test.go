@@ -298,3 +298,47 @@ func TestBatchCommitsEveryBatchSize(t *testing.T) {
 		t.Errorf("write after close: %v, want ErrWriterClosed", err)
 	}
 }
+
+// TestEntryFingerprints checks that a trial read from a zip entry keeps
+// the entry's CRC-32 and size (a CRC above 2^31 included), that other
+// trials have none, and that a replacement from elsewhere clears them.
+func TestEntryFingerprints(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpen(t)
+	zipped := fullTrial("NCT12345678") // from a zip entry, CRC 0xfedcba98
+	plain := fullTrial("NCT12345679")
+	plain.Source = ingest.Source{Path: "page.json", SHA256: "cd34", Position: "studies[0]"}
+	writeTrials(t, db, zipped, plain)
+	type fp struct {
+		crc  uint32
+		size int64
+		res  bool
+	}
+	list := func() map[string]fp {
+		got := map[string]fp{}
+		if err := db.EntryFingerprints(ctx, func(id string, crc uint32, size int64, res bool) {
+			got[id] = fp{crc, size, res}
+		}); err != nil {
+			t.Fatal(err)
+		}
+		return got
+	}
+	got := list()
+	if len(got) != 1 || got["NCT12345678"] != (fp{0xfedcba98, 61234, true}) {
+		t.Errorf("fingerprints = %+v", got)
+	}
+	back, err := db.Trial(ctx, "NCT12345678")
+	if err != nil || back.Source != zipped.Source {
+		t.Errorf("read back source %+v, %v; want %+v", back.Source, err, zipped.Source)
+	}
+	newer := fullTrial("NCT12345678")
+	newer.Source = plain.Source
+	newer.ContentHash = "changed"
+	newer.LastUpdatePosted.Text = "2099-01-01"
+	if out := writeTrials(t, db, newer); out[0] != Replaced {
+		t.Fatalf("replacement: %v", out)
+	}
+	if got := list(); len(got) != 0 {
+		t.Errorf("after replacement from a page: %+v", got)
+	}
+}

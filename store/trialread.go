@@ -88,7 +88,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 		primary_completion_date, primary_completion_date_type, completion_date, completion_date_type,
 		first_posted_date, first_posted_date_type, results_first_posted, results_first_posted_type,
 		last_update_posted, last_update_posted_type, version_holder, has_results, publication, content_hash,
-		source_path, source_sha256, source_position
+		source_path, source_sha256, source_position, coalesce(source_crc32, 0), coalesce(source_size, 0)
 		FROM trials WHERE trial_id = ?`, id).Scan(
 		&t.TrialID, &t.Registry, &t.OrgStudyID, &t.BriefTitle, &t.OfficialTitle, &t.Acronym,
 		&t.Organization.Name, &t.Organization.Class, &t.OverallStatus, &t.LastKnownStatus, &t.WhyStopped, &t.StatusVerified,
@@ -97,7 +97,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 		&t.PrimaryCompletionDate.Text, &t.PrimaryCompletionDate.Type, &t.CompletionDate.Text, &t.CompletionDate.Type,
 		&t.FirstPostedDate.Text, &t.FirstPostedDate.Type, &t.ResultsFirstPosted.Text, &t.ResultsFirstPosted.Type,
 		&t.LastUpdatePosted.Text, &t.LastUpdatePosted.Type, &t.VersionHolder, &hasResults, &t.Publication, &t.ContentHash,
-		&t.Source.Path, &t.Source.SHA256, &t.Source.Position)
+		&t.Source.Path, &t.Source.SHA256, &t.Source.Position, &t.Source.EntryCRC32, &t.Source.EntrySize)
 	if errors.Is(err, sql.ErrNoRows) {
 		return t, ErrNotFound
 	}

@@ -570,6 +570,13 @@ func (w *TrialWriter) collect(t ingest.Trial) {
 	b.text(t.Source.SHA256)
 	b.text(t.Source.Position)
 	b.text(timeText(w.db.now()))
+	if t.Source.EntrySize > 0 {
+		b.value(int64(t.Source.EntryCRC32))
+		b.value(t.Source.EntrySize)
+	} else {
+		b.value(nil)
+		b.value(nil)
+	}
 	b.end()
 
 	b = &r[tabIDs]
@@ -935,8 +942,8 @@ var tables = func() [numTables]table {
 			primary_completion_date, primary_completion_date_type, completion_date, completion_date_type,
 			first_posted_date, first_posted_date_type, results_first_posted, results_first_posted_type,
 			last_update_posted, last_update_posted_type, version_holder, has_results, publication, content_hash,
-			source_path, source_sha256, source_position, ingested_at`,
-			strings.Repeat("t", 16) + "n" + strings.Repeat("t", 16) + "n" + strings.Repeat("t", 6), 0},
+			source_path, source_sha256, source_position, ingested_at, source_crc32, source_size`,
+			strings.Repeat("t", 16) + "n" + strings.Repeat("t", 16) + "n" + strings.Repeat("t", 6) + "nn", 0},
 		tabIDs:               {"trial_ids", `kind, pos, other_id, id_type, domain, link`, "titttt", 0},
 		tabPhases:            {"trial_phases", `pos, phase`, "it", 0},
 		tabTerms:             {"trial_terms", `kind, pos, term`, "tit", 0},

@@ -3,8 +3,10 @@ package main
 import (
 	"bytes"
 	"compress/gzip"
+	"context"
 	"encoding/json"
 	"fmt"
+	"hash/crc32"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
@@ -13,6 +15,7 @@ import (
 	"testing"
 
 	"unshelved/ingest"
+	"unshelved/store"
 )
 
 // TestIngestWhileReading runs an ingest into the demo workspace while
@@ -241,4 +244,68 @@ func withoutProvenance(dump string) string {
 		out = append(out, line)
 	}
 	return strings.Join(out, "\n")
+}
+
+// TestRedownloadRecognisesEntries loads a bulk zip, then a "new download":
+// the same entries with one record changed and one added. The unchanged
+// entries are recognised by their checksum, the changed one replaces the
+// stored trial, and the database equals a fresh load of the new download.
+func TestRedownloadRecognisesEntries(t *testing.T) {
+	dir := t.TempDir()
+	entries := map[string][]byte{}
+	for i := range 8 {
+		id := fmt.Sprintf("NCT98%06d", i)
+		entries["NCT98/"+id+".json"] = ingest.SyntheticStudy(rand.New(rand.NewPCG(7, uint64(i))), id, 2*(i%2), 2)
+	}
+	first := writeFile(t, dir, "first.zip", string(zipBytes(t, entries)))
+	changed := "NCT98/NCT98000003.json"
+	rec := string(entries[changed])
+	if !strings.Contains(rec, `"briefTitle": "`) {
+		t.Fatal("synthetic record has no briefTitle to change")
+	}
+	entries[changed] = []byte(strings.Replace(rec, `"briefTitle": "`, `"briefTitle": "Revised: `, 1))
+	entries["NCT98/NCT98000100.json"] = ingest.SyntheticStudy(rand.New(rand.NewPCG(7, 100)), "NCT98000100", 2, 2)
+	second := writeFile(t, dir, "second.zip", string(zipBytes(t, entries)))
+
+	db := filepath.Join(dir, "w.db")
+	ingestJSON := func(args ...string) ingestSummary {
+		t.Helper()
+		code, out, stderr := runCLI(t, "", append([]string{"--db", db, "--quiet", "--format", "json", "ingest", "registry"}, args...)...)
+		if code != exitOK {
+			t.Fatalf("ingest %v: exit %d: %s", args, code, stderr)
+		}
+		var sum ingestSummary
+		if err := json.Unmarshal([]byte(out), &sum); err != nil {
+			t.Fatal(err)
+		}
+		return sum
+	}
+	if sum := ingestJSON(first); sum.Inserted != 8 {
+		t.Fatalf("first download: %+v", sum)
+	}
+	if sum := ingestJSON(second); sum.Records != 9 || sum.Unchanged != 7 || sum.Replaced != 1 || sum.Inserted != 1 {
+		t.Errorf("new download: %+v", sum)
+	}
+	if sum := ingestJSON("--force", second); sum.Records != 9 || sum.Unchanged != 9 || sum.Inserted != 0 || sum.Replaced != 0 {
+		t.Errorf("--force over the same download: %+v", sum)
+	}
+
+	fresh := filepath.Join(dir, "fresh.db")
+	if code, _, stderr := runCLI(t, "", "--db", fresh, "--quiet", "ingest", "registry", second); code != exitOK {
+		t.Fatalf("fresh: exit %d: %s", code, stderr)
+	}
+	if got, want := withoutProvenance(dumpDB(t, db)), withoutProvenance(dumpDB(t, fresh)); got != want {
+		t.Errorf("re-download differs from a fresh load:\n%s", firstDiff(want, got))
+	}
+	// The changed record's title, and the entry fingerprints, are the new download's.
+	ws, err := store.Open(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer ws.Close()
+	tr, err := ws.Trial(context.Background(), "NCT98000003")
+	if err != nil || !strings.HasPrefix(tr.BriefTitle, "Revised: ") ||
+		tr.Source.EntrySize != int64(len(entries[changed])) || tr.Source.EntryCRC32 != crc32.ChecksumIEEE(entries[changed]) {
+		t.Errorf("changed trial: %v, title %q, source %+v", err, tr.BriefTitle, tr.Source)
+	}
 }
