@@ -1,14 +1,17 @@
 #!/usr/bin/env bash
 # End-to-end ingest benchmark: builds the binary, generates an invented
 # corpus with synthcorpus, times the whole ingest (first load, re-ingest of
-# unchanged files, --force re-read), runs the plain Python loader over the
-# same corpus, and compares the analysis side with statsmodels.
+# unchanged files, --force re-read, and for zip a new download with 2% of
+# the records revised), runs two plain Python loaders over the same corpus
+# (a minimal one, and one storing the same rows, checked table by table),
+# and compares the analysis side with statsmodels.
 #
 #   testdata/bench/e2e.sh [SIZE] [FORMAT]     # default 200MB zip
 #
 # SIZE as synthcorpus takes it (200MB, 2GB); FORMAT folder|zip|jsonl|page.
 # WORK=dir keeps the corpus and databases there (default: a temp folder,
 # removed at the end). SKIP_PYTHON=1 and SKIP_ANALYSIS=1 skip comparisons.
+# RESULTS_SHARE sets the share of records with results (default 0.15).
 set -euo pipefail
 
 SIZE=${1:-200MB}
@@ -46,7 +49,7 @@ BIN=$WORK/unshelved
 
 echo "== corpus"
 rm -rf "$WORK/corpus"
-GEN=$("$WORK/synthcorpus" -out "$WORK/corpus" -size "$SIZE" -format "$FORMAT" -seed 1)
+GEN=$("$WORK/synthcorpus" -out "$WORK/corpus" -size "$SIZE" -format "$FORMAT" -seed 1 -results-share "${RESULTS_SHARE:-0.15}")
 echo "$GEN"
 RECORDS=$(awk '{print $2}' <<<"$GEN")
 JSONBYTES=$(awk '{print $6}' <<<"$GEN")
@@ -101,16 +104,35 @@ echo "db bytes/1000 records  $(awk -v d="$DBBYTES" -v n="$RECORDS" 'BEGIN {print
 timed reingest "$BIN" --db "$DB" --quiet ingest registry "$WORK/corpus"
 echo "re-ingest (unchanged files skipped by hash) speed-up  $(ratio "$FIRST" "$T_WALL")x"
 timed force "$BIN" --db "$DB" --quiet ingest registry --force "$WORK/corpus"
-echo "re-ingest --force (records recognised by content hash) speed-up  $(ratio "$FIRST" "$T_WALL")x"
+echo "re-ingest --force (zip entries recognised by checksum, other records by content hash) speed-up  $(ratio "$FIRST" "$T_WALL")x"
 "$BIN" --db "$DB" db check >/dev/null && echo "db check: ok"
 
 if [[ -z "${SKIP_PYTHON:-}" ]]; then
-	echo "== plain Python loader (json + sqlite3, one row per measurement)"
+	echo "== plain Python loader, minimal (json + sqlite3, one row per trial and per measurement, two tables)"
 	rm -f "$WORK/plain.db"*
 	timed python "$PY" "$ROOT/testdata/bench/plain_ingest.py" "$WORK/plain.db" "$WORK/corpus"
 	cat "$WORK/out-python.txt"
 	echo "Python MB/s    $(awk -v b="$JSONBYTES" -v s="$T_WALL" 'BEGIN {printf "%.1f", b/1e6/s}')"
-	echo "unshelved / Python speed  $(ratio "$T_WALL" "$FIRST")x (unshelved stores every field; the script two tables)"
+	echo "unshelved / minimal Python speed  $(ratio "$T_WALL" "$FIRST")x (that script stores a sixth of the rows)"
+
+	echo "== plain Python loader, same rows (json + sqlite3, unshelved's schema, every table)"
+	rm -f "$WORK/full.db"*
+	timed pyfull "$PY" "$ROOT/testdata/bench/full_ingest.py" "$WORK/full.db" "$WORK/corpus"
+	cat "$WORK/out-pyfull.txt"
+	echo "Python MB/s    $(awk -v b="$JSONBYTES" -v s="$T_WALL" 'BEGIN {printf "%.1f", b/1e6/s}')"
+	echo "unshelved / same-rows Python speed  $(ratio "$T_WALL" "$FIRST")x"
+	"$PY" "$ROOT/testdata/bench/compare_rows.py" "$DB" "$WORK/full.db" | tail -1
+	rm -f "$WORK/full.db"* "$WORK/plain.db"*
+fi
+
+if [[ "$FORMAT" == zip ]]; then
+	echo "== a new download: the same zip with 2% of the records revised"
+	ZIP=$(ls "$WORK"/corpus/*.zip | head -1)
+	"$PY" "$ROOT/testdata/bench/redownload.py" "$ZIP" "$WORK/new-download.zip" 50
+	timed redownload "$BIN" --db "$DB" --quiet --format json ingest registry "$WORK/new-download.zip"
+	"$PY" -c 'import json,sys; d=json.load(open(sys.argv[1])); print("records %d unchanged %d replaced %d" % (d["records"], d["unchanged"], d["replaced"]))' "$WORK/out-redownload.txt"
+	echo "re-ingest of a new download (unchanged entries recognised by checksum) speed-up  $(ratio "$FIRST" "$T_WALL")x"
+	rm -f "$WORK/new-download.zip"
 fi
 
 if [[ -z "${SKIP_ANALYSIS:-}" ]]; then
