@@ -342,3 +342,17 @@ func TestEntryFingerprints(t *testing.T) {
 		t.Errorf("after replacement from a page: %+v", got)
 	}
 }
+
+// TestSQLiteMemoryStatisticsOff checks that the setting made before the
+// first connection took effect: SQLite accepted it (SQLITE_OK) and keeps
+// no count of its memory even while a database is open and written.
+func TestSQLiteMemoryStatisticsOff(t *testing.T) {
+	db := mustOpen(t)
+	writeTrials(t, db, fullTrial("NCT12345678"))
+	if memstatusConfig != 0 {
+		t.Fatalf("sqlite3_config(SQLITE_CONFIG_MEMSTATUS, 0) returned %d, want 0 (SQLITE_OK)", memstatusConfig)
+	}
+	if n := sqliteMemoryUsed(); n != 0 {
+		t.Errorf("sqlite3_memory_used() = %d with the statistics off, want 0", n)
+	}
+}
