@@ -1,8 +1,12 @@
 package ingest
 
 import (
+	"archive/zip"
 	"bytes"
+	"compress/flate"
 	"errors"
+	"hash/crc32"
+	"io"
 	"os"
 	"path/filepath"
 	"testing"
@@ -108,6 +112,56 @@ func FuzzReadLinks(f *testing.F) {
 			if l.OutcomeIndex < 0 {
 				t.Fatalf("accepted negative outcome index %+v", l)
 			}
+		}
+	})
+}
+
+// FuzzZipEntry checks readEntry against archive/zip's own reader on
+// entries with arbitrary compressed data and declared sizes: both must
+// give the same bytes, or both must fail.
+func FuzzZipEntry(f *testing.F) {
+	study := []byte(`{"protocolSection":{"identificationModule":{"nctId":"NCT99000401"}}}`)
+	var comp bytes.Buffer
+	fw, _ := flate.NewWriter(&comp, flate.BestSpeed)
+	fw.Write(study)
+	fw.Close()
+	f.Add(comp.Bytes(), uint32(crc32.ChecksumIEEE(study)), uint32(len(study)), true)
+	f.Add(study, uint32(crc32.ChecksumIEEE(study)), uint32(len(study)), false)
+	f.Add(comp.Bytes(), uint32(0), uint32(len(study)-1), true)
+	f.Add(comp.Bytes()[:len(comp.Bytes())/2], uint32(1), uint32(len(study)), true)
+	f.Fuzz(func(t *testing.T, data []byte, crc, size uint32, deflate bool) {
+		method := zip.Store
+		if deflate {
+			method = zip.Deflate
+		}
+		var b bytes.Buffer
+		zw := zip.NewWriter(&b)
+		w, err := zw.CreateRaw(&zip.FileHeader{Name: "NCT99000401.json", Method: method, CRC32: crc,
+			CompressedSize64: uint64(len(data)), UncompressedSize64: uint64(size % (1 << 20))})
+		if err != nil {
+			t.Skip()
+		}
+		w.Write(data)
+		if zw.Close() != nil {
+			t.Skip()
+		}
+		zr, err := zip.NewReader(bytes.NewReader(b.Bytes()), int64(b.Len()))
+		if err != nil || len(zr.File) != 1 {
+			t.Skip()
+		}
+		zf := zr.File[0]
+		got, gotErr := readEntry(zf)
+		var want []byte
+		rc, wantErr := zf.Open()
+		if wantErr == nil {
+			want, wantErr = io.ReadAll(rc)
+			rc.Close()
+		}
+		if (gotErr == nil) != (wantErr == nil) {
+			t.Fatalf("readEntry error %v, archive/zip error %v", gotErr, wantErr)
+		}
+		if gotErr == nil && !bytes.Equal(got, want) {
+			t.Fatalf("readEntry gave %d bytes, archive/zip %d", len(got), len(want))
 		}
 	})
 }
