@@ -3,6 +3,8 @@ package store
 import (
 	"context"
 	"database/sql"
+	"fmt"
+	"math"
 	"path/filepath"
 	"reflect"
 	"sort"
@@ -220,4 +222,98 @@ func TestVersionsWithinOneBatch(t *testing.T) {
 	if !reflect.DeepEqual(got, v2) {
 		diffTrial(t, got, v2)
 	}
+}
+
+// TestRawInsertPathInUse fails when the writer cannot reach the SQLite
+// handle of the driver's connection (rawinsert.go), as after a driver
+// upgrade that renamed the field: it would still work, through the
+// driver's statements, but much slower.
+func TestRawInsertPathInUse(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpen(t)
+	w, err := db.NewTrialWriter(ctx, 10)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.Write(ctx, fullTrial("NCT99003001")); err != nil {
+		t.Fatal(err)
+	}
+	if w.raw == nil {
+		t.Error("the writer found no SQLite handle on the driver connection; INSERTs go through the driver's statements")
+	}
+	if err := w.Close(ctx); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestRawInsertMatchesDriver writes the same trials, with awkward values
+// (texts with NUL bytes, invalid UTF-8, a megabyte, non-ASCII; extreme and
+// negative-zero numbers), once through the raw INSERTs and once through the
+// driver's statements, and expects identical databases.
+func TestRawInsertMatchesDriver(t *testing.T) {
+	ctx := context.Background()
+	odd := fullTrial("NCT99003101")
+	odd.BriefTitle = "nul\x00inside"
+	odd.OfficialTitle = "bad utf-8 \xff\xfe end"
+	odd.Acronym = strings.Repeat("é", 1<<19)
+	m := &odd.Outcomes[0].Classes[0].Categories[0].Measurements[0]
+	m.Value = ingest.Num{Text: "1.7976931348623157e308", Value: math.MaxFloat64, OK: true}
+	m.Spread = ingest.Num{Text: "-0", Value: math.Copysign(0, -1), OK: true}
+	m.Lower = ingest.Num{Text: "5e-324", Value: 5e-324, OK: true}
+	big := 1<<62 + 12345
+	odd.Enrollment = &big
+	trials := []ingest.Trial{fullTrial("NCT99003100"), odd, fullTrial("NCT99003102")}
+	var dumps []string
+	for _, noRaw := range []bool{true, false} {
+		db := mustOpen(t)
+		w, err := db.NewTrialWriter(ctx, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		w.noRaw = noRaw
+		for _, tr := range trials {
+			if _, err := w.Write(ctx, tr); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if (w.raw == nil) != noRaw {
+			t.Fatalf("noRaw %v but raw handle %v", noRaw, w.raw)
+		}
+		if err := w.Close(ctx); err != nil {
+			t.Fatal(err)
+		}
+		dumps = append(dumps, dump(t, db))
+		back, err := db.Trial(ctx, odd.TrialID)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if back.BriefTitle != odd.BriefTitle || back.OfficialTitle != odd.OfficialTitle || back.Acronym != odd.Acronym ||
+			*back.Enrollment != big {
+			t.Errorf("noRaw %v: texts or enrollment changed on the way", noRaw)
+		}
+		bm := back.Outcomes[0].Classes[0].Categories[0].Measurements[0]
+		if bm.Value.Value != math.MaxFloat64 || bm.Lower.Value != 5e-324 || bm.Spread.Value != 0 {
+			t.Errorf("noRaw %v: numbers changed: %+v", noRaw, bm)
+		}
+	}
+	if dumps[0] != dumps[1] {
+		t.Errorf("raw INSERTs and the driver's statements give different databases:\n%s", firstDumpDiff(dumps[1], dumps[0]))
+	}
+}
+
+func firstDumpDiff(a, b string) string {
+	al, bl := strings.Split(a, "\n"), strings.Split(b, "\n")
+	for i := range min(len(al), len(bl)) {
+		if al[i] != bl[i] {
+			return "raw:    " + truncateLine(al[i]) + "\ndriver: " + truncateLine(bl[i])
+		}
+	}
+	return fmt.Sprintf("%d lines against %d", len(al), len(bl))
+}
+
+func truncateLine(s string) string {
+	if len(s) > 300 {
+		return s[:300] + "..."
+	}
+	return s
 }

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"strings"
+	"unsafe"
 
 	"unshelved/ingest"
 )
@@ -92,7 +93,8 @@ var ErrWriterClosed = errors.New("trial writer closed")
 type TrialWriter struct {
 	db        *DB
 	batchSize int
-	maxRows   int // rows per INSERT at most: a power of two <= maxChunkRows
+	maxRows   int  // rows per INSERT at most: a power of two <= maxChunkRows
+	noRaw     bool // use the driver's statements for the INSERTs (tests)
 
 	conn    *sql.Conn // held while a batch is open
 	tx      *sql.Tx
@@ -105,6 +107,11 @@ type TrialWriter struct {
 	lookup  driver.Stmt
 	deletes [numTables]driver.Stmt
 	stmts   [numTables][chunkLevels]driver.Stmt
+	// The connection's SQLite handle and the INSERTs prepared on it
+	// (rawinsert.go); raw is nil when the driver's statements are used.
+	raw      unsafe.Pointer
+	rawStmts [numTables][chunkLevels]*rawStmt
+	rawArgs  rawArgs
 
 	rows [numTables]rowBuf
 	args []driver.NamedValue // reused for each statement
@@ -275,6 +282,13 @@ func (w *TrialWriter) closeStmts() {
 			}
 		}
 	}
+	for i := range w.rawStmts {
+		for j, st := range w.rawStmts[i] {
+			st.close()
+			w.rawStmts[i][j] = nil
+		}
+	}
+	w.raw = nil
 }
 
 func (w *TrialWriter) commit() error {
@@ -380,6 +394,9 @@ func (w *TrialWriter) upsert(ctx context.Context, dc any, t ingest.Trial) (Write
 		return 0, fmt.Errorf("driver connection %T cannot prepare with a context", dc)
 	}
 	w.dc = pc
+	if w.raw == nil && !w.noRaw {
+		w.raw = rawHandle(dc)
+	}
 	hash, lastUpdate, versionHolder, found, err := w.storedVersion(ctx, t.TrialID)
 	out := Inserted
 	switch {
@@ -459,6 +476,35 @@ func (w *TrialWriter) insertRows(ctx context.Context, table int, idv any, b *row
 			level++
 		}
 		k := 1 << level
+		// Ordinals in b.vals count from 0 across all rows; in the
+		// statement ?1 is the trial id and row r's column c is ?(2+r*width+c).
+		base := start * width
+		end := (start + k) * width
+		if w.raw != nil {
+			st := w.rawStmts[table][level]
+			if st == nil {
+				var err error
+				if st, err = rawPrepare(w.raw, b.tab.insertSQL(k)); err != nil {
+					return err
+				}
+				w.rawStmts[table][level] = st
+			}
+			a := &w.rawArgs
+			a.reset()
+			if err := a.add(1, idv); err != nil {
+				return err
+			}
+			for ; vi < len(b.vals) && b.vals[vi].Ordinal < end; vi++ {
+				if err := a.add(b.vals[vi].Ordinal+2-base, b.vals[vi].Value); err != nil {
+					return err
+				}
+			}
+			if err := st.exec(a); err != nil {
+				return err
+			}
+			start += k
+			continue
+		}
 		st := w.stmts[table][level]
 		if st == nil {
 			var err error
@@ -467,10 +513,6 @@ func (w *TrialWriter) insertRows(ctx context.Context, table int, idv any, b *row
 			}
 			w.stmts[table][level] = st
 		}
-		// Ordinals in b.vals count from 0 across all rows; in the
-		// statement ?1 is the trial id and row r's column c is ?(2+r*width+c).
-		base := start * width
-		end := (start + k) * width
 		args := append(w.args[:0], driver.NamedValue{Ordinal: 1, Value: idv})
 		for ; vi < len(b.vals) && b.vals[vi].Ordinal < end; vi++ {
 			nv := b.vals[vi]
