@@ -601,8 +601,8 @@ func readEntry(zf *zip.File) ([]byte, error) {
 	if zf.Method != zip.Store && zf.Method != zip.Deflate {
 		return nil, zip.ErrAlgorithm
 	}
-	if zf.CompressedSize64 > MaxRecordBytes+MaxRecordBytes/8 {
-		return nil, errorf(ErrTooLarge, "entry's compressed data declares %d bytes, more than a record of %d bytes needs", zf.CompressedSize64, MaxRecordBytes)
+	if zf.CompressedSize64 > maxCompressed(zf.UncompressedSize64) {
+		return nil, errorf(ErrTooLarge, "entry has %d compressed bytes, more than its declared %d inflated bytes can need", zf.CompressedSize64, zf.UncompressedSize64)
 	}
 	rr, err := zf.OpenRaw()
 	if err != nil {
@@ -650,6 +650,12 @@ func readEntry(zf *zip.File) ([]byte, error) {
 	}
 	return out, nil
 }
+
+// maxCompressed bounds the compressed size of an entry that inflates to n
+// bytes: deflate's worst case is stored blocks, 5 bytes of framing per
+// 65,535 bytes, so n/256 + 1 KiB is ample. A larger declared size is a
+// broken or hostile entry, rejected before its data are read into memory.
+func maxCompressed(n uint64) uint64 { return n + n/256 + 1024 }
 
 // inflaters recycles flate decoders (each holds a 32 KiB window and its
 // Huffman tables).
