@@ -652,10 +652,11 @@ func readEntry(zf *zip.File) ([]byte, error) {
 }
 
 // maxCompressed bounds the compressed size of an entry that inflates to n
-// bytes: deflate's worst case is stored blocks, 5 bytes of framing per
-// 65,535 bytes, so n/256 + 1 KiB is ample. A larger declared size is a
-// broken or hostile entry, rejected before its data are read into memory.
-func maxCompressed(n uint64) uint64 { return n + n/256 + 1024 }
+// bytes. An encoder that chose fixed Huffman codes for incompressible data
+// spends at most 9 bits a byte (stored blocks cost 5 bytes per 65,535), so
+// n + n/8 + 1 KiB is ample. A larger declared size is a broken or hostile
+// entry, rejected before its data are read into memory.
+func maxCompressed(n uint64) uint64 { return n + n/8 + 1024 }
 
 // inflaters recycles flate decoders (each holds a 32 KiB window and its
 // Huffman tables).
