@@ -56,13 +56,16 @@ JSONBYTES=$(awk '{print $6}' <<<"$GEN")
 FILEBYTES=$(du -sb "$WORK/corpus" | cut -f1)
 echo "on disk: $FILEBYTES bytes"
 
-# timed NAME CMD...: runs CMD under /usr/bin/time -v, prints a line of
+# timed NAME CMD...: syncs, runs CMD under /usr/bin/time -v, prints a line of
 # wall seconds, CPU seconds and peak RSS, and leaves them in T_WALL,
 # T_CPU and T_RSS_MB.
 timed() {
 	local name=$1
 	shift
 	local log=$WORK/time-$name.txt
+	# Flush what earlier steps wrote (the corpus, the other loaders'
+	# databases) first, so that no run pays for another's writeback.
+	sync
 	/usr/bin/time -v "$@" >"$WORK/out-$name.txt" 2>"$log" || {
 		local rc=$?
 		if [[ $rc -ne 0 && $rc -ne 3 ]]; then
