@@ -65,8 +65,9 @@ func newCmdIngestRegistry(g *globals) *cobra.Command {
 // is bounded (the in-flight budget and the writer's batch), so the default
 // of collecting each time the heap doubles spent a large share of the CPU
 // on collections; letting it grow five-fold made a 300 MB load about 1.2x
-// faster on 2 cores (medians of interleaved runs). The soft limit keeps peak memory bounded whatever the input:
-// nearer the limit the collector runs more often instead.
+// faster on 2 cores (medians of interleaved runs). The soft limit keeps
+// peak memory bounded whatever the input: nearer the limit the collector
+// runs more often instead.
 const (
 	ingestGCPercent   = 400
 	ingestMemoryLimit = 128 << 20
