@@ -58,7 +58,8 @@ func matchesComparator(ks []comparatorKind, text string) (string, bool) {
 
 // findComparatorArm looks for an arm of one of the kinds, by arm label and
 // intervention names first, then by arm type; trials without registered
-// arms (neutral CSV) are searched by result group titles and roles.
+// arms (neutral CSV) are searched by intervention names, then by result
+// group titles and roles.
 func findComparatorArm(ks []comparatorKind, t ingest.Trial) (kind, where string) {
 	for _, a := range t.Arms {
 		texts := append([]string{a.Label}, a.InterventionNames...)
@@ -74,6 +75,14 @@ func findComparatorArm(ks []comparatorKind, t ingest.Trial) (kind, where string)
 				if strings.EqualFold(a.Type, at) {
 					return k.Name, fmt.Sprintf("arm %q typed %s", a.Label, a.Type)
 				}
+			}
+		}
+	}
+	if len(t.Arms) == 0 {
+		// Neutral CSV names the interventions without arms.
+		for _, iv := range t.Interventions {
+			if k, ok := matchesComparator(ks, iv.Name); ok {
+				return k, fmt.Sprintf("intervention %q", iv.Name)
 			}
 		}
 	}

@@ -291,3 +291,67 @@ func TestReadLinksNoResultsRow(t *testing.T) {
 		t.Errorf("errors %v: want line 3 rejected for its empty outcome_index", bad)
 	}
 }
+
+// The optional trial-level columns, and a trial given without results as
+// one row with the outcome columns empty.
+func TestReadNeutralCSVTrialColumnsAndNoResults(t *testing.T) {
+	const data = "registry,trial_id,title,sponsor,status,study_type,phase,allocation,enrollment,conditions,interventions," +
+		"primary_completion_date,completion_date,results_posted_date,publication,publication_id," +
+		"outcome,time_frame,unit,param,dispersion,group,role,n,value,spread,lower,upper\n" +
+		"isrctn,ISRCTN99990001,Zelmoral for itch,Invented Pharma,Completed,Interventional,Phase 2;phase3,Randomised,120,Pruritus; Eczema,Zelmoral;Placebo," +
+		"2021-03,2021-06-30,,no,,,,,,,,,,,,,\n" +
+		"isrctn,ISRCTN99990002,Walking,Invented Uni,completed,interventional,N/A,randomized,60,Heart failure,Walking plan,," +
+		"2019,2020-05-01,,31999999,Distance,Week 12,m,mean,sd,Walk,experimental,30,400,50,,\n" +
+		"isrctn,ISRCTN99990002,Walking,Invented Uni,completed,interventional,N/A,randomized,60,Heart failure,Walking plan,," +
+		"2019,2020-05-01,,31999999,Distance,Week 12,m,mean,sd,Usual care,comparator,30,380,55,,\n"
+	trs, bad, err := ReadNeutralCSV(strings.NewReader(data), Source{Path: "n.csv"})
+	if err != nil || len(bad) != 0 {
+		t.Fatalf("err %v, bad %q", err, errTexts(bad))
+	}
+	if len(trs) != 2 {
+		t.Fatalf("%d trials, want 2", len(trs))
+	}
+	a := trs[0]
+	if a.TrialID != "ISRCTN99990001" || a.HasResults == nil || *a.HasResults || len(a.Outcomes) != 0 ||
+		a.OverallStatus != "COMPLETED" || a.StudyType != "INTERVENTIONAL" || !eqStrings(a.Phases, []string{"PHASE2", "PHASE3"}) ||
+		a.Allocation != "RANDOMIZED" || a.Enrollment == nil || *a.Enrollment != 120 ||
+		!eqStrings(a.Conditions, []string{"Pruritus", "Eczema"}) || len(a.Interventions) != 2 || a.Interventions[1].Name != "Placebo" ||
+		a.PrimaryCompletionDate.Text != "2021-03" || a.CompletionDate.Text != "2021-06-30" || a.Publication != "no" || len(a.ContentHash) != 64 {
+		t.Errorf("trial without results = %+v", a)
+	}
+	b := trs[1]
+	if b.HasResults == nil || !*b.HasResults || len(b.Outcomes) != 1 || len(b.Outcomes[0].Groups) != 2 || !eqStrings(b.Phases, []string{"NA"}) ||
+		b.PrimaryCompletionDate.Text != "" || b.CompletionDate.Text != "2019" || b.Publication != "yes" ||
+		len(b.References) != 1 || b.References[0] != (Reference{PMID: "31999999", Type: "RESULT", Citation: "31999999"}) {
+		t.Errorf("trial with results = %+v", b)
+	}
+}
+
+func TestReadNeutralCSVRejectsImpossibleCounts(t *testing.T) {
+	const h = "registry,trial_id,enrollment,phase,publication,publication_id,outcome,time_frame,unit,param,dispersion,group,role,n,value,spread,lower,upper\n"
+	for _, tt := range []struct{ name, rows, want string }{
+		{"negative sd", "doc,T1,40,,,,Pain,Week 4,mm,mean,sd,A,experimental,20,3.0,-1.0,,\n", `n.csv:2: record T1: field "spread": bad value: a sd cannot be negative: "-1.0"`},
+		{"negative se", "doc,T1,40,,,,Pain,Week 4,mm,mean,se,A,experimental,20,3.0,-0.5,,\n", `n.csv:2: record T1: field "spread": bad value: a se cannot be negative: "-0.5"`},
+		{"negative n", "doc,T1,40,,,,Pain,Week 4,mm,mean,sd,A,experimental,-20,3.0,1.0,,\n", `n.csv:2: record T1: field "n": bad value: must be at least 1: "-20"`},
+		{"n above enrolment", "doc,T1,40,,,,Pain,Week 4,mm,mean,sd,A,experimental,41,3.0,1.0,,\n", `n.csv:2: record T1: field "n": bad value: 41 is above the trial's enrolment of 40`},
+		{"negative enrolment", "doc,T1,-4,,,,,,,,,,,,,,,\n", `n.csv:2: record T1: field "enrollment": bad value: cannot be negative: "-4"`},
+		{"unknown phase", "doc,T1,40,phase 5,,,,,,,,,,,,,,\n", `n.csv:2: record T1: field "phase": bad value: "phase 5" is not one of early_phase1, phase1, phase2, phase3, phase4, na`},
+		{"publication id without publication", "doc,T1,40,,no,31999999,,,,,,,,,,,,\n", `n.csv:2: record T1: field "publication_id": bad value: "31999999" given while publication is no`},
+		{"no-results row twice", "doc,T1,40,,,,,,,,,,,,,,,\ndoc,T1,40,,,,,,,,,,,,,,,\n", `n.csv:3: record T1: field "outcome": bad value: a trial without results is one row with the outcome columns empty; line 2 gives the same trial`},
+		{"no-results row beside results", "doc,T1,40,,,,Pain,Week 4,mm,mean,sd,A,experimental,20,3.0,1.0,,\ndoc,T1,40,,,,,,,,,,,,,,,\n", `n.csv:3: record T1: field "outcome": bad value: a trial without results is one row with the outcome columns empty; line 2 gives the same trial`},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			trials, bad, err := ReadNeutralCSV(strings.NewReader(h+tt.rows), Source{Path: "n.csv"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			got := errTexts(bad)
+			if len(got) == 0 || got[0] != tt.want {
+				t.Errorf("got  %q\nwant %q first", got, tt.want)
+			}
+			if len(trials) != 0 {
+				t.Errorf("trial kept: %+v", trials)
+			}
+		})
+	}
+}
