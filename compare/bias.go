@@ -27,20 +27,24 @@ type BiasOptions struct {
 
 // EggerJSON is Egger's regression test in the report.
 type EggerJSON struct {
-	Bias          *float64 `json:"bias"`
-	BiasSE        *float64 `json:"bias_se"`
-	T             *float64 `json:"t"`
-	DF            int      `json:"df"`
-	P             *float64 `json:"p"`
-	LimitEffect   *float64 `json:"limit_effect"`
-	LimitEffectSE *float64 `json:"limit_effect_se"`
-	LimitCILow    *float64 `json:"limit_ci_low"`
-	LimitCIHigh   *float64 `json:"limit_ci_high"`
-	Dispersion    *float64 `json:"dispersion"`
-	Predictor     string   `json:"predictor"` // "se" or "sample_size"
+	Bias   *float64 `json:"bias"`
+	BiasSE *float64 `json:"bias_se"`
+	T      *float64 `json:"t"`
+	DF     int      `json:"df"`
+	P      *float64 `json:"p"`
+	// EffectAtSE0 is the line's effect at SE = 0 (at x = 0 when
+	// regressed on the sample-size based x), with its SE and interval.
+	EffectAtSE0       *float64 `json:"effect_at_se0"`
+	EffectAtSE0SE     *float64 `json:"effect_at_se0_se"`
+	EffectAtSE0CILow  *float64 `json:"effect_at_se0_ci_low"`
+	EffectAtSE0CIHigh *float64 `json:"effect_at_se0_ci_high"`
+	Dispersion        *float64 `json:"dispersion"`
+	// X is what the effects were regressed on: "se", or "n_based" for
+	// √(1/n₁+1/n₂).
+	X string `json:"x"`
 }
 
-// BeggJSON is Begg and Mazumdar's rank correlation test.
+// BeggJSON is the rank correlation test (Begg & Mazumdar 1994).
 type BeggJSON struct {
 	Tau  *float64 `json:"tau"`
 	Z    *float64 `json:"z"`
@@ -161,7 +165,7 @@ type BiasReport struct {
 
 // BiasFor runs the publication-bias battery on a set of study effects.
 // For SMD with arm sizes on every study it adds Egger's test with the
-// sample-size predictor sqrt((n1+n2)/(n1 n2)). Registry-only studies are
+// sample-size based x = sqrt((n1+n2)/(n1 n2)). Registry-only studies are
 // marked in the funnel data. With fewer than 3 studies no test can run: the
 // report then holds only the GRADE hint ("cannot assess") and a warning.
 func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport {
@@ -169,26 +173,26 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	effects := make([]float64, len(studies))
 	seEffects := make([]float64, len(studies))
 	registry := make([]bool, len(studies))
-	var predictor []float64
+	var nBasedX []float64
 	if strings.EqualFold(measure, "SMD") {
-		predictor = make([]float64, len(studies))
+		nBasedX = make([]float64, len(studies))
 	}
 	for i, s := range studies {
 		effects[i], seEffects[i], registry[i] = s.Effect, s.SE, s.Origin == OriginRegistry
-		if predictor != nil {
+		if nBasedX != nil {
 			if s.TreatN > 0 && s.CtrlN > 0 {
 				n1, n2 := float64(s.TreatN), float64(s.CtrlN)
-				predictor[i] = math.Sqrt((n1 + n2) / (n1 * n2))
+				nBasedX[i] = math.Sqrt((n1 + n2) / (n1 * n2))
 			} else {
-				predictor = nil
+				nBasedX = nil
 			}
 		}
 	}
-	if strings.EqualFold(measure, "SMD") && predictor == nil {
-		rep.Warnings = append(rep.Warnings, "the sample-size variant of Egger's test needs arm sizes for every study; not run")
+	if strings.EqualFold(measure, "SMD") && nBasedX == nil {
+		rep.Warnings = append(rep.Warnings, "Egger's test regressed on √(1/n₁+1/n₂) needs arm sizes for every study; not run")
 	}
 	b, err := bias.Run(effects, seEffects, bias.Options{
-		Level: opts.Level, Direction: opts.Direction, Predictor: predictor, Tau2: opts.Tau2,
+		Level: opts.Level, Direction: opts.Direction, NBasedX: nBasedX, Tau2: opts.Tau2,
 		Selection: bias.SelectionSettings{Cutpoints: opts.Cutpoints}, SkipSelection: opts.SkipSelection,
 		Registry: registry, ShiftSDUnits: opts.ShiftSDUnits,
 	})
@@ -203,7 +207,7 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 		rep.Egger = eggerJSON(b.Egger, "se")
 	}
 	if b.EggerSampleSize != nil {
-		rep.EggerSampleSize = eggerJSON(*b.EggerSampleSize, "sample_size")
+		rep.EggerSampleSize = eggerJSON(*b.EggerSampleSize, "n_based")
 	}
 	if b.Begg.Ties != "" || !math.IsNaN(b.Begg.P) && b.Begg.P != 0 {
 		rep.Begg = &BeggJSON{Tau: opt(b.Begg.Tau), Z: opt(b.Begg.Z), P: opt(b.Begg.P), Ties: b.Begg.Ties}
@@ -256,10 +260,10 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	return rep
 }
 
-func eggerJSON(r bias.Regression, predictor string) *EggerJSON {
+func eggerJSON(r bias.Regression, x string) *EggerJSON {
 	return &EggerJSON{Bias: opt(r.Bias), BiasSE: opt(r.BiasSE), T: opt(r.T), DF: r.DF, P: opt(r.P),
-		LimitEffect: opt(r.LimitEffect), LimitEffectSE: opt(r.LimitEffectSE), LimitCILow: opt(r.LimitCILow), LimitCIHigh: opt(r.LimitCIHigh),
-		Dispersion: opt(r.Dispersion), Predictor: predictor}
+		EffectAtSE0: opt(r.EffectAtSE0), EffectAtSE0SE: opt(r.EffectAtSE0SE), EffectAtSE0CILow: opt(r.EffectAtSE0CILow), EffectAtSE0CIHigh: opt(r.EffectAtSE0CIHigh),
+		Dispersion: opt(r.Dispersion), X: x}
 }
 
 func interceptJSON(i bias.Intercept) *InterceptJSON {

@@ -270,8 +270,8 @@ type diagnostic struct {
 
 var diagnostics = []diagnostic{
 	{"egger", "Egger p < 0.10", func(b *BiasReport) (bool, bool) { return pBelow(b.Egger.p(), 0.10) }},
-	{"egger_sample_size", "Egger (sample-size predictor, SMD) p < 0.10", func(b *BiasReport) (bool, bool) { return pBelow(b.EggerSampleSize.p(), 0.10) }},
-	{"begg", "Begg p < 0.10", func(b *BiasReport) (bool, bool) {
+	{"egger_sample_size", "Egger regressed on √(1/n₁+1/n₂) (SMD) p < 0.10", func(b *BiasReport) (bool, bool) { return pBelow(b.EggerSampleSize.p(), 0.10) }},
+	{"begg", "rank correlation test (Begg & Mazumdar 1994) p < 0.10", func(b *BiasReport) (bool, bool) {
 		if b.Begg == nil {
 			return false, false
 		}

@@ -14,11 +14,11 @@ type Options struct {
 	// PET-PEESE and the selection model; 0 means the sign of the
 	// fixed-effect estimate.
 	Direction float64
-	// Predictor, when not nil, adds Egger's test on this predictor
+	// NBasedX, when not nil, adds Egger's test regressed on this x
 	// (Battery.EggerSampleSize); meant for standardized mean differences
-	// with arm sizes, sqrt((n1+n2)/(n1 n2)) (see EggerPredictor). It must
+	// with arm sizes, sqrt((n1+n2)/(n1 n2)) (see EggerOn). It must
 	// have one entry per study (a different length panics).
-	Predictor []float64
+	NBasedX []float64
 	// Tau2 is the tau² estimator of the random-effects fit of the filled
 	// trim-and-fill data; "" means analysis.Tau2REML.
 	Tau2 analysis.Tau2Method
@@ -55,8 +55,8 @@ type Battery struct {
 }
 
 // Run executes the publication-bias battery on one meta-analysis: Egger's
-// test (and its sample-size variant when Options.Predictor is set), Begg's
-// test, trim-and-fill (L0, side from the data), PET, PEESE and the
+// test (and its variant regressed on √(1/n₁+1/n₂) when Options.NBasedX is
+// set), the rank correlation test (Begg & Mazumdar 1994), trim-and-fill (L0, side from the data), PET, PEESE and the
 // conditional PET-PEESE estimate, the step-function selection model (unless
 // skipped), the funnel-plot data and the GRADE hint, which is given the
 // fixed-effect estimate as its Estimate. See each function for formulas,
@@ -106,8 +106,8 @@ func Run(effects, seEffects []float64, opts Options) (Battery, error) {
 		in.Egger = &b.Egger
 		b.Warnings = append(b.Warnings, r.Warnings...)
 	}
-	if opts.Predictor != nil {
-		if r, err := EggerPredictor(effects, seEffects, opts.Predictor, level); err != nil {
+	if opts.NBasedX != nil {
+		if r, err := EggerOn(effects, seEffects, opts.NBasedX, level); err != nil {
 			warn(err)
 		} else {
 			b.EggerSampleSize = &r

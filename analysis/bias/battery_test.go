@@ -25,7 +25,7 @@ func TestRunMatchesParts(t *testing.T) {
 	// R 4.2.2 optim value, as in TestUnadjustedAgainstOptim.
 	checkClose(t, "unadjusted", b.Selection.UnadjustedEstimate, 0.26102260691084928, 1e-6)
 	if b.EggerSampleSize != nil {
-		t.Errorf("EggerSampleSize without a predictor")
+		t.Errorf("EggerSampleSize without an x")
 	}
 	if len(b.Funnel.Points) != len(d.effects) || len(b.Funnel.EggerLine) != DefaultGridPoints {
 		t.Errorf("funnel: %d points, %d line points", len(b.Funnel.Points), len(b.Funnel.EggerLine))
@@ -63,10 +63,10 @@ func TestRunWarnsInsteadOfFailing(t *testing.T) {
 	}
 }
 
-func TestRunSampleSizePredictor(t *testing.T) {
+func TestRunNBasedX(t *testing.T) {
 	t.Parallel()
 	d := smdSet()
-	b, err := Run(d.effects, d.seEffects, Options{Predictor: smdPredictor(), SkipSelection: true})
+	b, err := Run(d.effects, d.seEffects, Options{NBasedX: smdNBasedX(), SkipSelection: true})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -95,7 +95,7 @@ func Begg(effects, seEffects []float64) (RankCorrelation, error) {
 		a1*b1/(2*n*(n-1))
 	denomTau := math.Sqrt((n0 - a1/2) * (n0 - b1/2))
 	if !(varS > 0) || !(denomTau > 0) {
-		return RankCorrelation{}, fmt.Errorf("rank correlation test: all deviates or all variances tied: %w", ErrConstantPredictor)
+		return RankCorrelation{}, fmt.Errorf("rank correlation test: all deviates or all variances tied: %w", ErrConstantRegressor)
 	}
 	s := float64(c - d)
 	z := s / math.Sqrt(varS)
@@ -116,7 +116,7 @@ func Begg(effects, seEffects []float64) (RankCorrelation, error) {
 	}
 	if k < eggerMinRecommendedK {
 		r.Warnings = append(r.Warnings, fmt.Sprintf(
-			"rank correlation test with %d studies: it has very low power, and tests for funnel-plot asymmetry are not recommended with fewer than %d studies",
+			"rank correlation test (Begg & Mazumdar 1994) with %d studies: it has very low power, and tests for funnel-plot asymmetry are not recommended with fewer than %d studies",
 			k, eggerMinRecommendedK))
 	}
 	return r, nil

@@ -69,7 +69,7 @@ func TestBeggErrors(t *testing.T) {
 		want      error
 	}{
 		{"two studies", []float64{1, 2}, []float64{1, 2}, ErrTooFewStudies},
-		{"all variances tied", []float64{1, 2, 3}, []float64{0.5, 0.5, 0.5}, ErrConstantPredictor},
+		{"all variances tied", []float64{1, 2, 3}, []float64{0.5, 0.5, 0.5}, ErrConstantRegressor},
 		{"negative SE", []float64{1, 2, 3}, []float64{0.5, -1, 0.4}, ErrBadSE},
 	} {
 		t.Run(c.name, func(t *testing.T) {

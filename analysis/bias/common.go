@@ -16,8 +16,8 @@ var (
 	ErrBadEffect = errors.New("effect is not finite")
 	// ErrBadSE means a standard error is not positive and finite.
 	ErrBadSE = errors.New("standard error is not positive and finite")
-	// ErrConstantPredictor means the regressor of a regression does not vary.
-	ErrConstantPredictor = errors.New("predictor does not vary across studies")
+	// ErrConstantRegressor means the regressor of a regression does not vary.
+	ErrConstantRegressor = errors.New("regressor does not vary across studies")
 	// ErrPerfectFit means the weighted residuals are all zero, so the
 	// dispersion and every standard error would be zero.
 	ErrPerfectFit = errors.New("regression fits the data exactly")
@@ -53,11 +53,11 @@ const (
 	// relative 1e-20 is far below the rounding error of real data (about
 	// 1e-16 relative per value, squared) yet far above zero.
 	perfectFitRel = 1e-20
-	// constantPredictorRel is the ratio of the weighted spread of a
-	// predictor to its weighted squared mean below which the predictor is
+	// constantRegressorRel is the ratio of the weighted spread of a
+	// regressor to its weighted squared mean below which the regressor is
 	// treated as constant; 1e-24 corresponds to values equal to about
 	// twelve significant digits.
-	constantPredictorRel = 1e-24
+	constantRegressorRel = 1e-24
 )
 
 // checkStudies validates effects and standard errors and panics when the
@@ -149,8 +149,8 @@ func fitLine(x, y, w []float64) (lineFit, error) {
 		sxy += w[i] * dx * dy
 		syy += w[i] * dy * dy
 	}
-	if !(sxx > constantPredictorRel*sumW*meanX*meanX) || sxx == 0 {
-		return lineFit{}, ErrConstantPredictor
+	if !(sxx > constantRegressorRel*sumW*meanX*meanX) || sxx == 0 {
+		return lineFit{}, ErrConstantRegressor
 	}
 	slope := sxy / sxx
 	intercept := meanY - slope*meanX

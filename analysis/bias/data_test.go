@@ -51,8 +51,8 @@ func smdSet() dataSet {
 	return dataSet{"smd15", d, se}
 }
 
-// smdPredictor returns sqrt((n1+n2)/(n1 n2)) for the smd15 set.
-func smdPredictor() []float64 {
+// smdNBasedX returns sqrt((n1+n2)/(n1 n2)) for the smd15 set.
+func smdNBasedX() []float64 {
 	n1, n2 := smdArms()
 	w := make([]float64, len(n1))
 	for i := range w {

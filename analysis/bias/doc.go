@@ -13,7 +13,7 @@
 //
 // Errors. Input data that cannot be used (a non-finite effect, a standard
 // error that is not positive and finite, too few studies for a method, a
-// predictor that does not vary) is returned as an error; errors about one
+// regressor that does not vary) is returned as an error; errors about one
 // study name its 1-based position. Functions panic only on programmer error,
 // such as slices of different lengths. Iterative methods report
 // non-convergence with an error that wraps ErrNoConvergence.

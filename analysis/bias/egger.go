@@ -8,7 +8,7 @@ import (
 // Regression is the result of a regression test for funnel-plot asymmetry.
 type Regression struct {
 	// Bias is the asymmetry coefficient: the slope of the effect on its
-	// standard error (or on the predictor), in effect units per unit of
+	// standard error (or on the regressor x of EggerOn), in effect units per unit of
 	// standard error. Positive means smaller studies report larger effects.
 	Bias, BiasSE float64
 	// T is Bias / BiasSE, referred to Student's t on DF = k - 2 degrees of
@@ -16,10 +16,10 @@ type Regression struct {
 	T  float64
 	DF int
 	P  float64
-	// LimitEffect is the intercept: the effect predicted for a study of
+	// EffectAtSE0 is the intercept: the effect predicted for a study of
 	// infinite size (standard error zero), with its standard error and a
 	// confidence interval at Level from Student's t on DF degrees of freedom.
-	LimitEffect, LimitEffectSE, LimitCILow, LimitCIHigh float64
+	EffectAtSE0, EffectAtSE0SE, EffectAtSE0CILow, EffectAtSE0CIHigh float64
 	// Dispersion is the multiplicative residual variance parameter phi.
 	Dispersion float64
 	// K is the number of studies and Level the confidence level used.
@@ -48,22 +48,22 @@ const (
 //
 //	y_i = b0 + b1·se_i + e_i,  var(e_i) = phi·se_i²,
 //	phi = Σ (y_i - b0 - b1 se_i)² / se_i² / (k - 2),
-//	t = b1 / se(b1) on k - 2 df,  limit effect = b0 ± t_{k-2} se(b0).
+//	t = b1 / se(b1) on k - 2 df,  effect at SE = 0: b0 ± t_{k-2} se(b0).
 //
 // This is the same model as the original form, the ordinary regression of
 // the standard normal deviate y_i/se_i on the precision 1/se_i, with the
 // roles of intercept and slope exchanged: the asymmetry coefficient b1 is the
-// original intercept and the limit effect b0 the original slope (Egger,
+// original intercept and the effect at SE = 0, b0, the original slope (Egger,
 // Davey Smith, Schneider & Minder 1997, BMJ 315:629-634; Sterne & Egger 2005,
 // in Rothstein, Sutton & Borenstein, Publication Bias in Meta-Analysis,
 // ch. 6).
 //
 // Effects and standard errors are on the raw scale in the outcome's units (or
 // SD units for a standardized mean difference; for that measure see
-// EggerPredictor). A level of 0 means 0.95.
+// EggerOn). A level of 0 means 0.95.
 //
 // Edges: k < 3 is an error (no residual degrees of freedom); standard errors
-// that are all equal give ErrConstantPredictor; data lying exactly on a line
+// that are all equal give ErrConstantRegressor; data lying exactly on a line
 // give ErrPerfectFit. With fewer than 10 studies the test runs but Warnings
 // says it is not recommended (Cochrane Handbook ch. 13; Sterne et al. 2011,
 // BMJ 343:d4002); Warnings always notes that a 0.10 significance level is
@@ -86,7 +86,7 @@ func Egger(effects, seEffects []float64, level float64) (Regression, error) {
 		return Regression{}, fmt.Errorf("egger test: %w", err)
 	}
 	var tq tQuantiles
-	return regressionFrom(fit, k, level, "standard error", &tq), nil
+	return regressionFrom(fit, k, level, "Egger's test regressed on SE", &tq), nil
 }
 
 // eggerCached is Egger on validated input with a shared quantile cache; it
@@ -99,53 +99,54 @@ func eggerCached(effects, seEffects, w []float64, level float64, tq *tQuantiles)
 	if err != nil {
 		return Regression{}, lineFit{}, fmt.Errorf("egger test: %w", err)
 	}
-	return regressionFrom(fit, len(effects), level, "standard error", tq), fit, nil
+	return regressionFrom(fit, len(effects), level, "Egger's test regressed on SE", tq), fit, nil
 }
 
-// EggerPredictor runs the weighted regression test of Egger with a predictor
-// of the caller's choosing in place of the standard error. For standardized
-// mean differences the intended predictor is the sample-size based
+// EggerOn runs the weighted regression test of Egger regressed on x, a
+// per-study quantity of the caller's choosing, in place of the standard
+// error. For standardized mean differences the intended x is the
+// sample-size based
 //
 //	W_i = sqrt((n1_i + n2_i) / (n1_i n2_i)),
 //
 // because the standard error of g depends on g itself, which makes the usual
 // test reject too often (Pustejovsky & Rodgers 2019, Research Synthesis
-// Methods 10:57-71). The predictor replaces the standard error both as the
+// Methods 10:57-71). x replaces the standard error both as the
 // regressor and in the weights:
 //
 //	y_i = b0 + b1·W_i + e_i,  weights 1/W_i²,  var(e_i) = phi·W_i²,
 //
 // so neither side of the regression depends on the effects. seEffects is
-// validated (positive and finite) but does not enter the fit; the predictor
-// must be positive and finite too. Bias is the slope on the predictor,
-// LimitEffect the effect predicted at W = 0. Edges, level and warnings as for
+// validated (positive and finite) but does not enter the fit; x must be
+// positive and finite too. Bias is the slope on x, EffectAtSE0 the effect
+// predicted at x = 0. Edges, level and warnings as for
 // Egger.
-func EggerPredictor(effects, seEffects, predictor []float64, level float64) (Regression, error) {
-	if len(predictor) != len(effects) {
+func EggerOn(effects, seEffects, x []float64, level float64) (Regression, error) {
+	if len(x) != len(effects) {
 		panic("bias: slice length mismatch")
 	}
 	if err := checkStudies(effects, seEffects, 3); err != nil {
-		return Regression{}, fmt.Errorf("egger test with predictor: %w", err)
+		return Regression{}, fmt.Errorf("egger test regressed on x: %w", err)
 	}
 	level, err := checkLevel(level)
 	if err != nil {
-		return Regression{}, fmt.Errorf("egger test with predictor: %w", err)
+		return Regression{}, fmt.Errorf("egger test regressed on x: %w", err)
 	}
 	k := len(effects)
 	w := make([]float64, k)
-	for i, x := range predictor {
-		if !(x > 0) || math.IsInf(x, 0) {
-			return Regression{}, fmt.Errorf("egger test with predictor: %w",
-				&StudyError{Study: i + 1, Field: "predictor", Value: x, Err: ErrBadSE})
+	for i, xi := range x {
+		if !(xi > 0) || math.IsInf(xi, 0) {
+			return Regression{}, fmt.Errorf("egger test regressed on x: %w",
+				&StudyError{Study: i + 1, Field: "x", Value: xi, Err: ErrBadSE})
 		}
-		w[i] = 1 / (x * x)
+		w[i] = 1 / (xi * xi)
 	}
-	fit, err := fitLine(predictor, effects, w)
+	fit, err := fitLine(x, effects, w)
 	if err != nil {
-		return Regression{}, fmt.Errorf("egger test with predictor: %w", err)
+		return Regression{}, fmt.Errorf("egger test regressed on x: %w", err)
 	}
 	var tq tQuantiles
-	return regressionFrom(fit, k, level, "sample-size predictor", &tq), nil
+	return regressionFrom(fit, k, level, "Egger's test regressed on √(1/n₁+1/n₂)", &tq), nil
 }
 
 func regressionFrom(fit lineFit, k int, level float64, what string, cache *tQuantiles) Regression {
@@ -153,24 +154,24 @@ func regressionFrom(fit lineFit, k int, level float64, what string, cache *tQuan
 	tq := cache.quantile(fit.df, 0.5+level/2)
 	t := fit.slope / fit.seSlope
 	r := Regression{
-		Bias:          fit.slope,
-		BiasSE:        fit.seSlope,
-		T:             t,
-		DF:            fit.df,
-		P:             twoSidedP(t, dist),
-		LimitEffect:   fit.intercept,
-		LimitEffectSE: fit.seIntercept,
-		LimitCILow:    fit.intercept - tq*fit.seIntercept,
-		LimitCIHigh:   fit.intercept + tq*fit.seIntercept,
-		Dispersion:    fit.dispersion,
-		K:             k,
-		Level:         level,
+		Bias:              fit.slope,
+		BiasSE:            fit.seSlope,
+		T:                 t,
+		DF:                fit.df,
+		P:                 twoSidedP(t, dist),
+		EffectAtSE0:       fit.intercept,
+		EffectAtSE0SE:     fit.seIntercept,
+		EffectAtSE0CILow:  fit.intercept - tq*fit.seIntercept,
+		EffectAtSE0CIHigh: fit.intercept + tq*fit.seIntercept,
+		Dispersion:        fit.dispersion,
+		K:                 k,
+		Level:             level,
 	}
 	r.Warnings = append(r.Warnings, fmt.Sprintf(
-		"regression test on the %s: a significance level of %.2f is common for asymmetry tests, which have low power", what, AsymmetryAlpha))
+		"%s: a significance level of %.2f is common for asymmetry tests, which have low power", what, AsymmetryAlpha))
 	if k < eggerMinRecommendedK {
 		r.Warnings = append(r.Warnings, fmt.Sprintf(
-			"regression test on the %s with %d studies: tests for funnel-plot asymmetry are not recommended with fewer than %d studies",
+			"%s with %d studies: tests for funnel-plot asymmetry are not recommended with fewer than %d studies",
 			what, k, eggerMinRecommendedK))
 	}
 	return r
@@ -224,7 +225,7 @@ const petPEESEAlpha = 0.05
 // direction is the sign of the favourable effect (+1 or -1); 0 means the sign
 // of the fixed-effect estimate. Effects and standard errors on the raw scale.
 // A level of 0 means 0.95. Edges: k < 3 is an error; equal standard errors
-// give ErrConstantPredictor.
+// give ErrConstantRegressor.
 func PETPEESE(effects, seEffects []float64, level float64, direction float64) (PETPEESEResult, error) {
 	if err := checkStudies(effects, seEffects, 3); err != nil {
 		return PETPEESEResult{}, fmt.Errorf("pet-peese: %w", err)

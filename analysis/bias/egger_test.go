@@ -92,10 +92,10 @@ func TestEggerAgainstLM(t *testing.T) {
 			checkClose(t, "BiasSE", got.BiasSE, want.seSlope, wlsTol)
 			checkClose(t, "T", got.T, want.tSlope, wlsTol)
 			checkClose(t, "P", got.P, want.pSlope, wlsTol)
-			checkClose(t, "LimitEffect", got.LimitEffect, want.intercept, wlsTol)
-			checkClose(t, "LimitEffectSE", got.LimitEffectSE, want.seIntercept, wlsTol)
-			checkClose(t, "LimitCILow", got.LimitCILow, want.ciLow, wlsTol)
-			checkClose(t, "LimitCIHigh", got.LimitCIHigh, want.ciHigh, wlsTol)
+			checkClose(t, "EffectAtSE0", got.EffectAtSE0, want.intercept, wlsTol)
+			checkClose(t, "EffectAtSE0SE", got.EffectAtSE0SE, want.seIntercept, wlsTol)
+			checkClose(t, "EffectAtSE0CILow", got.EffectAtSE0CILow, want.ciLow, wlsTol)
+			checkClose(t, "EffectAtSE0CIHigh", got.EffectAtSE0CIHigh, want.ciHigh, wlsTol)
 			checkClose(t, "Dispersion", got.Dispersion, want.dispersion, wlsTol)
 			if got.DF != want.df {
 				t.Errorf("DF = %d, want %d", got.DF, want.df)
@@ -106,11 +106,11 @@ func TestEggerAgainstLM(t *testing.T) {
 
 // Values from R 4.2.2, testdata/reference/bias_regression.R:
 // lm(d ~ w_smd, weights = 1/w_smd^2) with w_smd = sqrt((n1+n2)/(n1 n2)).
-func TestEggerPredictorAgainstLM(t *testing.T) {
+func TestEggerOnAgainstLM(t *testing.T) {
 	t.Parallel()
 	want := lmFit{-0.34038020611370451, 0.033775451307001027, -0.41334763247523476, -0.26741277975217426, -10.077739687912031, 1.6445083514947342e-07, 3.1090885549209948, 0.15476076282929971, 20.08964351222734, 3.5898748923165967e-11, 13, 0.025558428066099134}
 	d := smdSet()
-	got, err := EggerPredictor(d.effects, d.seEffects, smdPredictor(), 0)
+	got, err := EggerOn(d.effects, d.seEffects, smdNBasedX(), 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -118,17 +118,17 @@ func TestEggerPredictorAgainstLM(t *testing.T) {
 	checkClose(t, "BiasSE", got.BiasSE, want.seSlope, wlsTol)
 	checkClose(t, "T", got.T, want.tSlope, wlsTol)
 	checkClose(t, "P", got.P, want.pSlope, wlsTol)
-	checkClose(t, "LimitEffect", got.LimitEffect, want.intercept, wlsTol)
-	checkClose(t, "LimitEffectSE", got.LimitEffectSE, want.seIntercept, wlsTol)
-	checkClose(t, "LimitCILow", got.LimitCILow, want.ciLow, wlsTol)
-	checkClose(t, "LimitCIHigh", got.LimitCIHigh, want.ciHigh, wlsTol)
+	checkClose(t, "EffectAtSE0", got.EffectAtSE0, want.intercept, wlsTol)
+	checkClose(t, "EffectAtSE0SE", got.EffectAtSE0SE, want.seIntercept, wlsTol)
+	checkClose(t, "EffectAtSE0CILow", got.EffectAtSE0CILow, want.ciLow, wlsTol)
+	checkClose(t, "EffectAtSE0CIHigh", got.EffectAtSE0CIHigh, want.ciHigh, wlsTol)
 	checkClose(t, "Dispersion", got.Dispersion, want.dispersion, wlsTol)
 }
 
 // TestEggerParameterizations checks that the weighted form equals the
 // original form of Egger's test, the ordinary least-squares regression of
 // y/se on 1/se, whose intercept is the asymmetry coefficient and whose slope
-// is the limit effect (Egger et al. 1997, BMJ 315:629-634). Both are fitted
+// is the effect at SE = 0 (Egger et al. 1997, BMJ 315:629-634). Both are fitted
 // here by fitLine, so the check is internal.
 func TestEggerParameterizations(t *testing.T) {
 	t.Parallel()
@@ -157,8 +157,8 @@ func TestEggerParameterizations(t *testing.T) {
 			checkClose(t, "bias vs original intercept", weighted.Bias, orig.intercept, paramTol)
 			checkClose(t, "t", weighted.T, tOrig, paramTol)
 			checkClose(t, "p", weighted.P, pOrig, paramTol)
-			checkClose(t, "limit effect vs original slope", weighted.LimitEffect, orig.slope, paramTol)
-			checkClose(t, "limit SE", weighted.LimitEffectSE, orig.seSlope, paramTol)
+			checkClose(t, "effect at SE = 0 vs original slope", weighted.EffectAtSE0, orig.slope, paramTol)
+			checkClose(t, "effect at SE = 0, SE", weighted.EffectAtSE0SE, orig.seSlope, paramTol)
 		})
 	}
 }
@@ -227,7 +227,7 @@ func TestRegressionErrors(t *testing.T) {
 		want      error
 	}{
 		{"two studies", []float64{1, 2}, []float64{1, 2}, ErrTooFewStudies},
-		{"equal standard errors", []float64{1, 2, 3}, []float64{0.5, 0.5, 0.5}, ErrConstantPredictor},
+		{"equal standard errors", []float64{1, 2, 3}, []float64{0.5, 0.5, 0.5}, ErrConstantRegressor},
 		{"zero standard error", []float64{1, 2, 3}, []float64{0.5, 0, 0.4}, ErrBadSE},
 		{"NaN effect", []float64{1, math.NaN(), 3}, []float64{0.5, 0.2, 0.4}, ErrBadEffect},
 		{"exact line", []float64{1.2, 1.4, 1.6}, []float64{0.1, 0.2, 0.3}, ErrPerfectFit},

@@ -17,14 +17,14 @@ func ExampleRun() {
 		return
 	}
 	fmt.Printf("fixed effect %.3f\n", b.FixedEstimate)
-	fmt.Printf("Egger asymmetry %.2f (p = %.1e), limit effect %.3f\n", b.Egger.Bias, b.Egger.P, b.Egger.LimitEffect)
+	fmt.Printf("Egger asymmetry %.2f (p = %.1e), effect at SE = 0 %.3f\n", b.Egger.Bias, b.Egger.P, b.Egger.EffectAtSE0)
 	fmt.Printf("Begg tau %.2f (p = %.1e)\n", b.Begg.Tau, b.Begg.P)
 	fmt.Printf("trim-and-fill: %d studies missing on the %s\n", b.TrimFill.K0, b.TrimFill.Side)
 	fmt.Printf("PET-PEESE chooses %s: %.3f\n", b.PETPEESE.Chosen, b.PETPEESE.Estimate)
 	fmt.Println("hint:", b.Grade.Level)
 	// Output:
 	// fixed effect 0.250
-	// Egger asymmetry 2.25 (p = 2.7e-06), limit effect -0.017
+	// Egger asymmetry 2.25 (p = 2.7e-06), effect at SE = 0 -0.017
 	// Begg tau 0.96 (p = 1.2e-04)
 	// trim-and-fill: 5 studies missing on the left
 	// PET-PEESE chooses PET: -0.017

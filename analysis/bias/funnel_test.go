@@ -48,7 +48,7 @@ func TestFunnelLine(t *testing.T) {
 	if len(f.EggerLine) != 5 {
 		t.Fatalf("%d line points, want 5", len(f.EggerLine))
 	}
-	// At SE = 0 the fitted line and its band are the limit effect and its
+	// At SE = 0 the fitted line and its band are the effect at SE = 0 and its
 	// 95% CI from R 4.2.2 (bias_regression.R: lm(y ~ se, weights = 1/se^2),
 	// confint).
 	p0 := f.EggerLine[0]

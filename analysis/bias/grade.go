@@ -57,7 +57,7 @@ type GradeHint struct {
 //     |shift| >= ShiftConcernSD (0.1 SD) the hint is "serious concern".
 //   - Tests count only with K >= 10 studies (Cochrane Handbook ch. 13;
 //     Sterne et al. 2011, BMJ 343:d4002). A test flags asymmetry when its
-//     p value is below 0.10: Egger's regression (P), Begg's rank
+//     p value is below 0.10: Egger's regression (P), the rank
 //     correlation (P), or the selection model's likelihood-ratio test
 //     (LRTP, only if it converged). Any flag gives "serious concern".
 //   - Otherwise, if the registry shift is known (and small) or at least one
@@ -105,10 +105,10 @@ func Grade(in GradeInput) GradeHint {
 		}
 	}
 	if in.Egger != nil {
-		test("Egger's regression test", in.Egger.P)
+		test("Egger's test regressed on SE", in.Egger.P)
 	}
 	if in.Begg != nil {
-		test("Begg's rank correlation test", in.Begg.P)
+		test("the rank correlation test (Begg & Mazumdar 1994)", in.Begg.P)
 	}
 	if in.Selection != nil && in.Selection.Converged {
 		test("the selection model's likelihood-ratio test", in.Selection.LRTP)

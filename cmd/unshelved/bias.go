@@ -19,17 +19,17 @@ func biasTables(b *compare.BiasReport) []titled {
 		Header: []string{"method", "statistic", "estimate", "CI", "p"},
 	}
 	if e := b.Egger; e != nil {
-		t.Rows = append(t.Rows, []string{"Egger regression (predictor SE)",
+		t.Rows = append(t.Rows, []string{"Egger's test, regressed on SE",
 			fmt.Sprintf("slope %s (SE %s), t = %s on %d df", roundPtr(e.Bias, 3), roundPtr(e.BiasSE, 3), roundPtr(e.T, 2), e.DF),
-			"limit " + roundPtr(e.LimitEffect, 3), ciCell(e.LimitCILow, e.LimitCIHigh), pPtr(e.P)})
+			"effect at SE = 0: " + roundPtr(e.EffectAtSE0, 3), ciCell(e.EffectAtSE0CILow, e.EffectAtSE0CIHigh), pPtr(e.P)})
 	}
 	if e := b.EggerSampleSize; e != nil {
-		t.Rows = append(t.Rows, []string{"Egger regression (predictor sqrt(1/n1 + 1/n2))",
+		t.Rows = append(t.Rows, []string{"Egger's test, regressed on √(1/n₁+1/n₂)",
 			fmt.Sprintf("slope %s (SE %s), t = %s on %d df", roundPtr(e.Bias, 3), roundPtr(e.BiasSE, 3), roundPtr(e.T, 2), e.DF),
-			"limit " + roundPtr(e.LimitEffect, 3), ciCell(e.LimitCILow, e.LimitCIHigh), pPtr(e.P)})
+			"effect at SE = 0: " + roundPtr(e.EffectAtSE0, 3), ciCell(e.EffectAtSE0CILow, e.EffectAtSE0CIHigh), pPtr(e.P)})
 	}
 	if g := b.Begg; g != nil {
-		t.Rows = append(t.Rows, []string{"Begg rank correlation", fmt.Sprintf("Kendall tau %s, z = %s", roundPtr(g.Tau, 3), roundPtr(g.Z, 2)), "", "", pPtr(g.P)})
+		t.Rows = append(t.Rows, []string{"rank correlation test (Begg & Mazumdar 1994)", fmt.Sprintf("Kendall tau %s, z = %s", roundPtr(g.Tau, 3), roundPtr(g.Z, 2)), "", "", pPtr(g.P)})
 	}
 	if tf := b.TrimFill; tf != nil {
 		t.Rows = append(t.Rows,

@@ -154,8 +154,8 @@ func poolGrid(r compare.PoolReport) grid {
 		models.Rows = append(models.Rows, []string{"random (" + m + ")", roundPtr(x.Estimate, 3), roundPtr(x.SE, 3), ciCell(x.CILow, x.CIHigh), "", roundPtr(x.Tau2, 4)})
 	}
 	models.Notes = []string{
-		fmt.Sprintf("Heterogeneity: Q = %s on %d df (p = %s), I² = %s%%, H² = %s, tau² (%s) = %s, %s CI %s (Q-profile)",
-			roundPtr(h.Q, 2), h.DF, pPtr(h.QP), roundPtr(h.I2, 1), roundPtr(h.H2, 2), h.Tau2Method, roundPtr(h.Tau2, 4), pct(r.Level), ciCell(h.Tau2CILow, h.Tau2CIHigh)),
+		fmt.Sprintf("Between-study variation: tau² (%s) = %s, %s CI %s (Q-profile); I² = %s%%, H² = %s; Q = %s with %d df (p = %s)",
+			h.Tau2Method, roundPtr(h.Tau2, 4), pct(r.Level), ciCell(h.Tau2CILow, h.Tau2CIHigh), roundPtr(h.I2, 1), roundPtr(h.H2, 2), roundPtr(h.Q, 2), h.DF, pPtr(h.QP)),
 		fmt.Sprintf("Prediction interval (%s): %s", pct(r.Level), ciCell(r.Random.PILow, r.Random.PIHigh)),
 		"The HKSJ scale factor is not truncated at 1 unless --truncate-hksj is given.",
 	}

@@ -129,9 +129,15 @@ func TestPoolTableAndErrors(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	for _, want := range []string{"S1", "fixed effect", "random (dl), Wald", "Heterogeneity: Q = 5.30 on 4 df", "Prediction interval", "-1.371", "Leave one out"} {
+	for _, want := range []string{"S1", "fixed effect", "random (dl), Wald", "Between-study variation: tau² (dl)", "Q = 5.30 with 4 df", "Prediction interval", "-1.371", "Leave one out",
+		"Egger's test, regressed on SE", "effect at SE = 0: ", "rank correlation test (Begg & Mazumdar 1994)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("table lacks %q:\n%s", want, out)
+		}
+	}
+	for _, old := range []string{"predictor", "limit ", "Heterogeneity:", "Begg rank", "Begg's"} {
+		if strings.Contains(out, old) {
+			t.Errorf("table still says %q:\n%s", old, out)
 		}
 	}
 	// stdin works too.

@@ -31,6 +31,9 @@ type ForestPooled struct {
 type ForestInput struct {
 	Title  string
 	XLabel string
+	// Measure ("MD" or "SMD") names the estimate column: "MD [95% CI]",
+	// "Hedges' g [95% CI]"; empty gives "Estimate [95% CI]".
+	Measure string
 	// Better is "lower" or "higher" (which side favours the
 	// intervention); empty draws no "favours" labels.
 	Better string
@@ -71,7 +74,7 @@ const ciZ = 1.959963984540054
 // published-only analysis (published studies) and the augmented one
 // (every study).
 func ForestFromAudit(a compare.ReviewAudit, opts PlotOptions) ForestInput {
-	in := ForestInput{Title: opts.Title, XLabel: MeasureLabel(a.Measure, a.Unit), Better: a.Better, Note: ShiftSentence(a)}
+	in := ForestInput{Title: opts.Title, XLabel: MeasureLabel(a.Measure, a.Unit), Measure: a.Measure, Better: a.Better, Note: ShiftSentence(a)}
 	if in.Title == "" {
 		in.Title = "Forest plot: " + a.ReviewID
 	}
@@ -121,7 +124,7 @@ func ForestFromAudit(a compare.ReviewAudit, opts PlotOptions) ForestInput {
 // one section of studies with their random-effects weights and one pooled
 // block.
 func ForestFromPool(r compare.PoolReport, opts PlotOptions) ForestInput {
-	in := ForestInput{Title: opts.Title, XLabel: MeasureLabel(r.Measure, opts.Unit), WeightHeaders: []string{"Weight"}}
+	in := ForestInput{Title: opts.Title, XLabel: MeasureLabel(r.Measure, opts.Unit), Measure: r.Measure, WeightHeaders: []string{"Weight"}}
 	if in.Title == "" {
 		in.Title = "Forest plot"
 	}
@@ -225,6 +228,17 @@ func forestRows(in ForestInput) int {
 	return n + 1 // the gap before the pooled block
 }
 
+// estimateHeader names a forest plot's estimate column by its measure.
+func estimateHeader(measure string) string {
+	switch strings.ToUpper(strings.TrimSpace(measure)) {
+	case "SMD":
+		return "Hedges' g"
+	case "MD":
+		return "MD"
+	}
+	return "Estimate"
+}
+
 // forestHeight is the lowest point the plot draws plus a margin, found
 // by a dry run.
 func forestHeight(in ForestInput) float64 {
@@ -245,7 +259,7 @@ func drawForest(p painter, in ForestInput) {
 	hy := forestTop - 26
 	p.text(pt{forestLabelX, hy}, "Study", head)
 	p.text(pt{(forestPlotL + forestPlotR) / 2, hy}, "Effect with 95% CI", textStyle{Size: 11.5, Bold: true, Color: colInk, Anchor: anchorMiddle})
-	p.text(pt{forestCIX, hy}, "Estimate [95% CI]", head)
+	p.text(pt{forestCIX, hy}, estimateHeader(in.Measure)+" [95% CI]", head)
 	for i, h := range in.WeightHeaders {
 		p.text(pt{forestWeightR - float64(len(in.WeightHeaders)-1-i)*forestWeightW, hy}, h, textStyle{Size: 11.5, Bold: true, Color: colInk, Anchor: anchorEnd})
 	}

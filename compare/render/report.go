@@ -196,7 +196,7 @@ func methodsFor(a compare.ReviewAudit) []method {
 		{"Confidence interval of the pooled estimate", ci + " (Hartung & Knapp 2001 and Sidik & Jonkman 2002 describe the alternative interval the audit offers with --hksj.)"},
 		{"Prediction interval for the effect in a new study", "Higgins JPT, Thompson SG, Spiegelhalter DJ. A re-evaluation of random-effects meta-analysis. J R Stat Soc A 2009;172:137-59."},
 		{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."},
-		{"Begg and Mazumdar's rank correlation test", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
+		{"Rank correlation test (Begg & Mazumdar 1994)", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
 		{"Trim-and-fill", "Duval S, Tweedie R. Trim and fill: a simple funnel-plot-based method of testing and adjusting for publication bias in meta-analysis. Biometrics 2000;56:455-63."},
 		{"PET-PEESE conditional estimate", "Stanley TD, Doucouliagos H. Meta-regression approximations to reduce publication selection bias. Res Synth Methods 2014;5:60-78."},
 		{"Step-function selection model", "Vevea JL, Hedges LV. A general linear model for estimating effect size in the presence of publication bias. Psychometrika 1995;60:419-35."},
@@ -287,8 +287,8 @@ func eggerText(b *compare.BiasReport) (string, string) {
 		return fmt.Sprintf("Egger's test could not be run (%d studies).", b.K), note
 	}
 	e := b.Egger
-	return fmt.Sprintf("Asymmetry coefficient (slope on SE) %s (SE %s), t = %s on %d df, %s; limit effect at SE = 0 %s [%s, %s]; k = %d published studies.",
-		fmt2(e.Bias), fmt2(e.BiasSE), fmt2(e.T), e.DF, pEquals(e.P), fmt2(e.LimitEffect), fmt2(e.LimitCILow), fmt2(e.LimitCIHigh), b.K), note
+	return fmt.Sprintf("Regressed on SE: slope %s (SE %s), t = %s on %d df, %s; effect at SE = 0 %s [%s, %s]; k = %d published studies.",
+		fmt2(e.Bias), fmt2(e.BiasSE), fmt2(e.T), e.DF, pEquals(e.P), fmt2(e.EffectAtSE0), fmt2(e.EffectAtSE0CILow), fmt2(e.EffectAtSE0CIHigh), b.K), note
 }
 
 func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageData, error) {

@@ -1,6 +1,6 @@
 # Check values for the regression-based publication-bias methods in
 # analysis/bias (weighted Egger regression, PET, PEESE, the sample-size
-# predictor variant) and for the unadjusted random-effects maximum-likelihood
+# based x variant) and for the unadjusted random-effects maximum-likelihood
 # fit that the step-function selection model reduces to when every weight is 1.
 #
 # Uses base R only (stats: lm, confint, optim, pt). Run with
@@ -65,7 +65,7 @@ for (nm in names(sets)) {
     p17(pt(tI, length(y) - 2, lower.tail = FALSE)), p17(pt(tI, length(y) - 2))))
 }
 
-cat("== smd15 sample-size predictor\n")
+cat("== smd15 regressed on sqrt(1/n1+1/n2)\n")
 cat("w=", paste(p17(w_smd), collapse = ", "), "\n")
 report("egger-n", lm(d ~ w_smd, weights = 1 / w_smd^2))
 
