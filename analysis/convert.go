@@ -48,6 +48,7 @@ func SDFromSE(seMean float64, n int) (float64, Derivation, error) {
 		Method:  "sd_from_se",
 		Formula: "sd = se_mean sqrt(n)",
 		Inputs:  []NamedValue{{"se_mean", seMean}, {"n", float64(n)}},
+		Output:  []NamedValue{{"sd", seMean * math.Sqrt(float64(n))}},
 		Source:  sourceHandbookCh6,
 	}, nil
 }
@@ -84,6 +85,7 @@ func SDFromCI(lower, upper float64, n int, level float64) (float64, Derivation, 
 		Method:     "sd_from_ci_t",
 		Formula:    "sd = sqrt(n) (upper - lower) / (2 t_quantile), t_quantile = t_{1-(1-level)/2, n-1}",
 		Inputs:     []NamedValue{{"lower", lower}, {"upper", upper}, {"n", float64(n)}, {"level", level}, {"t_quantile", tq}},
+		Output:     []NamedValue{{"sd", sd}},
 		Assumption: "the interval is a t-based interval for the group mean",
 		Source:     sourceHandbookCh6,
 	}, nil
@@ -120,6 +122,7 @@ func MeanSDFromMedianIQR(q1, median, q3 float64, n int) (mean, sd float64, d Der
 		Formula: "mean = (0.7 + 0.39/n)(q1 + q3)/2 + (0.3 - 0.39/n) median; " +
 			"sd = (q3 - q1) / (2 Φ⁻¹((0.75 n - 0.125)/(n + 0.25)))",
 		Inputs:     []NamedValue{{"q1", q1}, {"median", median}, {"q3", q3}, {"n", nf}},
+		Output:     []NamedValue{{"mean", mean}, {"sd", sd}},
 		Assumption: assumptionNormal,
 		Source:     sourceWanLuo,
 	}, nil
@@ -154,6 +157,7 @@ func MeanSDFromMedianRange(min, median, max float64, n int) (mean, sd float64, d
 		Formula: "mean = 4/(4 + n^0.75) (min + max)/2 + n^0.75/(4 + n^0.75) median; " +
 			"sd = (max - min) / (2 Φ⁻¹((n - 0.375)/(n + 0.25)))",
 		Inputs:     []NamedValue{{"min", min}, {"median", median}, {"max", max}, {"n", nf}},
+		Output:     []NamedValue{{"mean", mean}, {"sd", sd}},
 		Assumption: assumptionNormal,
 		Source:     sourceWanLuo,
 	}, nil
@@ -191,6 +195,7 @@ func SEFromCI(lower, upper, level float64, df int) (float64, Derivation, error) 
 		Method:     method,
 		Formula:    formula,
 		Inputs:     []NamedValue{{"lower", lower}, {"upper", upper}, {"level", level}, {"df", float64(df)}, {"quantile", q}},
+		Output:     []NamedValue{{"se", (upper - lower) / (2 * q)}},
 		Assumption: "the interval is symmetric about the estimate",
 		Source:     sourceHandbookCh6Sec63,
 	}, nil
@@ -230,6 +235,7 @@ func SEFromP(estimate, p float64, df int) (float64, Derivation, error) {
 		Method:     method,
 		Formula:    formula,
 		Inputs:     []NamedValue{{"estimate", estimate}, {"p", p}, {"df", float64(df)}, {"quantile", q}},
+		Output:     []NamedValue{{"se", math.Abs(estimate) / q}},
 		Assumption: "the p-value is two-sided and exact, from a Wald-type test",
 		Source:     sourceHandbookCh6Sec63,
 	}, nil
@@ -279,6 +285,7 @@ func CombineArms(arms []Arm) (Arm, Derivation, error) {
 		Formula: "pairwise: n = n1 + n2; mean = (n1 mean1 + n2 mean2)/(n1 + n2); " +
 			"sd = sqrt(((n1-1) sd1² + (n2-1) sd2² + n1 n2/(n1+n2) (mean1 - mean2)²)/(n1 + n2 - 1))",
 		Inputs: inputs,
+		Output: []NamedValue{{"mean", acc.Mean}, {"sd", acc.SD}, {"n", float64(acc.N)}},
 		Source: sourceHandbookTable65a,
 	}, nil
 }
@@ -314,6 +321,7 @@ func ChangeSD(sdBaseline, sdFinal, corr float64) (float64, Derivation, error) {
 		Method:     "sd_change_from_correlation",
 		Formula:    "sd_change = sqrt(sd_baseline² + sd_final² - 2 corr sd_baseline sd_final)",
 		Inputs:     []NamedValue{{"sd_baseline", sdBaseline}, {"sd_final", sdFinal}, {"corr", corr}},
+		Output:     []NamedValue{{"sd_change", math.Sqrt(v)}},
 		Assumption: "the correlation between baseline and final values is as given",
 		Source:     sourceHandbookCh6,
 	}, nil

@@ -4,19 +4,22 @@ import (
 	"math"
 )
 
-// Derivation records how one number was derived, for the audit trail.
+// Derivation records how one number was derived, for the audit trail: the
+// values that went in and the values that came out. JSON keys are
+// snake_case like every other key of the output.
 type Derivation struct {
-	Method     string       // machine name, e.g. "sd_from_se", "md_from_arms", "hedges_g"
-	Formula    string       // human-readable formula
-	Inputs     []NamedValue // in a fixed order documented by the producing function
-	Assumption string       // "" when none
-	Source     string       // citation
+	Method     string       `json:"method"`     // machine name, e.g. "sd_from_se", "md_from_arms", "hedges_g"
+	Formula    string       `json:"formula"`    // human-readable formula
+	Inputs     []NamedValue `json:"inputs"`     // in a fixed order documented by the producing function
+	Output     []NamedValue `json:"output"`     // the step's result(s), in a fixed order
+	Assumption string       `json:"assumption"` // "" when none
+	Source     string       `json:"source"`     // citation
 }
 
-// NamedValue is one named input of a Derivation.
+// NamedValue is one named input or output of a Derivation.
 type NamedValue struct {
-	Name  string
-	Value float64
+	Name  string  `json:"name"`
+	Value float64 `json:"value"`
 }
 
 // Arm holds the summary statistics of one group of a trial at one time
@@ -87,6 +90,7 @@ func MeanDifference(treat, ctrl Arm) (Effect, error) {
 			Method:  "md_from_arms",
 			Formula: "md = treat_mean - ctrl_mean; se = sqrt(treat_sd²/treat_n + ctrl_sd²/ctrl_n)",
 			Inputs:  armInputs(treat, ctrl),
+			Output:  []NamedValue{{"md", md}, {"se", seMD}},
 			Source:  sourceBorensteinCh4,
 		}},
 	}, nil
@@ -136,6 +140,7 @@ func HedgesG(treat, ctrl Arm) (Effect, error) {
 				"d = (treat_mean-ctrl_mean)/sd_pooled; var_d = (treat_n+ctrl_n)/(treat_n ctrl_n) + d²/(2(treat_n+ctrl_n)); " +
 				"J = 1 - 3/(4(treat_n+ctrl_n)-9); g = J d; se = J sqrt(var_d)",
 			Inputs: armInputs(treat, ctrl),
+			Output: []NamedValue{{"sd_pooled", sdPooled}, {"g", g}, {"se", math.Sqrt(varG)}},
 			Source: sourceBorensteinCh4 + ", equations 4.18-4.24",
 		}},
 	}, nil
