@@ -49,6 +49,9 @@ type Options struct {
 	// Tolerance for outcome-reporting discrepancies; zero means
 	// DefaultDiscrepancy.
 	Discrepancy DiscrepancyTolerance
+	// Harmonize chooses how registry records are read (posted analysis or
+	// arms; whether non-randomized records may be used).
+	Harmonize HarmonizeOptions
 }
 
 // ciMethod resolves CI and HKSJ.
@@ -271,7 +274,7 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 				Detail: fmt.Sprintf("%s already contributes another outcome to this review; one outcome per trial is pooled", l.TrialID)})
 			continue
 		}
-		e, err := RegistryEffect(rv, t, l)
+		e, err := RegistryEffectWith(rv, t, l, opts.Harmonize)
 		if err != nil {
 			var re *RejectError
 			if !errors.As(err, &re) {
@@ -279,6 +282,9 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 			}
 			out.Rejected = append(out.Rejected, Rejected{TrialID: l.TrialID, OutcomeIndex: l.OutcomeIndex, Reason: re.Reason, Detail: re.Detail})
 			continue
+		}
+		if e.Design != "" && e.Design != DesignRandomized {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("%s is %s and pooled as if randomized (--allow-nonrandomized)", l.TrialID, e.Design))
 		}
 		added[t.TrialID] = true
 		out.Studies = append(out.Studies, e)

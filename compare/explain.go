@@ -97,7 +97,7 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 				break
 			}
 		}
-		e, err := RegistryEffect(rv, t, l)
+		e, err := RegistryEffectWith(rv, t, l, HarmonizeOptions{Prefer: opts.Harmonize.Prefer, AllowNonrandomized: true})
 		if ps == nil && err == nil {
 			// A published study that cites no registry id: the one whose
 			// arm sizes match the registry outcome's (as matching found it).

@@ -34,6 +34,12 @@ type StudyEffect struct {
 	OutcomeTitle string                `json:"outcome_title,omitempty"`
 	Derivations  []analysis.Derivation `json:"derivations,omitempty"`
 	Flags        []string              `json:"flags,omitempty"`
+	// Design is the record's design class (registry effects only):
+	// randomized, not-randomized or crossover (see DesignOf).
+	Design string `json:"design,omitempty"`
+	// PostedAnalysis is the record's own between-group analysis of the
+	// linked groups, when it posts one, whether or not it was used.
+	PostedAnalysis *PostedComparison `json:"posted_analysis,omitempty"`
 }
 
 // RejectError says why a registry outcome or a study cannot be used.
@@ -62,6 +68,14 @@ const (
 	ReasonUnit          = "incompatible-unit"
 	ReasonBadValue      = "bad-value"
 	ReasonIncluded      = "already-included"
+	// ReasonDirection: a posted analysis whose direction nothing states
+	// and whose raw group values run the other way.
+	ReasonDirection = "direction-unknown"
+	// ReasonNotRandomized and ReasonCrossover refuse a record whose
+	// design cannot be pooled as randomized evidence (DesignOf), unless
+	// HarmonizeOptions.AllowNonrandomized.
+	ReasonNotRandomized = DesignNotRandomized
+	ReasonCrossover     = DesignCrossover
 )
 
 // RegistryIDs splits a study's registry_id cell into ids: several may be
@@ -130,12 +144,35 @@ func armEffect(measure string, treat, ctrl analysis.Arm) (analysis.Effect, error
 	return analysis.MeanDifference(treat, ctrl)
 }
 
-// RegistryEffect converts the registry outcome named by link into an
+// RegistryEffect is RegistryEffectWith with the default options: the
+// posted adjusted analysis first, and records that are not randomized
+// refused.
+func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffect, error) {
+	return RegistryEffectWith(rv, t, l, HarmonizeOptions{})
+}
+
+// RegistryEffectWith converts the registry outcome named by link into an
 // effect on the review's measure, experimental minus comparator, with the
 // sign reversed when the link says the registry measure runs the other way.
-// Every step is recorded in Derivations. An unusable outcome gives a
-// *RejectError with the reason.
-func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffect, error) {
+// It is the one reading of a registry record that the audit, matching and
+// the recognition of included trials share:
+//
+//   - the row (visit) is chosen by the review's timepoint (selectRow);
+//   - several experimental or comparator groups are combined;
+//   - units are converted by meaning (findConversion);
+//   - for MD reviews, when the arms are least-squares or otherwise
+//     model-adjusted means and the record posts a between-group analysis
+//     of exactly the linked groups, its estimate and SE are used
+//     (opts.Prefer), with the arm-based result kept beside it;
+//   - the direction of a posted estimate follows the record's statement
+//     (analysisDirection); raw values never flip it;
+//   - records that are not randomized, and crossover records without a
+//     paired analysis, are refused unless opts.AllowNonrandomized.
+//
+// Every step is recorded in Derivations; the posted analysis, when there
+// is one, is in PostedAnalysis. An unusable outcome gives a *RejectError
+// with the reason.
+func RegistryEffectWith(rv ingest.Review, t ingest.Trial, l ingest.Link, opts HarmonizeOptions) (StudyEffect, error) {
 	se := StudyEffect{Study: t.TrialID, TrialID: t.TrialID, Origin: OriginRegistry}
 	var o *ingest.Outcome
 	for i := range t.Outcomes {
@@ -163,6 +200,15 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 	class, cat, rowDeriv, err := selectRow(rv, o)
 	if err != nil {
 		return se, reject(ReasonAmbiguousRow, "%s outcome %d: %v", t.TrialID, idx, err)
+	}
+	design, designWhy := DesignOf(t, o, l)
+	se.Design = design
+	var designFlags []string
+	if design != DesignRandomized {
+		if !opts.AllowNonrandomized {
+			return se, reject(design, "%s: %s; such a record is pooled with randomized evidence only when asked (--allow-nonrandomized)", t.TrialID, designWhy)
+		}
+		designFlags = append(designFlags, fmt.Sprintf("%s: %s; used only because non-randomized evidence was allowed (--allow-nonrandomized)", design, designWhy))
 	}
 
 	var conv *unitConversion
@@ -201,12 +247,14 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 				return analysis.Arm{}, err
 			}
 			if conv != nil {
+				before := a
 				a.Mean = conv.Scale*a.Mean + conv.Offset
 				a.SD = math.Abs(conv.Scale) * a.SD
 				d = append(d, analysis.Derivation{
 					Method:  "unit_conversion",
 					Formula: fmt.Sprintf("value_%s = %g * value_%s + %g; SD scales by %g", conv.To, conv.Scale, conv.From, conv.Offset, math.Abs(conv.Scale)),
-					Inputs:  []analysis.NamedValue{{Name: "mean", Value: a.Mean}, {Name: "sd", Value: a.SD}},
+					Inputs:  []analysis.NamedValue{{Name: "mean", Value: before.Mean}, {Name: "sd", Value: before.SD}},
+					Output:  []analysis.NamedValue{{Name: "mean", Value: a.Mean}, {Name: "sd", Value: a.SD}},
 					Source:  conv.Source,
 				})
 			}
@@ -224,20 +272,22 @@ func RegistryEffect(rv ingest.Review, t ingest.Trial, l ingest.Link) (StudyEffec
 		derivs = append(derivs, d)
 		return c, nil
 	}
+	flags = append(flags, designFlags...)
+	rowDerivs := append([]analysis.Derivation(nil), derivs...)
+	armsSE, armsErr := se, error(nil)
 	treat, err := buildArm(l.TreatGroups)
 	if err == nil {
 		ctrl, ctrlErr := buildArm(l.CtrlGroups)
 		if ctrlErr == nil {
-			return finishArms(rv, t, o, l, se, kind, treat, ctrl, derivs, flags)
+			armsSE, armsErr = finishArms(rv, t, o, l, se, kind, treat, ctrl, derivs, flags)
+		} else {
+			armsErr = ctrlErr
 		}
-		err = ctrlErr
+	} else {
+		armsErr = err
 	}
-	// The arms cannot be used: fall back on a posted between-group
-	// analysis of exactly these groups, for mean differences.
-	if fb, ok := analysisEffect(rv, t, o, l, se, conv); ok {
-		return fb, nil
-	}
-	return se, err
+	posted := readPostedAnalysis(rv, t, o, class, cat, l, conv)
+	return chooseReading(rv, t, o, l, opts, se, armsSE, armsErr, posted, rowDerivs, append(designFlags, unitFlags...))
 }
 
 // finishArms computes the effect from the two arms and records the steps.
@@ -251,12 +301,8 @@ func finishArms(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Li
 	derivs = append(derivs, eff.Derivations...)
 	se.Effect, se.SE = eff.Estimate, eff.SE
 	if l.Flip {
+		derivs = append(derivs, flipStep(se.Effect))
 		se.Effect = -se.Effect
-		derivs = append(derivs, analysis.Derivation{
-			Method:  "sign_flip",
-			Formula: "effect = -effect (the registry measure runs opposite to the review's outcome)",
-			Inputs:  []analysis.NamedValue{{Name: "effect", Value: se.Effect}},
-		})
 	}
 	se.TreatN, se.CtrlN = treat.N, ctrl.N
 	se.PooledSD = pooledSD(treat, ctrl)
@@ -278,152 +324,6 @@ func changeFlags(rv ingest.Review, o *ingest.Outcome) []string {
 		return []string{"change from baseline: mixing change and final values in a standardized mean difference is not advised"}
 	}
 	return []string{"change from baseline (may be pooled with final values for a mean difference)"}
-}
-
-// analysisEffect uses a posted between-group analysis comparing exactly
-// the link's two groups: its estimate, with the SE from its dispersion
-// (SE) or its confidence interval (normal reference). Mean differences
-// only. The posted direction is not trusted: when both arms' values are
-// posted the sign is checked against treat - ctrl; otherwise the estimate
-// comment must name the experimental group before "minus"/"vs" the
-// comparator, else the analysis is not used.
-func analysisEffect(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Link, se StudyEffect, conv *unitConversion) (StudyEffect, bool) {
-	if !strings.EqualFold(rv.Measure, "MD") && rv.Measure != "" || len(l.TreatGroups) != 1 || len(l.CtrlGroups) != 1 || len(o.Classes) > 1 {
-		// With several posted rows nothing says which one an analysis is of.
-		return se, false
-	}
-	tg, cg := l.TreatGroups[0], l.CtrlGroups[0]
-	for _, a := range o.Analyses {
-		if len(a.GroupIDs) != 2 || !(a.GroupIDs[0] == tg && a.GroupIDs[1] == cg || a.GroupIDs[0] == cg && a.GroupIDs[1] == tg) {
-			continue
-		}
-		pt := strings.ToLower(a.ParamType)
-		if !a.ParamValue.OK || !(strings.Contains(pt, "mean difference") || strings.Contains(pt, "difference of ls mean") || pt == "difference" || strings.Contains(pt, "ls mean difference")) {
-			continue
-		}
-		est := a.ParamValue.Value
-		var seEst float64
-		var d analysis.Derivation
-		switch {
-		case strings.EqualFold(a.DispersionType, "STANDARD_ERROR_OF_MEAN") && a.DispersionValue.OK && a.DispersionValue.Value > 0:
-			seEst = a.DispersionValue.Value
-			d = analysis.Derivation{Method: "se_posted", Formula: "se = posted standard error of the between-group estimate",
-				Inputs: []analysis.NamedValue{{Name: "se", Value: seEst}}}
-		case a.CILower.OK && a.CIUpper.OK && a.CIPct.OK && a.CIPct.Value > 0 && a.CIPct.Value < 100 && !strings.EqualFold(a.CISides, "ONE_SIDED"):
-			v, dd, err := analysis.SEFromCI(a.CILower.Value, a.CIUpper.Value, a.CIPct.Value/100, 0)
-			if err != nil {
-				continue
-			}
-			seEst, d = v, dd
-		default:
-			continue
-		}
-		sign, how := analysisSign(o, a, tg, cg, est)
-		if sign == 0 {
-			continue
-		}
-		est *= sign
-		derivs := []analysis.Derivation{{
-			Method:  "between_group_analysis",
-			Formula: "effect = posted between-group estimate, oriented experimental minus comparator (" + how + ")",
-			Inputs:  []analysis.NamedValue{{Name: "posted_estimate", Value: a.ParamValue.Value}, {Name: "sign", Value: sign}},
-			Source:  "registry analysis: " + a.ParamType + "; " + a.Method,
-		}, d}
-		if conv != nil {
-			// A difference converts by the scale alone; an offset cancels.
-			est *= conv.Scale
-			seEst *= math.Abs(conv.Scale)
-			derivs = append(derivs, analysis.Derivation{Method: "unit_conversion",
-				Formula: fmt.Sprintf("difference_%s = %g * difference_%s", conv.To, conv.Scale, conv.From), Source: conv.Source})
-		}
-		if l.Flip {
-			est = -est
-			derivs = append(derivs, analysis.Derivation{Method: "sign_flip", Formula: "effect = -effect (the registry measure runs opposite to the review's outcome)"})
-		}
-		se.Effect, se.SE, se.Derivations = est, seEst, derivs
-		se.Flags = append(changeFlags(rv, o), "from a posted between-group analysis (may be adjusted, e.g. ANCOVA)")
-		se.ConvertedFrom = "between_group_analysis"
-		for _, c := range groupCounts(o) {
-			if c.GroupID == tg {
-				se.TreatN = c.n
-			}
-			if c.GroupID == cg {
-				se.CtrlN = c.n
-			}
-		}
-		return se, true
-	}
-	return se, false
-}
-
-type groupCount struct {
-	GroupID string
-	n       int
-}
-
-func groupCounts(o *ingest.Outcome) []groupCount {
-	var out []groupCount
-	for _, g := range o.Groups {
-		if len(o.Classes) == 0 {
-			break
-		}
-		if n, ok := groupN(o, 0, g.ID); ok {
-			out = append(out, groupCount{g.ID, n})
-		}
-	}
-	return out
-}
-
-// analysisSign returns +1 when the posted estimate already runs
-// experimental minus comparator, -1 when it runs the other way, 0 when
-// that cannot be told.
-func analysisSign(o *ingest.Outcome, a ingest.Analysis, tg, cg string, est float64) (float64, string) {
-	if len(o.Classes) == 1 && len(o.Classes[0].Categories) == 1 {
-		var mt, mc *ingest.Num
-		for i, m := range o.Classes[0].Categories[0].Measurements {
-			if m.GroupID == tg {
-				mt = &o.Classes[0].Categories[0].Measurements[i].Value
-			}
-			if m.GroupID == cg {
-				mc = &o.Classes[0].Categories[0].Measurements[i].Value
-			}
-		}
-		if mt != nil && mc != nil && mt.OK && mc.OK && est != 0 {
-			diff := mt.Value - mc.Value
-			if diff != 0 {
-				if (diff > 0) == (est > 0) {
-					return 1, "sign checked against the posted group values"
-				}
-				return -1, "sign reversed to match the posted group values"
-			}
-		}
-	}
-	// No usable group values: read the estimate comment, e.g. "Drug minus Placebo".
-	title := func(id string) string {
-		for _, g := range o.Groups {
-			if g.ID == id {
-				return strings.ToLower(strings.TrimSpace(g.Title))
-			}
-		}
-		return ""
-	}
-	c := strings.ToLower(a.EstimateComment)
-	tt, ct := title(tg), title(cg)
-	if tt == "" || ct == "" || tt == ct {
-		return 0, ""
-	}
-	for _, sep := range []string{" minus ", " - ", " vs. ", " vs ", " versus "} {
-		if i := strings.Index(c, sep); i > 0 {
-			left, right := c[:i], c[i+len(sep):]
-			switch {
-			case strings.Contains(left, tt) && strings.Contains(right, ct):
-				return 1, "direction from the estimate comment"
-			case strings.Contains(left, ct) && strings.Contains(right, tt):
-				return -1, "direction from the estimate comment, reversed"
-			}
-		}
-	}
-	return 0, ""
 }
 
 // parameter kinds a registry outcome can have for our purpose.

@@ -102,14 +102,17 @@ type OutcomeProposal struct {
 // TrialProposal is one candidate trial of a review with its outcomes,
 // best first.
 type TrialProposal struct {
-	TrialID    string            `json:"trial_id"`
-	Class      string            `json:"class"`
-	Score      float64           `json:"score"` // best outcome's score; the trial's fit when no outcome fits
-	Fit        float64           `json:"fit"`
-	Enrollment *int              `json:"enrollment"`
-	IncludedAs string            `json:"included_as,omitempty"` // the review's study label
-	Reasons    []string          `json:"reasons"`
-	Outcomes   []OutcomeProposal `json:"outcomes"`
+	TrialID    string  `json:"trial_id"`
+	Class      string  `json:"class"`
+	Score      float64 `json:"score"` // best outcome's score; the trial's fit when no outcome fits
+	Fit        float64 `json:"fit"`
+	Enrollment *int    `json:"enrollment"`
+	IncludedAs string  `json:"included_as,omitempty"` // the review's study label
+	// Design is randomized, not-randomized or crossover (DesignOf); links
+	// to the last two are never accepted automatically.
+	Design   string            `json:"design"`
+	Reasons  []string          `json:"reasons"`
+	Outcomes []OutcomeProposal `json:"outcomes"`
 }
 
 // ExcludedTrial is a trial that was examined and does not fit the review.
@@ -283,6 +286,7 @@ func ProposeForReview(rv ingest.Review, studies []ingest.ReviewStudy, candidates
 func proposeTrial(rt *reviewTerms, t ingest.Trial, opts MatchOptions) (*TrialProposal, *ExcludedTrial) {
 	fit := trialFit(rt, t)
 	tp := &TrialProposal{TrialID: t.TrialID, Fit: fit.score, Enrollment: t.Enrollment, Reasons: fit.reasons, Outcomes: []OutcomeProposal{}}
+	tp.Design, _ = DesignOf(t, nil, ingest.Link{})
 	if study, ok := citedBy(rt, t); ok {
 		tp.Class, tp.IncludedAs = ClassIncluded, study
 		tp.Reasons = append([]string{fmt.Sprintf("in the review as %s (registry id cited)", study)}, tp.Reasons...)
@@ -330,7 +334,13 @@ func proposeTrial(rt *reviewTerms, t ingest.Trial, opts MatchOptions) (*TrialPro
 		return tp, nil
 	}
 	tp.Score = tp.Outcomes[0].Score
-	if opts.AcceptAbove > 0 && tp.Outcomes[0].Score > opts.AcceptAbove &&
+	best := tp.Outcomes[0]
+	design, why := DesignOf(t, outcomeByIndex(t, best.OutcomeIndex), ingest.Link{TreatGroups: best.TreatGroups, CtrlGroups: best.CtrlGroups})
+	tp.Design = design
+	if design != DesignRandomized {
+		tp.Reasons = append(tp.Reasons, fmt.Sprintf("%s: %s; never accepted automatically, and an accepted link is used only with --allow-nonrandomized", design, why))
+	}
+	if opts.AcceptAbove > 0 && tp.Outcomes[0].Score > opts.AcceptAbove && design == DesignRandomized &&
 		(tp.Class == ClassMissedPublication || tp.Class == ClassRegistryOnly) && tp.Outcomes[0].Converted {
 		tp.Outcomes[0].AutoAccepted = true
 		tp.Outcomes[0].Decision = "accept"
@@ -416,7 +426,7 @@ func armAgrees(nReg int, meanReg float64, nPub int, meanPub float64) bool {
 func linkArms(rv ingest.Review, t ingest.Trial, l ingest.Link) (treatArm, ctrlArm armSummary, ok bool) {
 	mdReview := rv
 	mdReview.Measure = "MD"
-	if _, err := RegistryEffect(mdReview, t, l); err != nil {
+	if _, err := RegistryEffectWith(mdReview, t, l, HarmonizeOptions{AllowNonrandomized: true}); err != nil {
 		return armSummary{}, armSummary{}, false
 	}
 	// RegistryEffect has checked that the outcome is a single row with
@@ -564,7 +574,8 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 	if parts.Arms == 1 {
 		l := ingest.Link{ReviewID: rt.rv.ReviewID, TrialID: t.TrialID, OutcomeIndex: o.Index,
 			TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, Flip: op.Flip, UnitFrom: op.UnitFrom}
-		if _, err := RegistryEffect(rt.rv, t, l); err != nil {
+		// The design is judged per trial (proposeTrial), not per outcome.
+		if _, err := RegistryEffectWith(rt.rv, t, l, HarmonizeOptions{AllowNonrandomized: true}); err != nil {
 			var re *RejectError
 			if errors.As(err, &re) {
 				op.Rejected = re.Reason
@@ -686,7 +697,11 @@ func unitScore(rv ingest.Review, unit string) (score float64, unitFrom, why stri
 		}
 		return 0.6, "", fmt.Sprintf("unit %q and %q are worded differently (neither is a physical unit): check they are the same scale", unit, rv.Unit)
 	}
-	return 0, "", fmt.Sprintf("unit %q cannot be converted to %q", unit, rv.Unit)
+	why = fmt.Sprintf("unit %q cannot be converted to %q (units compared by meaning: %q vs %q)", unit, rv.Unit, normUnit(unit), normUnit(rv.Unit))
+	if err != nil {
+		why += ": " + err.Error()
+	}
+	return 0, "", why
 }
 
 // trialFitResult is a trial's fit to a review.

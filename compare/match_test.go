@@ -29,12 +29,20 @@ func TestUnitScore(t *testing.T) {
 		{"loudness is not a rating", "MD", "Tinnitus distress", "points (0-100)", "dB SL", 0, ""},
 		{"SMD takes any scale", "SMD", "Depressive symptoms", "SD units", "units on a scale", 1, ""},
 		{"SMD doubts a physical unit", "SMD", "Depressive symptoms", "SD units", "steps per day", 0.5, ""},
+		{"BMI spelled two ways", "MD", "Body mass index", "kg/m2", "Kg/m^2", 1, ""},
+		{"percent body mass is not BMI", "MD", "Body mass index", "kg/m2", "% body mass", 0, ""},
+		{"A1C names HbA1c", "MD", "Glycated haemoglobin (A1C)", "mmol/mol", "%", 0.9, "%"},
+		{"LDL-C names cholesterol", "MD", "LDL-C", "mmol/L", "mg/dL", 0.9, "mg/dL"},
+		{"blood pressure spelled two ways", "MD", "Systolic blood pressure", "mm Hg", "mmHg", 1, ""},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			rv := ingest.Review{Measure: tc.measure, Outcome: tc.outcome, Unit: tc.reviewUnit}
 			got, from, why := unitScore(rv, tc.unit)
 			if got != tc.want || from != tc.unitFrom {
 				t.Errorf("unitScore(%q) = %v, %q (%s); want %v, %q", tc.unit, got, from, why, tc.want, tc.unitFrom)
+			}
+			if got == 0 && !strings.Contains(why, "cannot be converted") {
+				t.Errorf("unitScore(%q) = 0 without an explanation: %q", tc.unit, why)
 			}
 		})
 	}

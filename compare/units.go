@@ -9,7 +9,7 @@ import (
 // to = Scale*from + Offset. SDs scale by |Scale| only.
 type unitConversion struct {
 	From, To string
-	Analyte  string // "" = any outcome; otherwise a word the review's outcome must contain
+	Analyte  string // "" = any outcome; otherwise a key of analyteSynonyms the review's outcome must name
 	Scale    float64
 	Offset   float64
 	Source   string
@@ -31,50 +31,144 @@ var unitTable = []unitConversion{
 	{From: "%", To: "mmol/mol", Analyte: "hba1c", Scale: 10.929, Offset: -10.929 * 2.15, Source: "IFCC-NGSP master equation, Hoelzel et al. 2004, Clin Chem 50:166-174"},
 	{From: "mmol/mol", To: "%", Analyte: "hba1c", Scale: 1 / 10.929, Offset: 2.15, Source: "IFCC-NGSP master equation, Hoelzel et al. 2004, Clin Chem 50:166-174"},
 	// Mass: 1 lb = 0.45359237 kg exactly (international avoirdupois pound, 1959).
-	{From: "lb", To: "kg", Scale: 0.45359237, Source: "international pound, 1 lb = 0.45359237 kg (exact)"},
-	{From: "kg", To: "lb", Scale: 1 / 0.45359237, Source: "international pound, 1 lb = 0.45359237 kg (exact)"},
+	{From: "lb", To: "kg", Analyte: "weight", Scale: 0.45359237, Source: "international pound, 1 lb = 0.45359237 kg (exact)"},
+	{From: "kg", To: "lb", Analyte: "weight", Scale: 1 / 0.45359237, Source: "international pound, 1 lb = 0.45359237 kg (exact)"},
 }
 
-// normUnit reduces unit spellings to a comparison key: lower case, no
-// spaces, "per" and "/" unified, "percent" as "%".
+// unitSpellings maps spellings of one unit, after the mechanical steps of
+// normUnit (lower case, no spaces, "per" as "/", "^2" and "²" as "2"), to
+// one key. Scale-score units all map to "points": a rating-scale score has
+// no physical unit, and records write it as "points", "score", "units on a
+// scale" or "scores on a scale" for the same thing.
+var unitSpellings = map[string]string{
+	// percent
+	"percent": "%", "percentage": "%", "pct": "%", "%hba1c": "%", "percentofhemoglobin": "%", "percentofhaemoglobin": "%",
+	"percentageofhemoglobin": "%", "percentageofhaemoglobin": "%", "%ofhemoglobin": "%", "%ofhaemoglobin": "%",
+	"percentoftotalhemoglobin": "%", "percentoftotalhaemoglobin": "%", "%oftotalhemoglobin": "%", "%oftotalhaemoglobin": "%",
+	"%ngsp": "%", "%(ngsp)": "%", "%dcct": "%", "%(dcct)": "%",
+	// mass
+	"kilograms": "kg", "kilogram": "kg", "kgs": "kg", "kilo": "kg", "kilos": "kg",
+	"pounds": "lb", "pound": "lb", "lbs": "lb",
+	// concentrations
+	"millimolesperliter": "mmol/l", "millimoles/liter": "mmol/l", "millimoles/litre": "mmol/l", "mmol/litre": "mmol/l",
+	"mmol/liter": "mmol/l", "millimole/liter": "mmol/l", "millimole/litre": "mmol/l", "mm": "mm",
+	"milligramsperdeciliter": "mg/dl", "milligrams/deciliter": "mg/dl", "milligrams/decilitre": "mg/dl", "mg/decilitre": "mg/dl",
+	"mg/deciliter": "mg/dl", "mg%": "mg/dl", "milligram/deciliter": "mg/dl", "milligram/decilitre": "mg/dl",
+	"mmol/molhb": "mmol/mol", "millimoles/mole": "mmol/mol", "millimole/mole": "mmol/mol",
+	// pressure
+	"millimetersofmercury": "mmhg", "millimetresofmercury": "mmhg", "mmofmercury": "mmhg",
+	// body mass index
+	"kg/squaremeter": "kg/m2", "kg/squaremetre": "kg/m2", "kilograms/squaremeter": "kg/m2", "kilograms/squaremetre": "kg/m2",
+	"kilogram/squaremeter": "kg/m2", "kilogram/squaremetre": "kg/m2", "kg/metersquared": "kg/m2", "kg/metresquared": "kg/m2",
+	"kilograms/metersquared": "kg/m2", "kilograms/metresquared": "kg/m2", "kg.m-2": "kg/m2", "kgm-2": "kg/m2",
+	// scale scores
+	"point": "points", "points": "points", "score": "points", "scores": "points", "scorepoints": "points",
+	"unitsonascale": "points", "unitonascale": "points", "scoreonascale": "points", "scoresonascale": "points",
+	"pointsonascale": "points", "pointonascale": "points", "scaleunits": "points", "scalescore": "points", "unitsonthescale": "points",
+}
+
+// normUnit reduces a unit spelling to a comparison key: lower case; no
+// spaces; "per" and "/" unified; "^2", "²" and "2" alike; then the
+// unitSpellings table ("mm Hg" and "mmHg" are both "mmhg", "mg/dL" is
+// "mg/dl", "Kg/m^2" is "kg/m2", "units on a scale" is "points"). A range
+// in brackets after a scale unit ("points (0-100)") is dropped.
 func normUnit(u string) string {
 	u = strings.ToLower(strings.TrimSpace(u))
+	if i := strings.IndexAny(u, "(["); i > 0 && scaleWords(u[:i]) {
+		u = strings.TrimSpace(u[:i])
+	}
 	u = strings.ReplaceAll(u, " per ", "/")
-	u = strings.ReplaceAll(u, " ", "")
-	switch u {
-	case "percent", "percentage", "%hba1c", "percentofhemoglobin", "percentofhaemoglobin",
-		"percentageofhemoglobin", "percentageofhaemoglobin", "%ofhemoglobin", "%ofhaemoglobin",
-		"percentoftotalhemoglobin", "percentoftotalhaemoglobin", "%oftotalhemoglobin", "%oftotalhaemoglobin":
-		return "%"
-	case "kilograms", "kilogram", "kgs":
-		return "kg"
-	case "pounds", "pound", "lbs":
-		return "lb"
-	case "millimolesperliter", "millimoles/liter", "millimoles/litre", "mmol/litre":
-		return "mmol/l"
-	case "milligramsperdeciliter", "milligrams/deciliter", "milligrams/decilitre", "mg/decilitre":
-		return "mg/dl"
+	u = strings.NewReplacer(" ", "", "\t", "", "^2", "2", "²", "2", "**2", "2", "µ", "u", "μ", "u").Replace(u)
+	if k, ok := unitSpellings[u]; ok {
+		return k
 	}
 	return u
 }
 
+// scaleWords reports whether a unit text names a rating-scale score.
+func scaleWords(u string) bool {
+	for _, w := range []string{"scale", "score", "point"} {
+		if strings.Contains(u, w) {
+			return true
+		}
+	}
+	return false
+}
+
+// analyteSynonyms lists, for each analyte of a built-in conversion, the
+// phrases that name it in an outcome's text. Phrases are matched as whole
+// words after lower-casing and turning punctuation into spaces, so
+// "LDL-C" is "ldl c" and "(A1C)" is "a1c".
+var analyteSynonyms = map[string][]string{
+	"hba1c": {"hba1c", "hb a1c", "a1c", "hba 1c", "glycated haemoglobin", "glycated hemoglobin", "glycosylated haemoglobin",
+		"glycosylated hemoglobin", "haemoglobin a1c", "hemoglobin a1c", "glycohaemoglobin", "glycohemoglobin"},
+	"glucose":      {"glucose", "fpg", "fbg", "fasting plasma glucose", "fasting blood glucose", "blood sugar", "plasma sugar"},
+	"cholesterol":  {"cholesterol", "ldl c", "ldl", "hdl c", "hdl", "ldl cholesterol", "hdl cholesterol", "non hdl c", "tc"},
+	"triglyceride": {"triglyceride", "triglycerides", "tg", "tgs", "triacylglycerol", "triacylglycerols"},
+	"weight":       {"weight", "body weight", "bodyweight"},
+}
+
+// analyteWords normalises an outcome text for analyte matching: lower
+// case, every character other than a letter or digit a space, single
+// spaces, padded with a space at each end.
+func analyteWords(text string) string {
+	var b strings.Builder
+	b.WriteByte(' ')
+	space := true
+	for _, r := range strings.ToLower(text) {
+		if r >= 'a' && r <= 'z' || r >= '0' && r <= '9' {
+			b.WriteRune(r)
+			space = false
+			continue
+		}
+		if !space {
+			b.WriteByte(' ')
+			space = true
+		}
+	}
+	if !space {
+		b.WriteByte(' ')
+	}
+	return b.String()
+}
+
+// namesAnalyte reports whether outcomeText names the analyte (a key of
+// analyteSynonyms) through one of its synonyms, as whole words.
+func namesAnalyte(outcomeText, analyte string) bool {
+	text := analyteWords(outcomeText)
+	for _, syn := range analyteSynonyms[analyte] {
+		if strings.Contains(text, " "+syn+" ") {
+			return true
+		}
+	}
+	return false
+}
+
 // findConversion returns the conversion from unit from to unit to for an
-// outcome described by outcomeText. An identical unit needs none (nil).
+// outcome described by outcomeText. An identical unit (after normUnit)
+// needs none (nil, nil). A conversion tied to an analyte applies only when
+// outcomeText names it (namesAnalyte). No conversion gives an error that
+// says why, for the match reasons and the audit.
 func findConversion(from, to, outcomeText string) (*unitConversion, error) {
 	f, t := normUnit(from), normUnit(to)
 	if f == t {
 		return nil, nil
 	}
-	text := strings.ToLower(strings.ReplaceAll(outcomeText, " ", ""))
+	var needs []string
 	for i := range unitTable {
 		c := &unitTable[i]
 		if c.From != f || c.To != t {
 			continue
 		}
-		if c.Analyte != "" && !strings.Contains(text, c.Analyte) {
+		if c.Analyte != "" && !namesAnalyte(outcomeText, c.Analyte) {
+			needs = append(needs, c.Analyte)
 			continue
 		}
 		return c, nil
+	}
+	if len(needs) > 0 {
+		return nil, fmt.Errorf("no known conversion from %q to %q for outcome %q: the table converts these units only for %s, and the outcome names none of them",
+			from, to, outcomeText, strings.Join(needs, ", "))
 	}
 	return nil, fmt.Errorf("no known conversion from %q to %q for outcome %q", from, to, outcomeText)
 }

@@ -22,6 +22,9 @@ type auditOptions struct {
 	Seed      uint64
 	Workers   int
 	Explain   string
+	// Prefer and AllowNonrandomized choose how registry records are read.
+	Prefer             string
+	AllowNonrandomized bool
 }
 
 func newCmdAudit(g *globals) *cobra.Command {
@@ -67,7 +70,8 @@ numbers were derived instead (not stored).`,
 // interval at the 95% level, a 1000-replicate bootstrap with the fixed
 // default seed, one worker per core.
 func defaultAuditOptions(g *globals) auditOptions {
-	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 1000, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0)}
+	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 1000, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
+		Prefer: compare.PreferAnalysis}
 }
 
 // addAuditFlags adds the flags shared by audit, summary and report.
@@ -80,6 +84,8 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "bootstrap replicates of the shift (0 turns it off)")
 	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of the bootstrap (stored with the run)")
 	cmd.Flags().IntVar(&opts.Workers, "workers", d.Workers, "reviews audited in parallel (results stay in review order)")
+	cmd.Flags().StringVar(&opts.Prefer, "prefer", d.Prefer, "for model-adjusted arm means, use the record's posted between-group analysis or the arms: analysis or arms")
+	cmd.Flags().BoolVar(&opts.AllowNonrandomized, "allow-nonrandomized", false, "use accepted links to not-randomized and crossover records (flagged) instead of refusing them")
 }
 
 // validate checks the shared audit flags.
@@ -99,6 +105,9 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 	if !(o.Level > 0 && o.Level < 1) {
 		return flagErrorf("--level must lie between 0 and 1, not %v", o.Level)
 	}
+	if o.Prefer != compare.PreferAnalysis && o.Prefer != compare.PreferArms {
+		return flagErrorf("invalid --prefer %q: valid values are analysis, arms", o.Prefer)
+	}
 	if o.Bootstrap < 0 {
 		return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", o.Bootstrap)
 	}
@@ -106,7 +115,8 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 }
 
 func (o *auditOptions) compareOptions() compare.Options {
-	return compare.Options{Level: o.Level, Tau2: analysis.Tau2Method(o.Tau2), CI: o.CI, Bootstrap: o.Bootstrap, Seed: o.Seed}
+	return compare.Options{Level: o.Level, Tau2: analysis.Tau2Method(o.Tau2), CI: o.CI, Bootstrap: o.Bootstrap, Seed: o.Seed,
+		Harmonize: compare.HarmonizeOptions{Prefer: o.Prefer, AllowNonrandomized: o.AllowNonrandomized}}
 }
 
 func checkTau2(m string) error {

@@ -14,6 +14,13 @@ Formulas (Cochrane Handbook ch. 6; Borenstein et al. 2009 ch. 4):
   Hedges' g: d = (m1-m2)/s_pooled, J = 1 - 3/(4(n1+n2)-9), g = J d,
              Var(g) = J^2 ((n1+n2)/(n1 n2) + d^2/(2(n1+n2)))
   glucose: mmol/L = mg/dL / 18.016
+  posted adjusted analysis (MD reviews): when the arms are least-squares
+    means and the record posts a mean-difference analysis of exactly the
+    linked experimental and comparator group, its estimate is used,
+    oriented by its estimate comment ("A minus B"), with the SE from its
+    posted SE or from its CI: (upper - lower) / (2 q), q = t on n1+n2-2 df
+    when a group has fewer than 60 participants, else z (Cochrane Handbook
+    6.5.2); a difference converts by the unit's scale alone.
 
 Run from the repository root: /usr/bin/python3 testdata/reference/demo_audit_statsmodels.py
 """
@@ -77,6 +84,46 @@ def arm(o, gid, unit_from):
     return n, mean, sd
 
 
+def group_n(o, gid):
+    for d in (o["classes"][0].get("denoms") or o["denoms"]):
+        if d["units"] == "Participants":
+            for c in d["counts"]:
+                if c["groupId"] == gid:
+                    return int(c["value"])
+    raise ValueError(gid)
+
+
+def posted_analysis(measure, o, l):
+    """The posted analysis read as the effect, or None when the arms are used."""
+    tg, cg = l["treat_groups"].split(";"), l["ctrl_groups"].split(";")
+    if measure != "MD" or o.get("paramType") != "LEAST_SQUARES_MEAN" or len(tg) != 1 or len(cg) != 1:
+        return None
+    titles = {g["id"]: g["title"].lower() for g in o["groups"]}
+    for a in o.get("analyses", []):
+        if sorted(a.get("groupIds", [])) != sorted([tg[0], cg[0]]) or "paramValue" not in a:
+            continue
+        est = float(a["paramValue"])
+        left, right = a["estimateComment"].lower().split(" minus ")
+        if titles[tg[0]] in left and titles[cg[0]] in right:
+            sign = 1
+        elif titles[cg[0]] in left and titles[tg[0]] in right:
+            sign = -1
+        else:
+            raise ValueError(a["estimateComment"])
+        if a.get("dispersionType") == "STANDARD_ERROR_OF_MEAN":
+            se = float(a["dispersionValue"])
+        else:
+            n1, n2 = group_n(o, tg[0]), group_n(o, cg[0])
+            p = 1 - (1 - float(a["ciPctValue"]) / 100) / 2
+            q = stats.t.ppf(p, n1 + n2 - 2) if min(n1, n2) < 60 else stats.norm.ppf(p)
+            se = (float(a["ciUpperLimit"]) - float(a["ciLowerLimit"])) / (2 * q)
+        e = sign * est
+        if l["unit_from"] == "mg/dL":
+            e, se = e / 18.016, se / 18.016
+        return e, se
+    return None
+
+
 def main():
     reviews = {r["review_id"]: r for r in csv.DictReader(open(os.path.join(ROOT, "reviews.csv")))}
     studies = list(csv.DictReader(open(os.path.join(ROOT, "studies.csv"))))
@@ -99,6 +146,13 @@ def main():
                 continue
             rec = json.load(open(os.path.join(ROOT, "registry", l["trial_id"] + ".json")))
             o = rec["resultsSection"]["outcomeMeasuresModule"]["outcomeMeasures"][int(l["outcome_index"])]
+            pa = posted_analysis(rv["measure"], o, l)
+            if pa is not None:
+                e, se = pa
+                if l["flip"] == "yes":
+                    e = -e
+                added.append((e, se))
+                continue
             t = combine([arm(o, g, l["unit_from"]) for g in l["treat_groups"].split(";")])
             c = combine([arm(o, g, l["unit_from"]) for g in l["ctrl_groups"].split(";")])
             e, se = effect(rv["measure"], t, c)
