@@ -122,7 +122,7 @@ estimate shifts.`,
 		newCmdDemo(g),
 		newCmdDB(g),
 		newCmdReport(g),
-		newCmdSummary(g), newCmdTrials(g),
+		newCmdSummary(g), newCmdTrials(g), newCmdFetch(g),
 	)
 	return root, g
 }

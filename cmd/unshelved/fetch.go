@@ -1,0 +1,259 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+
+	"unshelved/ingest/fetch"
+)
+
+type fetchOptions struct {
+	g           *globals
+	Query       fetch.Query
+	IDs         []string
+	IDsFile     string
+	Out         string
+	NoIngest    bool
+	Rate        float64
+	PageSize    int
+	BaseURL     string
+	Retries     int
+	ReadTimeout time.Duration
+	Restart     bool
+}
+
+func newCmdFetch(g *globals) *cobra.Command {
+	opts := &fetchOptions{g: g}
+	cmd := &cobra.Command{
+		Use:   "fetch",
+		Short: "Download registry records from the registry's public API (resumable), then ingest them",
+		Long: `Query the registry's public search API (version 2) for the studies that
+match the selection, page by page (up to 1000 studies a page), and store
+each page as gzip-compressed JSON lines in --out (default: a registry/
+folder beside the workspace database); then ingest them unless --no-ingest.
+
+Each page is written to a temporary file and renamed when complete, and a
+small state file in the folder records the completed pages: a run that is
+interrupted resumes from the last completed page when run again with the
+same selection (--restart starts over). Requests are paced to at most
+--rate per second; answers 429 and 5xx, timeouts, cut-off bodies and
+malformed pages are retried with exponential backoff and jitter, honouring
+Retry-After, at most --retries times a page. Nothing is ingested unless
+every page was fetched whole.`,
+		Args: exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.Query.IDs = append(opts.Query.IDs, opts.IDs...)
+			if opts.IDsFile != "" {
+				ids, err := readIDsFile(opts.IDsFile)
+				if err != nil {
+					return err
+				}
+				opts.Query.IDs = append(opts.Query.IDs, ids...)
+			}
+			if err := opts.Query.Validate(); err != nil {
+				return flagErrorf("%v", err)
+			}
+			if opts.Rate <= 0 {
+				return flagErrorf("invalid --rate %v: want a positive number of requests per second", opts.Rate)
+			}
+			if opts.PageSize < 1 || opts.PageSize > fetch.MaxPageSize {
+				return flagErrorf("invalid --page-size %d: want 1 to %d", opts.PageSize, fetch.MaxPageSize)
+			}
+			if opts.Retries < 0 {
+				return flagErrorf("invalid --retries %d: want 0 or more", opts.Retries)
+			}
+			return fetchRun(cmd, opts)
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&opts.Query.Condition, "condition", "", "condition or disease (the API's condition search)")
+	f.StringVar(&opts.Query.Intervention, "intervention", "", "intervention or treatment (the API's intervention search)")
+	f.StringVar(&opts.Query.Sponsor, "sponsor", "", "lead sponsor or collaborator (the API's sponsor search)")
+	f.StringVar(&opts.Query.Term, "term", "", "other terms (the API's general search)")
+	f.StringArrayVar(&opts.IDs, "id", nil, "NCT number to fetch (repeatable)")
+	f.StringVar(&opts.IDsFile, "ids", "", "file of NCT numbers, one a line (or separated by commas); # starts a comment")
+	f.BoolVar(&opts.Query.WithResults, "with-results", false, "only studies with results posted")
+	f.StringVar(&opts.Query.UpdatedSince, "updated-since", "", "only studies updated on or after this date (yyyy-MM-dd), for refreshes")
+	f.StringVar(&opts.Out, "out", "", "folder for the page files and the state file (default: registry/ beside the workspace)")
+	f.BoolVar(&opts.NoIngest, "no-ingest", false, "only download; do not ingest")
+	f.Float64Var(&opts.Rate, "rate", fetch.DefaultRate, "at most this many requests per second")
+	f.IntVar(&opts.PageSize, "page-size", fetch.MaxPageSize, "studies per page (at most 1000)")
+	f.StringVar(&opts.BaseURL, "base-url", fetch.DefaultBaseURL, "API base URL (a mirror, or a local server in tests)")
+	f.IntVar(&opts.Retries, "retries", fetch.DefaultMaxRetries, "retries per page after 429, 5xx, timeouts or damaged pages")
+	f.DurationVar(&opts.ReadTimeout, "read-timeout", fetch.DefaultReadTimeout, "give up on an answer that sends nothing for this long (it is retried)")
+	f.BoolVar(&opts.Restart, "restart", false, "discard this selection's earlier pages and state and start over")
+	return cmd
+}
+
+// readIDsFile reads NCT numbers, one a line or separated by commas or
+// spaces; '#' starts a comment.
+func readIDsFile(path string) ([]string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("read --ids file: %w", err)
+	}
+	defer f.Close()
+	var ids []string
+	sc := bufio.NewScanner(f)
+	for sc.Scan() {
+		line, _, _ := strings.Cut(sc.Text(), "#")
+		for _, id := range strings.FieldsFunc(line, func(r rune) bool { return r == ',' || r == ' ' || r == '\t' || r == ';' }) {
+			ids = append(ids, strings.ToUpper(id))
+		}
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("read --ids file %s: %w", path, err)
+	}
+	if len(ids) == 0 {
+		return nil, flagErrorf("--ids file %s names no NCT number", path)
+	}
+	return ids, nil
+}
+
+// fetchReport is the result of fetch: the download and, unless
+// --no-ingest, the ingest summary.
+type fetchReport struct {
+	Dir       string         `json:"dir"`
+	StateFile string         `json:"state_file"`
+	Pages     int            `json:"pages"`
+	NewPages  int            `json:"new_pages"`
+	Studies   int            `json:"studies"`
+	Total     *int           `json:"total_count"`
+	Resumed   bool           `json:"resumed"`
+	Complete  bool           `json:"already_complete"`
+	Requests  int            `json:"requests"`
+	Retries   int            `json:"retries"`
+	Ingest    *ingestSummary `json:"ingest"`
+}
+
+func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
+	g := opts.g
+	dir := opts.Out
+	if dir == "" {
+		dir = filepath.Join(filepath.Dir(g.dbPath(cmd)), "registry")
+	}
+	rep, err := fetchAndIngest(cmd, g, opts.Query, dir, opts)
+	if err != nil {
+		return err
+	}
+	if err := render(g.IO.Out, g.Format, rep, fetchGrid(rep)); err != nil {
+		return err
+	}
+	if rep.Ingest != nil && rep.Ingest.Rejected > 0 {
+		return &rejectedError{n: rep.Ingest.Rejected}
+	}
+	return nil
+}
+
+// fetchAndIngest downloads the query's pages into dir and ingests them
+// (unless opts.NoIngest); match --fetch uses it too.
+func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, opts *fetchOptions) (fetchReport, error) {
+	ctx := cmd.Context()
+	bar := newFetchProgress(g)
+	fo := fetch.Options{BaseURL: opts.BaseURL, PageSize: opts.PageSize, UserAgent: "unshelved/" + version + " (registry fetch)",
+		Rate: opts.Rate, MaxRetries: opts.Retries, ReadTimeout: opts.ReadTimeout, Restart: opts.Restart, Progress: bar.update}
+	if opts.Retries == 0 {
+		fo.MaxRetries = -1
+	}
+	res, err := fetch.Run(ctx, q, dir, fo)
+	bar.finish()
+	rep := fetchReport{Dir: res.Dir, StateFile: res.StateFile, Pages: res.Pages, NewPages: res.NewPages, Studies: res.Studies,
+		Total: res.Total, Resumed: res.Resumed, Complete: res.AlreadyComplete, Requests: res.Requests, Retries: res.Retries}
+	if err != nil {
+		if res.Pages > 0 && !errors.Is(err, context.Canceled) {
+			g.progressf("fetch: %d page(s) (%d studies) kept in %s; nothing ingested; run the same command again to resume", res.Pages, res.Studies, dir)
+		} else if res.Pages > 0 {
+			g.progressf("fetch: interrupted; %d page(s) kept in %s; run the same command again to resume", res.Pages, dir)
+		}
+		return rep, err
+	}
+	if res.Resumed {
+		g.progressf("fetch: resumed after %d earlier page(s)", res.Pages-res.NewPages)
+	}
+	if res.AlreadyComplete {
+		g.progressf("fetch: this selection was fetched completely before (%d pages in %s); use --restart to fetch it again", res.Pages, dir)
+	}
+	if opts.NoIngest || len(res.Files) == 0 {
+		return rep, nil
+	}
+	defer ingestMemorySettings()()
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return rep, err
+	}
+	defer db.Close()
+	sum, err := loadRegistry(ctx, g, db, &ingestRegistryOptions{g: g, Paths: res.Files, BatchSize: 2000})
+	rep.Ingest = &sum
+	return rep, err
+}
+
+// fetchProgress shows the studies fetched out of the API's total on a
+// terminal, and one line per retry otherwise.
+type fetchProgress struct {
+	g   *globals
+	bar *progressbar.ProgressBar
+}
+
+func newFetchProgress(g *globals) *fetchProgress {
+	p := &fetchProgress{g: g}
+	if !g.Quiet && g.IO.ErrIsTerminal {
+		p.bar = progressbar.NewOptions64(-1, progressbar.OptionSetWriter(g.IO.ErrOut), progressbar.OptionSetDescription("fetch"),
+			progressbar.OptionSetPredictTime(true), progressbar.OptionSetElapsedTime(true), progressbar.OptionShowCount(),
+			progressbar.OptionClearOnFinish())
+	}
+	return p
+}
+
+func (p *fetchProgress) update(ev fetch.Progress) {
+	if ev.Retry != "" {
+		p.g.progressf("fetch: page %d: %s; retrying in %s", ev.Page, ev.Retry, ev.RetryWait.Round(time.Millisecond))
+		return
+	}
+	if p.bar == nil {
+		return
+	}
+	if ev.Total != nil && p.bar.GetMax64() != int64(*ev.Total) {
+		p.bar.ChangeMax64(int64(*ev.Total))
+	}
+	p.bar.Describe(fmt.Sprintf("fetch: page %d", ev.Page))
+	_ = p.bar.Set64(int64(ev.Studies))
+}
+
+func (p *fetchProgress) finish() {
+	if p.bar != nil {
+		_ = p.bar.Finish()
+	}
+}
+
+func fetchGrid(r fetchReport) grid {
+	total := "not reported"
+	if r.Total != nil {
+		total = fmt.Sprint(*r.Total)
+	}
+	rows := [][]string{
+		{"folder", r.Dir},
+		{"pages", fmt.Sprint(r.Pages)},
+		{"pages fetched by this run", fmt.Sprint(r.NewPages)},
+		{"studies", fmt.Sprint(r.Studies)},
+		{"studies the registry counts", total},
+		{"resumed", yesNo(r.Resumed)},
+		{"requests", fmt.Sprint(r.Requests)},
+		{"retries", fmt.Sprint(r.Retries)},
+	}
+	if r.Ingest != nil {
+		ig := ingestGrid(*r.Ingest)
+		for _, row := range ig.Table {
+			rows = append(rows, []string{"ingest: " + row[0], row[1]})
+		}
+	}
+	return grid{Columns: []string{"item", "value"}, Table: rows, CSV: rows}
+}
