@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
 	"unshelved/analysis"
@@ -198,9 +199,12 @@ func studyByArmSizes(pub []StudyEffect, n1, n2 int) *StudyEffect {
 	return nil
 }
 
-// Explanation traces one registry trial's use in one review: the record,
-// the outcome and groups used as posted, every conversion and the result
-// or the reason it was not used.
+// Explanation traces one registry trial's use in one review: the link
+// used (the accepted one, else the best candidate) with its decision and
+// who made it, the record, the outcome and groups as posted, every
+// conversion step with its inputs and output, the posted between-group
+// analysis and how it compares, the result or the reason it was not used,
+// and the trial's other candidate outcomes, one line each.
 type Explanation struct {
 	ReviewID string            `json:"review_id"`
 	Measure  string            `json:"measure"`
@@ -212,9 +216,15 @@ type Explanation struct {
 	Effect        *float64              `json:"effect"`
 	SE            *float64              `json:"se"`
 	ConvertedFrom string                `json:"converted_from,omitempty"`
+	Design        string                `json:"design,omitempty"`
 	Derivations   []analysis.Derivation `json:"derivations"`
-	Flags         []string              `json:"flags"`
-	Rejected      string                `json:"rejected,omitempty"` // reason: detail
+	// PostedAnalysis is the record's own analysis of the linked groups,
+	// used or not, beside the arm-based result.
+	PostedAnalysis *PostedComparison `json:"posted_analysis"`
+	Flags          []string          `json:"flags"`
+	Rejected       string            `json:"rejected,omitempty"` // reason: detail
+	// Candidates are the trial's other outcome links in this review.
+	Candidates []ExplainedCandidate `json:"candidates"`
 }
 
 // ExplainedRecord is the registry record's identity and dates.
@@ -231,9 +241,13 @@ type ExplainedRecord struct {
 	ResultsFirstPosted string `json:"results_first_posted"`
 	HasResults         *bool  `json:"has_results"`
 	Enrollment         *int   `json:"enrollment"`
+	Allocation         string `json:"allocation"`
+	InterventionModel  string `json:"intervention_model"`
 }
 
-// ExplainedLink is the link as stored.
+// ExplainedLink is the link as stored. DecidedBy is "auto" (accepted by
+// match --accept-above), "person" (a decision loaded from a links file)
+// or "" (no decision).
 type ExplainedLink struct {
 	OutcomeIndex int      `json:"outcome_index"`
 	TreatGroups  []string `json:"treat_groups"`
@@ -241,7 +255,23 @@ type ExplainedLink struct {
 	Flip         bool     `json:"flip"`
 	UnitFrom     string   `json:"unit_from"`
 	Decision     string   `json:"decision"`
+	DecidedBy    string   `json:"decided_by"`
 	Class        string   `json:"class"`
+	Score        *float64 `json:"score"`
+	Reasons      string   `json:"reasons"`
+}
+
+// ExplainedCandidate is another outcome link of the same trial and review,
+// in one line: what it is, its decision and why it is not the one used.
+type ExplainedCandidate struct {
+	OutcomeIndex int      `json:"outcome_index"`
+	OutcomeTitle string   `json:"outcome_title"`
+	Score        *float64 `json:"score"`
+	Decision     string   `json:"decision"`
+	DecidedBy    string   `json:"decided_by"`
+	Effect       *float64 `json:"effect"`
+	SE           *float64 `json:"se"`
+	Why          string   `json:"why"`
 }
 
 // ExplainedOutcome is the outcome measure as posted.
@@ -268,15 +298,36 @@ type ExplainedArm struct {
 	Upper   string `json:"upper"`
 }
 
-// ExplainLink traces the conversion of one link (see Explanation).
+// decidedBy says who made a link's decision.
+func decidedBy(l ingest.Link) string {
+	switch {
+	case l.Decision == "":
+		return ""
+	case l.AutoAccepted:
+		return "auto"
+	default:
+		return "person"
+	}
+}
+
+// ExplainLink traces the conversion of one link with the default
+// harmonization options (see ExplainLinkWith).
 func ExplainLink(rv ingest.Review, t ingest.Trial, l ingest.Link) Explanation {
+	return ExplainLinkWith(rv, t, l, HarmonizeOptions{})
+}
+
+// ExplainLinkWith traces the conversion of one link (see Explanation);
+// Candidates is left empty.
+func ExplainLinkWith(rv ingest.Review, t ingest.Trial, l ingest.Link, hopts HarmonizeOptions) Explanation {
 	ex := Explanation{ReviewID: rv.ReviewID, Measure: rv.Measure, Unit: rv.Unit, Derivations: []analysis.Derivation{}, Flags: []string{},
+		Candidates: []ExplainedCandidate{},
 		Trial: ExplainedRecord{TrialID: t.TrialID, Registry: t.Registry, Title: t.BriefTitle, Sponsor: t.LeadSponsor.Name,
 			SponsorClass: t.LeadSponsor.Class, Status: t.OverallStatus, Start: t.StartDate.Text,
 			PrimaryCompletion: t.PrimaryCompletionDate.Text, Completion: t.CompletionDate.Text,
-			ResultsFirstPosted: t.ResultsFirstPosted.Text, HasResults: t.HasResults, Enrollment: t.Enrollment},
+			ResultsFirstPosted: t.ResultsFirstPosted.Text, HasResults: t.HasResults, Enrollment: t.Enrollment,
+			Allocation: t.Allocation, InterventionModel: t.InterventionModel},
 		Link: ExplainedLink{OutcomeIndex: l.OutcomeIndex, TreatGroups: nonNil(l.TreatGroups), CtrlGroups: nonNil(l.CtrlGroups),
-			Flip: l.Flip, UnitFrom: l.UnitFrom, Decision: l.Decision, Class: l.Class}}
+			Flip: l.Flip, UnitFrom: l.UnitFrom, Decision: l.Decision, DecidedBy: decidedBy(l), Class: l.Class, Score: l.Score, Reasons: l.Reasons}}
 	for i := range t.Outcomes {
 		o := &t.Outcomes[i]
 		if o.Index != l.OutcomeIndex {
@@ -291,14 +342,20 @@ func ExplainLink(rv ingest.Review, t ingest.Trial, l ingest.Link) Explanation {
 		for _, g := range l.CtrlGroups {
 			role[g] = "comparator"
 		}
+		// The row the conversion reads: the review's timepoint picks it
+		// when the outcome is posted per visit.
+		row := 0
+		if c, _, _, err := selectRow(rv, o); err == nil {
+			row = c
+		}
 		for _, g := range o.Groups {
 			a := ExplainedArm{GroupID: g.ID, Title: g.Title, Role: role[g.ID]}
-			if len(o.Classes) > 0 {
-				if n, ok := groupN(o, 0, g.ID); ok {
+			if len(o.Classes) > row {
+				if n, ok := groupN(o, row, g.ID); ok {
 					a.N = fmt.Sprint(n)
 				}
-				if len(o.Classes[0].Categories) > 0 {
-					for _, m := range o.Classes[0].Categories[0].Measurements {
+				if len(o.Classes[row].Categories) > 0 {
+					for _, m := range o.Classes[row].Categories[0].Measurements {
 						if m.GroupID == g.ID {
 							a.Value, a.Spread, a.Lower, a.Upper = m.Value.Text, m.Spread.Text, m.Lower.Text, m.Upper.Text
 						}
@@ -309,7 +366,8 @@ func ExplainLink(rv ingest.Review, t ingest.Trial, l ingest.Link) Explanation {
 		}
 		ex.Outcome = eo
 	}
-	e, err := RegistryEffect(rv, t, l)
+	e, err := RegistryEffectWith(rv, t, l, hopts)
+	ex.Design, ex.PostedAnalysis = e.Design, e.PostedAnalysis
 	if err != nil {
 		var re *RejectError
 		if errors.As(err, &re) {
@@ -329,10 +387,84 @@ func ExplainLink(rv ingest.Review, t ingest.Trial, l ingest.Link) Explanation {
 	return ex
 }
 
-// Explain traces every link of a trial (in one review when reviewID is
-// not empty), in review id order. A trial with no link gives one
-// explanation of the record alone, with Rejected saying so.
+// linkRank orders a trial's links for explaining: accepted first, then
+// undecided, then rejected; within each, higher score first, then lower
+// outcome index.
+func linkRank(links []ingest.Link) {
+	rank := func(l ingest.Link) int {
+		switch strings.ToLower(l.Decision) {
+		case "accept":
+			return 0
+		case "reject":
+			return 2
+		}
+		return 1
+	}
+	sort.SliceStable(links, func(i, j int) bool {
+		a, b := links[i], links[j]
+		if ra, rb := rank(a), rank(b); ra != rb {
+			return ra < rb
+		}
+		sa, sb := -1.0, -1.0
+		if a.Score != nil {
+			sa = *a.Score
+		}
+		if b.Score != nil {
+			sb = *b.Score
+		}
+		if sa != sb {
+			return sa > sb
+		}
+		return a.OutcomeIndex < b.OutcomeIndex
+	})
+}
+
+// explainTrialInReview explains one trial's links in one review: the
+// first after linkRank in full, the others as candidates.
+func explainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link, hopts HarmonizeOptions) Explanation {
+	linkRank(links)
+	ex := ExplainLinkWith(rv, t, links[0], hopts)
+	for _, l := range links[1:] {
+		c := ExplainedCandidate{OutcomeIndex: l.OutcomeIndex, OutcomeTitle: l.OutcomeTitle, Score: l.Score, Decision: l.Decision, DecidedBy: decidedBy(l)}
+		if o := outcomeByIndex(t, l.OutcomeIndex); o != nil {
+			c.OutcomeTitle = o.Title
+		}
+		e, err := RegistryEffectWith(rv, t, l, hopts)
+		if err == nil {
+			c.Effect, c.SE = opt(e.Effect), opt(e.SE)
+		}
+		switch {
+		case strings.EqualFold(l.Decision, "reject"):
+			c.Why = "rejected"
+			if c.DecidedBy != "" {
+				c.Why += " by " + c.DecidedBy
+			}
+		case strings.EqualFold(l.Decision, "accept"):
+			c.Why = "also accepted; one outcome per trial is pooled (the one above)"
+		case err != nil:
+			c.Why = "cannot be used: " + rejectText(err)
+		default:
+			c.Why = "not chosen: the link above ranks first"
+		}
+		if err != nil && !strings.HasPrefix(c.Why, "cannot") {
+			c.Why += "; cannot be used: " + rejectText(err)
+		}
+		ex.Candidates = append(ex.Candidates, c)
+	}
+	return ex
+}
+
+// Explain is ExplainWith with the default harmonization options.
 func Explain(ctx context.Context, db *store.DB, trialID, reviewID string) ([]Explanation, error) {
+	return ExplainWith(ctx, db, trialID, reviewID, HarmonizeOptions{})
+}
+
+// ExplainWith traces a trial's use in every review it is linked to (in
+// one review when reviewID is not empty), in review id order: one
+// explanation per review, of the accepted link (else the best candidate),
+// with the other candidate outcomes one line each. A trial with no link
+// gives one explanation of the record alone, with Rejected saying so.
+func ExplainWith(ctx context.Context, db *store.DB, trialID, reviewID string, hopts HarmonizeOptions) ([]Explanation, error) {
 	t, err := db.Trial(ctx, trialID)
 	if errors.Is(err, store.ErrNotFound) {
 		return nil, fmt.Errorf("trial %q is not in the workspace", trialID)
@@ -344,26 +476,31 @@ func Explain(ctx context.Context, db *store.DB, trialID, reviewID string) ([]Exp
 	if err != nil {
 		return nil, fmt.Errorf("load links: %w", err)
 	}
-	var out []Explanation
-	reviews := map[string]ingest.Review{}
+	byReview := map[string][]ingest.Link{}
+	var order []string
 	for _, l := range links {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
 		if !strings.EqualFold(l.TrialID, t.TrialID) {
 			continue
 		}
-		rv, ok := reviews[l.ReviewID]
-		if !ok {
-			if rv, err = db.Review(ctx, l.ReviewID); err != nil {
-				return nil, fmt.Errorf("load review %s: %w", l.ReviewID, err)
-			}
-			reviews[l.ReviewID] = rv
+		if _, ok := byReview[l.ReviewID]; !ok {
+			order = append(order, l.ReviewID)
 		}
-		out = append(out, ExplainLink(rv, t, l))
+		byReview[l.ReviewID] = append(byReview[l.ReviewID], l)
+	}
+	sort.Strings(order)
+	var out []Explanation
+	for _, id := range order {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		rv, err := db.Review(ctx, id)
+		if err != nil {
+			return nil, fmt.Errorf("load review %s: %w", id, err)
+		}
+		out = append(out, explainTrialInReview(rv, t, byReview[id], hopts))
 	}
 	if len(out) == 0 {
-		ex := ExplainLink(ingest.Review{ReviewID: reviewID}, t, ingest.Link{OutcomeIndex: -1})
+		ex := ExplainLinkWith(ingest.Review{ReviewID: reviewID}, t, ingest.Link{OutcomeIndex: -1}, hopts)
 		ex.Rejected = "no-link: the trial is not linked to " + map[bool]string{true: "any review", false: "review " + reviewID}[reviewID == ""]
 		out = append(out, ex)
 	}

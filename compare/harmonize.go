@@ -393,7 +393,8 @@ func selectRow(rv ingest.Review, o *ingest.Outcome) (int, int, *analysis.Derivat
 	d := &analysis.Derivation{
 		Method:  "row_by_timepoint",
 		Formula: fmt.Sprintf("row %q of %d chosen: the posted time closest to the review's timepoint (%s weeks, window ±%s weeks)", o.Classes[best].Title, len(o.Classes), fmtWeeks(target), fmtWeeks(window)),
-		Inputs:  []analysis.NamedValue{{Name: "row", Value: float64(best)}, {Name: "distance_days", Value: bestDist}},
+		Inputs:  []analysis.NamedValue{{Name: "rows", Value: float64(len(o.Classes))}, {Name: "timepoint_days", Value: target}, {Name: "window_days", Value: window}},
+		Output:  []analysis.NamedValue{{Name: "row", Value: float64(best)}, {Name: "distance_days", Value: bestDist}},
 	}
 	return best, 0, d, nil
 }

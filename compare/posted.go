@@ -352,6 +352,7 @@ func chooseReading(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest
 		out.Derivations = append(out.Derivations, analysis.Derivation{
 			Method:     "arm_based_result",
 			Formula:    "the effect from the arms, kept beside the posted analysis (not used)",
+			Inputs:     []analysis.NamedValue{{Name: "treat_n", Value: float64(armsSE.TreatN)}, {Name: "ctrl_n", Value: float64(armsSE.CtrlN)}},
 			Output:     []analysis.NamedValue{{Name: "effect", Value: armsSE.Effect}, {Name: "se", Value: armsSE.SE}},
 			Assumption: "model-adjusted arm means are not independent and their SEs are rounded, so sqrt(SE1² + SE2²) misstates the SE of their difference",
 		})
@@ -406,6 +407,7 @@ func withSDChoice(rv ingest.Review, o *ingest.Outcome, e StudyEffect, cmp *Poste
 	d := analysis.Derivation{
 		Method:     "sd_choice",
 		Formula:    "SMD standardised by the pooled SD of the two arms (" + from + ")",
+		Inputs:     []analysis.NamedValue{{Name: "treat_n", Value: float64(e.TreatN)}, {Name: "ctrl_n", Value: float64(e.CtrlN)}},
 		Output:     []analysis.NamedValue{{Name: "sd_pooled", Value: e.PooledSD}},
 		Assumption: why,
 	}

@@ -94,10 +94,42 @@ func TestAuditStoresRunsAndExplains(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("explain exit %d: %s", code, stderr)
 	}
-	for _, want := range []string{"NCT99000105", "group OG001 (experimental)", "group OG000 (comparator)", "step: md_from_arms", "effect (SE)"} {
+	for _, want := range []string{"NCT99000105", "group OG001 (experimental)", "group OG000 (comparator)", "step: md_from_arms", "effect (SE)",
+		"in: treat_mean=-8, treat_sd=12.6, treat_n=84", "out: md=-2"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("explain lacks %q:\n%s", want, out)
 		}
+	}
+	// The link used comes first, with its decision and who made it; the
+	// other candidate outcomes follow, one line each.
+	if i, j := strings.Index(out, "│ link "), strings.Index(out, "step: md_from_arms"); i < 0 || j < i || !strings.Contains(out[i:j], "outcome 0:") || !strings.Contains(out[i:j], "accepted") {
+		t.Errorf("explain does not start with the accepted link:\n%s", out)
+	}
+	if !strings.Contains(out, "other candidate: outcome 1") {
+		t.Errorf("explain lacks the other candidate outcome:\n%s", out)
+	}
+	// A least-squares record with a posted analysis shows both readings.
+	code, out, stderr = runCLI(t, "", "--db", db, "audit", "--explain", "NCT99000107", "--review", "TINN-01", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("explain exit %d: %s", code, stderr)
+	}
+	var exps []map[string]any
+	if err := json.Unmarshal([]byte(out), &exps); err != nil || len(exps) != 1 {
+		t.Fatalf("explain JSON (%v): %s", err, out)
+	}
+	pa, _ := exps[0]["posted_analysis"].(map[string]any)
+	if pa == nil || pa["used"] != true || pa["arms_effect"] == nil || exps[0]["converted_from"] != "between_group_analysis" {
+		t.Errorf("explain JSON posted_analysis %v, converted_from %v", pa, exps[0]["converted_from"])
+	}
+	if d, _ := exps[0]["derivations"].([]any); len(d) == 0 || d[0].(map[string]any)["method"] != "posted_analysis" {
+		t.Errorf("derivations %v: want snake_case keys, the posted analysis first", exps[0]["derivations"])
+	}
+	code, out, _ = runCLI(t, "", "--db", db, "audit", "--explain", "NCT99000107", "--review", "TINN-01", "--prefer", "arms", "--format", "json")
+	if code != exitOK || !strings.Contains(out, `"converted_from": "arms_se"`) {
+		t.Errorf("--prefer arms: exit %d\n%s", code, out)
+	}
+	if code, _, _ := runCLI(t, "", "--db", db, "audit", "--prefer", "both"); code != exitUsage {
+		t.Errorf("--prefer both exit %d, want usage error", code)
 	}
 	if code, _, _ := runCLI(t, "", "--db", db, "audit", "--ci", "normal"); code != exitUsage {
 		t.Errorf("--ci normal exit %d, want usage error", code)
