@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -237,5 +238,36 @@ func TestRegistryIDsCell(t *testing.T) {
 	}
 	if a.KAdded != 2 || len(a.Rejected) != 1 || a.Rejected[0].Reason != ReasonIncluded {
 		t.Errorf("k_added %d, rejected %+v: the doubly-cited trial must count as included", a.KAdded, a.Rejected)
+	}
+}
+
+// TestAuditNonRandomized: an accepted link to a non-randomized record is
+// refused by default and, with AllowNonrandomized, pooled with a warning.
+func TestAuditNonRandomized(t *testing.T) {
+	in := auditFixture()
+	tr := in.Trials["NCT99999903"]
+	tr.Allocation, tr.InterventionModel = "NON_RANDOMIZED", "PARALLEL"
+	in.Trials["NCT99999903"] = tr
+	a, err := AuditReview(in, Options{Tau2: analysis.Tau2DL, CI: CIWald})
+	if err != nil {
+		t.Fatal(err)
+	}
+	refused := false
+	for _, r := range a.Rejected {
+		refused = refused || r.TrialID == "NCT99999903" && r.Reason == ReasonNotRandomized
+	}
+	if a.KAdded != 1 || !refused {
+		t.Errorf("default: k added %d, rejected %+v; want the non-randomized trial refused", a.KAdded, a.Rejected)
+	}
+	a, err = AuditReview(in, Options{Tau2: analysis.Tau2DL, CI: CIWald, Harmonize: HarmonizeOptions{AllowNonrandomized: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	warned := false
+	for _, w := range a.Warnings {
+		warned = warned || strings.Contains(w, "NCT99999903 is not-randomized")
+	}
+	if a.KAdded != 2 || !warned {
+		t.Errorf("allowed: k added %d, warnings %q", a.KAdded, a.Warnings)
 	}
 }

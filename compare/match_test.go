@@ -167,3 +167,45 @@ func TestDateAfter(t *testing.T) {
 		}
 	}
 }
+
+// TestAcceptAboveNeverTakesCrossover: a crossover record that fits the
+// review perfectly is proposed with its design class and a reason, and
+// --accept-above does not accept it; the same record as a parallel trial
+// is accepted.
+func TestAcceptAboveNeverTakesCrossover(t *testing.T) {
+	weeks := 12.0
+	rv := ingest.Review{ReviewID: "R1", Measure: "MD", Outcome: "Itch intensity (numeric rating scale)", Unit: "points",
+		Better: "lower", TimepointWeeks: &weeks, SearchDate: "2024-01-31",
+		Conditions: []string{"pruritus"}, Interventions: []string{"exampline"}, Comparator: "placebo"}
+	yes := true
+	trial := func(model string) ingest.Trial {
+		return ingest.Trial{TrialID: "NCT99990015", StudyType: "INTERVENTIONAL", Allocation: "RANDOMIZED", InterventionModel: model,
+			OverallStatus: "COMPLETED", Conditions: []string{"Pruritus"}, HasResults: &yes, PrimaryCompletionDate: ingest.Date{Text: "2022-05-31"},
+			Arms: []ingest.Arm{{Label: "Exampline 10 mg", InterventionNames: []string{"Drug: Exampline"}}, {Label: "Placebo", InterventionNames: []string{"Drug: Placebo"}}},
+			Outcomes: []ingest.Outcome{{Index: 0, Type: "PRIMARY", Title: "Itch Intensity at Week 12", TimeFrame: "Week 12",
+				ParamType: "MEAN", Dispersion: "STANDARD_DEVIATION", Unit: "score on a scale",
+				Groups: []ingest.Group{{ID: "OG000", Title: "Placebo"}, {ID: "OG001", Title: "Exampline 10 mg"}},
+				Denoms: []ingest.Denom{{Units: "Participants", Counts: []ingest.Count{{GroupID: "OG000", Value: num("50")}, {GroupID: "OG001", Value: num("50")}}}},
+				Classes: []ingest.Class{{Categories: []ingest.Category{{Measurements: []ingest.Measurement{
+					{GroupID: "OG000", Value: num("4.1"), Spread: num("2.0")}, {GroupID: "OG001", Value: num("3.2"), Spread: num("2.1")}}}}}},
+			}},
+		}
+	}
+	for _, tc := range []struct {
+		model, design string
+		accepted      bool
+	}{{"PARALLEL", DesignRandomized, true}, {"CROSSOVER", DesignCrossover, false}} {
+		rp := ProposeForReview(rv, nil, []ingest.Trial{trial(tc.model)}, MatchOptions{AcceptAbove: DefaultAcceptAbove})
+		if len(rp.Trials) != 1 || len(rp.Trials[0].Outcomes) == 0 {
+			t.Fatalf("%s: proposals %+v", tc.model, rp)
+		}
+		tp := rp.Trials[0]
+		if tp.Design != tc.design || tp.Outcomes[0].AutoAccepted != tc.accepted || tp.Outcomes[0].Score <= DefaultAcceptAbove {
+			t.Errorf("%s: design %q, score %v, auto-accepted %v; want %q, above %v, %v", tc.model, tp.Design, tp.Outcomes[0].Score,
+				tp.Outcomes[0].AutoAccepted, tc.design, DefaultAcceptAbove, tc.accepted)
+		}
+		if !tc.accepted && !strings.Contains(strings.Join(tp.Reasons, "; "), "never accepted automatically") {
+			t.Errorf("%s: reasons %q do not say why", tc.model, tp.Reasons)
+		}
+	}
+}

@@ -2,6 +2,7 @@ package compare
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -298,4 +299,25 @@ func TestSamplesPostedMeanDifferences(t *testing.T) {
 		t.Errorf("%d posted mean differences checked, want 28", checked)
 	}
 	t.Logf("%d posted mean differences checked; arm-based SE more than 10%% off in %d", checked, armsOff)
+}
+
+// TestSampleNonRandomizedCohorts: two cohorts of a real non-randomized,
+// single-group record (NCT04431453, outcome 5, medians with quartiles) are
+// refused as not-randomized; when allowed they are used and flagged.
+func TestSampleNonRandomizedCohorts(t *testing.T) {
+	_, tr := sampleRecord(t, "NCT04431453.json")
+	rv := ingest.Review{ReviewID: "X", Measure: "MD", Unit: "days", Better: "lower"}
+	link := ingest.Link{OutcomeIndex: 5, TreatGroups: []string{"OG001"}, CtrlGroups: []string{"OG000"}}
+	_, err := RegistryEffect(rv, tr, link)
+	var re *RejectError
+	if !errors.As(err, &re) || re.Reason != ReasonNotRandomized {
+		t.Fatalf("err = %v, want a not-randomized rejection", err)
+	}
+	got, err := RegistryEffectWith(rv, tr, link, HarmonizeOptions{AllowNonrandomized: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Design != DesignNotRandomized || !hasFlag(got.Flags, "not-randomized:") || !hasFlag(got.Flags, "symmetry assumption") {
+		t.Errorf("design %q, flags %q", got.Design, got.Flags)
+	}
 }
