@@ -201,3 +201,41 @@ func TestFetchUsage(t *testing.T) {
 		t.Errorf("readIDsFile = %v, %v", got, err)
 	}
 }
+
+// match --fetch fetches for a review with no candidate trial in the
+// workspace, says so on stderr, and fetches nothing once candidates exist.
+func TestMatchFetch(t *testing.T) {
+	srv := demoServer(t)
+	dir := t.TempDir()
+	db := filepath.Join(dir, "w.db")
+	input := filepath.Join(dir, "input")
+	if err := writeDemoFiles(input); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := runCLI(t, "", "--db", db, "-q", "ingest", "reviews", filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")); code != exitOK {
+		t.Fatalf("ingest reviews: %d %s", code, stderr)
+	}
+	links := filepath.Join(dir, "links.csv")
+	args := []string{"--db", db, "match", "--review", "TINN-01", "--links", links, "--fetch", "--base-url", srv.URL}
+	code, _, stderr := runCLI(t, "", args...)
+	if code != exitOK {
+		t.Fatalf("match --fetch: exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stderr, "review TINN-01 has no candidate trial in the workspace; fetching") {
+		t.Errorf("stderr does not say it fetches: %s", stderr)
+	}
+	reqs := srv.Requests()
+	if len(reqs) == 0 || !strings.Contains(reqs[0].Query["query.cond"], `"tinnitus" OR "chronic tinnitus"`) ||
+		!strings.Contains(reqs[0].Query["query.intr"], `"velmorazine" OR "VLZ-204"`) {
+		t.Fatalf("requests %+v", reqs)
+	}
+	_, rows := readLinksCSV(t, links)
+	if len(rows) == 0 {
+		t.Fatalf("no proposals after fetching")
+	}
+	n := len(reqs)
+	code, _, stderr = runCLI(t, "", args...)
+	if code != exitOK || strings.Contains(stderr, "fetching") || len(srv.Requests()) != n {
+		t.Errorf("second match --fetch: exit %d, %d new requests, stderr %s", code, len(srv.Requests())-n, stderr)
+	}
+}

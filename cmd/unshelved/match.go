@@ -5,6 +5,7 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -12,6 +13,7 @@ import (
 
 	"unshelved/compare"
 	"unshelved/ingest"
+	"unshelved/ingest/fetch"
 	"unshelved/store"
 )
 
@@ -22,6 +24,8 @@ type matchOptions struct {
 	Reviews     []string
 	AcceptAbove float64
 	HighestDose bool
+	Fetch       bool
+	BaseURL     string
 }
 
 func newCmdMatch(g *globals) *cobra.Command {
@@ -56,7 +60,12 @@ joined by ';' to be combined into one arm), flip (yes when the registry
 measure runs opposite to the review's outcome), unit_from (the registry's
 unit when it differs from the review's) and decision (accept or reject).
 Every row is checked against the workspace: the review and the trial must
-be loaded, and the outcome and groups must exist in the record.`,
+be loaded, and the outcome and groups must exist in the record.
+
+--fetch first looks for reviews with no candidate trial in the workspace
+and fetches, for each, the registry records matching any of its conditions
+and any of its interventions from the registry's API (as the fetch command
+does, into registry/ beside the workspace), ingests them, then matches.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			switch {
@@ -76,6 +85,8 @@ be loaded, and the outcome and groups must exist in the record.`,
 	cmd.Flags().StringSliceVar(&opts.Reviews, "review", nil, "review id to match (repeat or join with commas; default all)")
 	cmd.Flags().Float64Var(&opts.AcceptAbove, "accept-above", 0, "accept automatically the best outcome per trial scoring above this")
 	cmd.Flags().BoolVar(&opts.HighestDose, "highest-dose", false, "keep only the highest dose instead of combining experimental groups")
+	cmd.Flags().BoolVar(&opts.Fetch, "fetch", false, "fetch registry records for reviews that have no candidate trial in the workspace (see fetch)")
+	cmd.Flags().StringVar(&opts.BaseURL, "base-url", fetch.DefaultBaseURL, "API base URL for --fetch")
 	return cmd
 }
 
@@ -89,7 +100,59 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 	if opts.Apply != "" {
 		return applyLinksFile(cmd.Context(), g, db, opts.Apply)
 	}
+	if opts.Fetch {
+		if err := fetchForEmptyReviews(cmd, g, db, opts); err != nil {
+			return err
+		}
+	}
 	return proposeLinks(cmd.Context(), g, db, opts)
+}
+
+// fetchForEmptyReviews fetches and ingests registry records for each
+// selected review that has no candidate trial in the workspace.
+func fetchForEmptyReviews(cmd *cobra.Command, g *globals, db *store.DB, opts *matchOptions) error {
+	ctx := cmd.Context()
+	dry, err := compare.Match(ctx, db, compare.MatchOptions{ReviewIDs: opts.Reviews, HighestDose: opts.HighestDose})
+	if err != nil {
+		return err
+	}
+	dir := filepath.Join(filepath.Dir(g.dbPath(cmd)), "registry")
+	fo := &fetchOptions{g: g, Rate: fetch.DefaultRate, PageSize: fetch.MaxPageSize, BaseURL: opts.BaseURL,
+		Retries: fetch.DefaultMaxRetries, ReadTimeout: fetch.DefaultReadTimeout}
+	for _, rp := range dry.Reviews {
+		if rp.Flow.Examined > 0 {
+			continue
+		}
+		rv, err := db.Review(ctx, rp.ReviewID)
+		if err != nil {
+			return fmt.Errorf("load review %s: %w", rp.ReviewID, err)
+		}
+		q := fetch.Query{Condition: anyOf(rv.Conditions), Intervention: anyOf(rv.Interventions)}
+		if q.Condition == "" && q.Intervention == "" {
+			g.progressf("match: review %s has no candidate trial and names no condition or intervention to fetch", rv.ReviewID)
+			continue
+		}
+		g.progressf("match: review %s has no candidate trial in the workspace; fetching registry records for conditions %q and interventions %q into %s",
+			rv.ReviewID, q.Condition, q.Intervention, dir)
+		rep, err := fetchAndIngest(cmd, g, q, dir, fo)
+		if err != nil {
+			return fmt.Errorf("fetch for review %s: %w", rv.ReviewID, err)
+		}
+		g.progressf("match: fetched %d studies for review %s", rep.Studies, rv.ReviewID)
+	}
+	return nil
+}
+
+// anyOf writes terms as one search expression matching any of them:
+// "a" OR "b c", each quoted so that a phrase is searched as a phrase.
+func anyOf(terms []string) string {
+	var parts []string
+	for _, t := range terms {
+		if t = strings.TrimSpace(strings.ReplaceAll(t, `"`, "")); t != "" {
+			parts = append(parts, `"`+t+`"`)
+		}
+	}
+	return strings.Join(parts, " OR ")
 }
 
 // proposeLinks runs automatic matching, writes the links file and prints

@@ -137,11 +137,16 @@ func (s *Server) Requests() []Request {
 
 var advancedRE = regexp.MustCompile(`^AREA\[LastUpdatePostDate\]RANGE\[(\d{4}-\d{2}-\d{2}),MAX\]$`)
 
+// contains reports whether an item of list contains q, or, when q is an
+// expression such as `"a b" OR c`, any of its alternatives (the subset of
+// the API's search syntax that the tests use).
 func contains(list []string, q string) bool {
-	q = strings.ToLower(q)
-	for _, x := range list {
-		if strings.Contains(strings.ToLower(x), q) {
-			return true
+	for _, alt := range strings.Split(q, " OR ") {
+		alt = strings.ToLower(strings.Trim(strings.TrimSpace(alt), `"`))
+		for _, x := range list {
+			if alt != "" && strings.Contains(strings.ToLower(x), alt) {
+				return true
+			}
 		}
 	}
 	return false
