@@ -176,9 +176,9 @@ func findConversion(from, to, outcomeText string) (*unitConversion, error) {
 // physicalUnits are units of measurement (as opposed to scale scores) whose
 // mismatch with a review's unit is worth a flag.
 var physicalUnits = map[string]bool{
-	"mg/dl": true, "mmol/l": true, "umol/l": true, "µmol/l": true, "mmol/mol": true, "%": true, "g/dl": true, "g/l": true,
+	"mg/dl": true, "mmol/l": true, "umol/l": true, "mmol/mol": true, "%": true, "g/dl": true, "g/l": true,
 	"ng/ml": true, "pg/ml": true, "iu/l": true, "u/l": true, "kg": true, "lb": true, "g": true, "mg": true, "cm": true,
-	"mm": true, "m": true, "kg/m2": true, "kg/m^2": true, "mmhg": true, "bpm": true, "ml": true, "l": true, "ml/min": true,
+	"mm": true, "m": true, "kg/m2": true, "mmhg": true, "bpm": true, "ml": true, "l": true, "ml/min": true,
 	"ml/min/1.73m2": true, "db": true, "dbsl": true, "dbhl": true, "dba": true, "hz": true, "khz": true, "seconds": true, "minutes": true, "hours": true, "days": true, "s": true, "min": true, "h": true,
 }
 
