@@ -61,7 +61,11 @@ func TestReadReviewsErrors(t *testing.T) {
 		{"mid", reviewsHeader + "R1,t,MD,o,u,lower,,,,,,x\n", []string{`r.csv:2: record R1: field "mid": bad value: not a number: "x"`}},
 		{"missing id", reviewsHeader + ",t,MD,o,u,lower,,,,,,\n", []string{`r.csv:2: field "review_id": missing value: empty`}},
 		{"duplicate", reviewsHeader + "R1,t,MD,o,u,lower,,,,,,\nR2,t,MD,o,u,lower,,,,,,\nR1,t,MD,o,u,lower,,,,,,\n", []string{`r.csv:4: record R1: field "review_id": duplicate id: "R1" already on line 2`}},
-		{"missing column", "review_id,title,measure,outcome\nR1,t,MD,o\n", []string{`r.csv:1: field "better": missing value: no such column in the header`}},
+		{"missing column", "review_id,title,measure,outcome\nR1,t,MD,o\n", []string{`r.csv:1: header: missing column "better"; the header needs review_id, title, measure, outcome, better`}},
+		{"misspelt column", "review_id,title,measure,outcome,beter\nR1,t,MD,o,lower\n", []string{"r.csv:1: header: missing column \"better\"; unknown column \"beter\" (did you mean `better`?); the header needs review_id, title, measure, outcome, better"}},
+		{"semicolons", "review_id;title;measure;outcome;better\nR1;t;MD;o;lower\n", []string{"r.csv:1: header: this file uses ';' as separator: save it comma-separated or pass `--delimiter ';'`"}},
+		{"tabs", "review_id\ttitle\tmeasure\toutcome\tbetter\nR1\tt\tMD\to\tlower\n", []string{"r.csv:1: header: this file uses tab as separator: save it comma-separated or pass `--delimiter '\\t'`"}},
+		{"decimal comma", reviewsHeader + "R1,t,MD,o,u,lower,\"12,5\",,,,,\n", []string{`r.csv:2: record R1: field "timepoint_weeks": bad value: "12,5" has a comma: write numbers with a decimal point and no thousands separator (1.5, not 1,5)`}},
 		{"empty file", "", []string{`r.csv:1: empty file: no header row`}},
 		{"bad quote", reviewsHeader + "R1,t\"x,MD,o,u,lower,,,,,,\n", []string{`r.csv:2: invalid CSV: bare " in non-quoted-field`}},
 	} {

@@ -13,8 +13,10 @@ import (
 )
 
 // csvTable reads one of our CSV formats: a header row naming the columns
-// (in any order, unknown ones ignored), UTF-8 with an optional BOM, CRLF or
-// LF line ends, empty lines skipped.
+// (in any order; unknown ones ignored unless close to one of ours, see
+// columns.CheckHeader), UTF-8 with an optional BOM, CRLF or LF line ends,
+// empty lines skipped, fields separated by commas (or the separator given
+// with WithDelimiter).
 type csvTable struct {
 	src  Source
 	r    *csv.Reader
@@ -25,11 +27,19 @@ type csvTable struct {
 
 // newCSVTable reads the header and checks that the required columns exist.
 func newCSVTable(r io.Reader, src Source, required ...string) (*csvTable, *ParseError, error) {
+	return newTable(r, src, columns{required: required})
+}
+
+// newTable reads the header and checks it against the format's columns.
+func newTable(r io.Reader, src Source, spec columns) (*csvTable, *ParseError, error) {
+	r, comma := delimiterOf(r)
 	br := bufio.NewReader(r)
 	if b, err := br.Peek(3); err == nil && bytes.Equal(b, []byte("\xef\xbb\xbf")) {
 		br.Discard(3)
 	}
+	first, _ := br.Peek(4096)
 	cr := csv.NewReader(br)
+	cr.Comma = comma
 	cr.FieldsPerRecord = -1
 	cr.ReuseRecord = true
 	t := &csvTable{src: src, r: cr, col: map[string]int{}}
@@ -44,6 +54,9 @@ func newCSVTable(r io.Reader, src Source, required ...string) (*csvTable, *Parse
 		return nil, nil, fmt.Errorf("read %s: %w", src.Path, err)
 	}
 	line, _ := cr.FieldPos(0)
+	if h := delimiterHint(header, first, comma); h != "" {
+		return nil, &ParseError{File: src.Path, Line: line, Err: errorf(ErrHeader, "%s", h)}, nil
+	}
 	for i, h := range header {
 		h = strings.ToLower(strings.TrimSpace(h))
 		if _, dup := t.col[h]; dup && h != "" {
@@ -51,10 +64,8 @@ func newCSVTable(r io.Reader, src Source, required ...string) (*csvTable, *Parse
 		}
 		t.col[h] = i
 	}
-	for _, name := range required {
-		if _, ok := t.col[name]; !ok {
-			return nil, &ParseError{File: src.Path, Line: line, Field: name, Err: errorf(ErrMissing, "no such column in the header")}, nil
-		}
+	if msg := spec.CheckHeader(header); msg != "" {
+		return nil, &ParseError{File: src.Path, Line: line, Err: errorf(ErrHeader, "%s", msg)}, nil
 	}
 	return t, nil, nil
 }
@@ -139,7 +150,7 @@ func (e *rowErrors) float(field string) *float64 {
 	}
 	n := ParseNum(s)
 	if !n.OK {
-		e.fail(field, ErrBadValue, "not a number: %q", s)
+		e.notNumber(field, s, "not a number: %q")
 		return nil
 	}
 	return &n.Value
@@ -153,10 +164,20 @@ func (e *rowErrors) integer(field string) *int {
 	}
 	v, err := strconv.Atoi(s)
 	if err != nil {
-		e.fail(field, ErrBadValue, "not an integer: %q", s)
+		e.notNumber(field, s, "not an integer: %q")
 		return nil
 	}
 	return &v
+}
+
+// notNumber rejects a value that should be a number, with a hint when it
+// was written with a decimal comma.
+func (e *rowErrors) notNumber(field, s, format string) {
+	if h := decimalCommaHint(s); h != "" {
+		e.fail(field, ErrBadValue, "%s", h)
+		return
+	}
+	e.fail(field, ErrBadValue, format, s)
 }
 
 func (e *rowErrors) enum(field string, allowed ...string) string {

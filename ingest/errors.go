@@ -70,6 +70,7 @@ var (
 	ErrUnreadable   = errors.New("ingest: unreadable file")
 	ErrBadValue     = errors.New("ingest: bad value")
 	ErrMissing      = errors.New("ingest: missing value")
+	ErrHeader       = errors.New("ingest: header")
 )
 
 var reasonLabels = []struct {
@@ -91,6 +92,7 @@ var reasonLabels = []struct {
 	{ErrUnreadable, "unreadable file"},
 	{ErrBadValue, "bad value"},
 	{ErrMissing, "missing value"},
+	{ErrHeader, "bad header"},
 }
 
 // Reason gives a short stable label for why err rejected a record, as used

@@ -13,7 +13,7 @@ import (
 // returned as *ParseError and skipped; a repeated review_id is an error
 // naming both lines. The error result is for reading failures only.
 func ReadReviews(r io.Reader, src Source) ([]Review, []*ParseError, error) {
-	t, pe, err := newCSVTable(r, src, "review_id", "title", "measure", "outcome", "better")
+	t, pe, err := newTable(r, src, ReviewsColumns)
 	if err != nil || pe != nil {
 		return nil, pes(pe), err
 	}
@@ -87,11 +87,11 @@ func ReadMetaAnalysis(r io.Reader, src Source) ([]ReviewStudy, []*ParseError, er
 }
 
 func readStudies(r io.Reader, src Source, needReview bool) ([]ReviewStudy, []*ParseError, error) {
-	required := []string{"study"}
-	if needReview {
-		required = append([]string{"review_id"}, required...)
+	spec := StudiesColumns
+	if !needReview {
+		spec = columns{required: []string{"study"}, optional: append([]string{"review_id"}, StudiesColumns.optional...)}
 	}
-	t, pe, err := newCSVTable(r, src, required...)
+	t, pe, err := newTable(r, src, spec)
 	if err != nil || pe != nil {
 		return nil, pes(pe), err
 	}
@@ -175,7 +175,7 @@ func (e *rowErrors) count(field string) *int {
 	if err != nil {
 		n := ParseNum(s)
 		if !n.OK || n.Value != float64(int(n.Value)) {
-			e.fail(field, ErrBadValue, "not an integer: %q", s)
+			e.notNumber(field, s, "not an integer: %q")
 			return nil
 		}
 		v = int(n.Value)
@@ -222,7 +222,7 @@ func firstFilled(t *csvTable, cols []string) string {
 // reasons, auto_accepted. A group in both lists is an error, and so is an
 // accepted link without groups on either side.
 func ReadLinks(r io.Reader, src Source) ([]Link, []*ParseError, error) {
-	t, pe, err := newCSVTable(r, src, "review_id", "trial_id", "outcome_index", "treat_groups", "ctrl_groups")
+	t, pe, err := newTable(r, src, LinksColumns)
 	if err != nil || pe != nil {
 		return nil, pes(pe), err
 	}
