@@ -129,12 +129,13 @@ func ApplyLinks(ctx context.Context, db *store.DB, links []ingest.Link) (saved i
 			problems = append(problems, LinkProblem{l, fmt.Sprintf("trial %q is not in the workspace", l.TrialID)})
 			continue
 		}
+		l.TrialID = t.TrialID // as the registry spells it, whatever the case in the file
 		if l.OutcomeIndex == ingest.NoOutcomeIndex {
 			if !strings.EqualFold(l.Class, "no-results") {
 				problems = append(problems, LinkProblem{l, "only a no-results link may name no outcome"})
 				continue
 			}
-		} else if msg := checkLinkGroups(t, l); msg != "" {
+		} else if msg := checkLinkGroups(t, &l); msg != "" {
 			problems = append(problems, LinkProblem{l, msg})
 			continue
 		}
@@ -148,7 +149,10 @@ func ApplyLinks(ctx context.Context, db *store.DB, links []ingest.Link) (saved i
 	return len(ok), problems, nil
 }
 
-func checkLinkGroups(t *ingest.Trial, l ingest.Link) string {
+// checkLinkGroups checks that the link's outcome and groups exist in the
+// trial; group ids are matched in any case and rewritten as posted. A bad
+// group id is reported with the outcome's valid ids.
+func checkLinkGroups(t *ingest.Trial, l *ingest.Link) string {
 	var o *ingest.Outcome
 	for i := range t.Outcomes {
 		if t.Outcomes[i].Index == l.OutcomeIndex {
@@ -158,13 +162,19 @@ func checkLinkGroups(t *ingest.Trial, l ingest.Link) string {
 	if o == nil {
 		return fmt.Sprintf("trial %s has no posted outcome measure at index %d (it has %d)", t.TrialID, l.OutcomeIndex, len(t.Outcomes))
 	}
-	ids := map[string]bool{}
+	ids := map[string]string{}
+	valid := make([]string, 0, len(o.Groups))
 	for _, g := range o.Groups {
-		ids[g.ID] = true
+		ids[strings.ToUpper(g.ID)] = g.ID
+		valid = append(valid, g.ID)
 	}
-	for _, g := range append(append([]string(nil), l.TreatGroups...), l.CtrlGroups...) {
-		if !ids[g] {
-			return fmt.Sprintf("trial %s outcome %d has no group %s", t.TrialID, l.OutcomeIndex, g)
+	for _, side := range [][]string{l.TreatGroups, l.CtrlGroups} {
+		for i, g := range side {
+			id, ok := ids[strings.ToUpper(g)]
+			if !ok {
+				return fmt.Sprintf("trial %s outcome %d has no group %s; its groups are %s", t.TrialID, l.OutcomeIndex, g, strings.Join(valid, ", "))
+			}
+			side[i] = id
 		}
 	}
 	return ""

@@ -63,7 +63,8 @@ func floatPtrFrom(v sql.NullFloat64) *float64 {
 
 // Trial returns the stored trial with every field and nested list, lists
 // in their original order. A trial that is not stored gives an error
-// wrapping ErrNotFound. The read runs in one snapshot, so a concurrent
+// wrapping ErrNotFound. An id that no trial has exactly is matched in any
+// case ("nct02552212" finds NCT02552212). The read runs in one snapshot, so a concurrent
 // replace is seen entirely or not at all.
 func (db *DB) Trial(ctx context.Context, trialID string) (ingest.Trial, error) {
 	tx, err := db.readTx(ctx)
@@ -72,6 +73,17 @@ func (db *DB) Trial(ctx context.Context, trialID string) (ingest.Trial, error) {
 	}
 	defer rollback(tx)
 	t, err := loadTrial(ctx, tx, trialID)
+	if errors.Is(err, ErrNotFound) {
+		// Ids are matched in any case ("nct02552212"): a person typing an
+		// id should not have to know how the registry spells it.
+		var canonical string
+		switch qerr := tx.QueryRowContext(ctx, `SELECT trial_id FROM trials WHERE trial_id = ? COLLATE NOCASE ORDER BY trial_id LIMIT 1`, trialID).Scan(&canonical); {
+		case qerr == nil && canonical != trialID:
+			t, err = loadTrial(ctx, tx, canonical)
+		case qerr != nil && !errors.Is(qerr, sql.ErrNoRows):
+			err = fmt.Errorf("look up trial id: %w", qerr)
+		}
+	}
 	if err != nil {
 		return ingest.Trial{}, fmt.Errorf("load trial %s: %w", trialID, err)
 	}
