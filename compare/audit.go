@@ -522,7 +522,14 @@ type ReviewError struct {
 	Err      error
 }
 
-func (e *ReviewError) Error() string { return fmt.Sprintf("review %s: %v", e.ReviewID, e.Err) }
+// Error names the review once, even when the reason names it too.
+func (e *ReviewError) Error() string {
+	msg := e.Err.Error()
+	if strings.HasPrefix(msg, "review "+e.ReviewID+":") {
+		return msg
+	}
+	return "review " + e.ReviewID + ": " + msg
+}
 func (e *ReviewError) Unwrap() error { return e.Err }
 
 // AuditAll audits every input with up to workers goroutines (zero or less

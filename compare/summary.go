@@ -235,7 +235,7 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 				p.CIMethod = CIWald
 			}
 			p.Tau2, p.I2, p.Q, p.QP, p.PILow, p.PIHigh = opt(r.Tau2), opt(res.Het.I2), opt(res.Het.Q), opt(res.Het.QP), opt(r.PILow), opt(r.PIHigh)
-			s.Warnings = append(s.Warnings, prefixed("pooled difference: ", res.Warnings)...)
+			s.Warnings = append(s.Warnings, prefixed("pooled difference: ", reviewsNotStudies(res.Warnings))...)
 		}
 	}
 	s.Detection = detections(audits, o)

@@ -149,20 +149,23 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 			g.progressf("%s: %s", a.ReviewID, w)
 		}
 		for _, r := range a.Rejected {
-			g.progressf("%s: link %s outcome %d not used (%s): %s", a.ReviewID, r.TrialID, r.OutcomeIndex, r.Reason, r.Detail)
+			g.reasonf("review %s: link %s outcome %d not used (%s): %s", a.ReviewID, r.TrialID, r.OutcomeIndex, r.Reason, r.Detail)
 		}
 	}
 	for _, e := range run.Failed {
-		g.progressf("%v", e)
+		g.reasonf("not audited: %v", e)
 	}
 	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level)); err != nil {
 		return err
 	}
 	if len(run.Failed) > 0 {
-		return &rejectedError{n: len(run.Failed)}
+		return &rejectedError{n: len(run.Failed), what: notAudited}
 	}
 	return nil
 }
+
+// notAudited counts reviews that could not be audited.
+var notAudited = [2]string{"review could not be audited", "reviews could not be audited"}
 
 var auditColumns = []string{
 	"review_id", "measure", "unit", "k_published", "k_added",

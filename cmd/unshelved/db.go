@@ -90,6 +90,12 @@ func newCmdDBInfo(g *globals) *cobra.Command {
 	}
 }
 
+// dbCheckResult is `db check --format json`.
+type dbCheckResult struct {
+	OK       bool     `json:"ok"`
+	Problems []string `json:"problems"`
+}
+
 func newCmdDBCheck(g *globals) *cobra.Command {
 	return &cobra.Command{
 		Use:   "check",
@@ -105,13 +111,26 @@ func newCmdDBCheck(g *globals) *cobra.Command {
 			if err != nil {
 				return err
 			}
-			for _, p := range problems {
-				fmt.Fprintln(g.IO.Out, p)
+			if problems == nil {
+				problems = []string{}
+			}
+			if g.Format == "json" {
+				// One object, as every --format json output.
+				res := dbCheckResult{OK: len(problems) == 0, Problems: problems}
+				if err := render(g.IO.Out, g.Format, res, grid{}); err != nil {
+					return err
+				}
+			} else {
+				for _, p := range problems {
+					fmt.Fprintln(g.IO.Out, p)
+				}
+				if len(problems) == 0 {
+					fmt.Fprintln(g.IO.Out, "ok")
+				}
 			}
 			if len(problems) > 0 {
-				return fmt.Errorf("%d problem(s) found", len(problems))
+				return fmt.Errorf("%s found", countOf(len(problems), "problem", "problems"))
 			}
-			fmt.Fprintln(g.IO.Out, "ok")
 			return nil
 		},
 	}

@@ -69,9 +69,9 @@ func demoRun(cmd *cobra.Command, opts *demoOptions) error {
 		return fmt.Errorf("demo registry: %w", err)
 	}
 	if sum.Rejected > 0 {
-		return fmt.Errorf("demo registry: %d record(s) rejected", sum.Rejected)
+		return fmt.Errorf("demo registry: %s", countOf(sum.Rejected, "record rejected", "records rejected"))
 	}
-	reviews, studies, err := readReviewFiles(g, []string{filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")})
+	reviews, studies, err := readReviewFiles(g, []string{filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")}, ',')
 	if err != nil {
 		return fmt.Errorf("demo reviews: %w", err)
 	}
@@ -89,7 +89,7 @@ func demoRun(cmd *cobra.Command, opts *demoOptions) error {
 	}
 	fmt.Fprintln(g.IO.Out)
 	ropts := &reportOptions{g: g, Out: filepath.Join(opts.Out, "report"), Audit: defaultAuditOptions(g)}
-	index, audits, err := writeReport(cmd, db, ropts)
+	index, audits, _, err := writeReport(cmd, db, ropts)
 	if err != nil {
 		return err
 	}

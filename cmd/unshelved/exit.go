@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
 )
 
 // Exit codes. Scripts rely on these; keep them stable.
@@ -25,11 +26,48 @@ func flagErrorf(format string, args ...any) error {
 	return &flagError{err: fmt.Errorf(format, args...)}
 }
 
-// rejectedError reports a run that finished while rejecting records.
-type rejectedError struct{ n int }
+// rejectedError reports a run that finished while rejecting records (or,
+// with what set, reviews). The reasons are printed before it, even under
+// --quiet, so the message itself only counts.
+type rejectedError struct {
+	n    int
+	what [2]string // singular and plural phrase; zero means "record rejected"
+}
 
 func (e *rejectedError) Error() string {
-	return fmt.Sprintf("%d record(s) rejected; see the messages above", e.n)
+	what := e.what
+	if what[0] == "" {
+		what = [2]string{"record rejected", "records rejected"}
+	}
+	return countOf(e.n, what[0], what[1])
+}
+
+// notLoadedError reports input files of which nothing was stored because
+// rows were rejected: a load is all or nothing.
+type notLoadedError struct {
+	failed   []string // files with problems, as "studies.csv (1 problem)"
+	clean    []string // files without problems, not loaded either
+	problems int
+}
+
+func (e *notLoadedError) Error() string {
+	msg := "nothing was loaded from " + strings.Join(e.failed, ", ")
+	if len(e.clean) > 0 {
+		msg += " nor, as loading is all or nothing, from " + strings.Join(e.clean, ", ")
+	}
+	what := "problems"
+	if e.problems == 1 {
+		what = "problem"
+	}
+	return msg + "; the workspace is unchanged (earlier versions of these reviews stay): fix the " + what + " listed above and load the files again"
+}
+
+// countOf writes "1 review" or "3 reviews".
+func countOf(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }
 
 // exitCode maps an error from a command to the process exit code.

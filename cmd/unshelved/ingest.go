@@ -45,6 +45,9 @@ func newCmdIngestRegistry(g *globals) *cobra.Command {
 		Args:  minArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.Paths = args
+			if err := checkPathsExist(args); err != nil {
+				return err
+			}
 			if opts.Workers < 0 {
 				return flagErrorf("--workers must be 0 (all cores) or more, not %d", opts.Workers)
 			}
@@ -319,14 +322,34 @@ func ingestGrid(s ingestSummary) grid {
 	return grid{Columns: []string{"item", "count"}, Table: rows, CSV: rows}
 }
 
+// checkPathsExist fails, naming the path, when an input file or folder
+// does not exist or cannot be opened: a runtime error (exit 1), not a
+// rejected record.
+func checkPathsExist(paths []string) error {
+	for _, p := range paths {
+		if p == "-" {
+			continue
+		}
+		if _, err := os.Stat(p); err != nil {
+			if errors.Is(err, os.ErrNotExist) {
+				return fmt.Errorf("%s: no such file or folder", p)
+			}
+			return fmt.Errorf("%s: %w", p, err)
+		}
+	}
+	return nil
+}
+
 type ingestReviewsOptions struct {
-	g     *globals
-	Files []string
+	g         *globals
+	Files     []string
+	Delimiter rune
 }
 
 func newCmdIngestReviews(g *globals) *cobra.Command {
 	opts := &ingestReviewsOptions{g: g}
-	return &cobra.Command{
+	var delimiter string
+	cmd := &cobra.Command{
 		Use:   "reviews FILE...",
 		Short: "Load published meta-analyses: reviews.csv and studies.csv (told apart by their header)",
 		Long: `Load published meta-analyses in unshelved's CSV formats.
@@ -340,18 +363,48 @@ effect, se or treat_mean, treat_sd, treat_n, ctrl_mean, ctrl_sd, ctrl_n;
 plus note.
 
 Each review named in the files replaces its earlier version and studies;
-other reviews in the workspace stay as they are.`,
+other reviews in the workspace stay as they are. Loading is all or
+nothing: when any row of any file is rejected, nothing is loaded from any
+of the files (the workspace keeps what it had) and the command exits 1
+after listing every rejected row.
+
+Files are comma-separated with a decimal point. A file separated by ';'
+or tabs (a spreadsheet export in many European settings) is rejected with
+a message saying so; save it comma-separated or pass --delimiter. Decimal
+commas are rejected in any case.`,
 		Args: minArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.Files = args
+			d, err := parseDelimiter(delimiter)
+			if err != nil {
+				return err
+			}
+			opts.Delimiter = d
 			return ingestReviewsRun(cmd, opts)
 		},
 	}
+	cmd.Flags().StringVar(&delimiter, "delimiter", ",", `field separator of the CSV files: ',', ';', '\t' (tab) or '|'`)
+	return cmd
+}
+
+// parseDelimiter reads a --delimiter value.
+func parseDelimiter(s string) (rune, error) {
+	switch s {
+	case `\t`, "tab", "\t":
+		return '\t', nil
+	}
+	if r := []rune(s); len(r) == 1 && ingest.ValidDelimiter(r[0]) {
+		return r[0], nil
+	}
+	return 0, flagErrorf("invalid --delimiter %q: use ',', ';', '\\t' (tab) or '|'", s)
 }
 
 func ingestReviewsRun(cmd *cobra.Command, opts *ingestReviewsOptions) error {
 	g := opts.g
-	reviews, studies, err := readReviewFiles(g, opts.Files)
+	if err := checkPathsExist(opts.Files); err != nil {
+		return err
+	}
+	reviews, studies, err := readReviewFiles(g, opts.Files, opts.Delimiter)
 	if err != nil {
 		return err
 	}
@@ -364,41 +417,51 @@ func ingestReviewsRun(cmd *cobra.Command, opts *ingestReviewsOptions) error {
 }
 
 // readReviewFiles reads reviews.csv and studies.csv files, told apart by
-// their header. Any rejected row stops the load: a review is loaded whole
-// or not at all.
-func readReviewFiles(g *globals, files []string) ([]ingest.Review, []ingest.ReviewStudy, error) {
+// their header. Any rejected row (or a file that is neither) stops the
+// load: every file is loaded whole or not at all, and the rejected rows
+// are listed on stderr even under --quiet.
+func readReviewFiles(g *globals, files []string, comma rune) ([]ingest.Review, []ingest.ReviewStudy, error) {
 	var reviews []ingest.Review
 	var studies []ingest.ReviewStudy
-	var problems []*ingest.ParseError
+	var problems []error
+	var failed, clean []string
 	for _, path := range files {
 		data, src, err := readWhole(g, path)
 		if err != nil {
 			return nil, nil, err
 		}
-		kind, err := csvKind(data)
-		if err != nil {
-			return nil, nil, fmt.Errorf("%s: %w", path, err)
-		}
-		switch kind {
+		var bad []*ingest.ParseError
+		switch kind, err := csvKind(data, comma); kind {
 		case "reviews":
-			r, bad, err := ingest.ReadReviews(bytes.NewReader(data), src)
-			if err != nil {
-				return nil, nil, fmt.Errorf("read %s: %w", path, err)
-			}
-			reviews, problems = append(reviews, r...), append(problems, bad...)
+			var r []ingest.Review
+			r, bad, err = ingest.ReadReviews(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
+			reviews = append(reviews, r...)
 		case "studies":
-			s, bad, err := ingest.ReadStudies(bytes.NewReader(data), src)
-			if err != nil {
-				return nil, nil, fmt.Errorf("read %s: %w", path, err)
-			}
-			studies, problems = append(studies, s...), append(problems, bad...)
+			var s []ingest.ReviewStudy
+			s, bad, err = ingest.ReadStudies(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
+			studies = append(studies, s...)
+		default:
+			problems = append(problems, fmt.Errorf("%s:1: %w", path, err))
+			failed = append(failed, path+" (1 problem)")
+			continue
+		}
+		if err != nil {
+			return nil, nil, fmt.Errorf("read %s: %w", path, err)
+		}
+		for _, b := range bad {
+			problems = append(problems, b)
+		}
+		if len(bad) > 0 {
+			failed = append(failed, path+" ("+countOf(len(bad), "problem", "problems")+")")
+		} else {
+			clean = append(clean, path)
 		}
 	}
 	for _, p := range problems {
-		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
+		g.reasonf("rejected: %v", p)
 	}
 	if len(problems) > 0 {
-		return nil, nil, &rejectedError{n: len(problems)}
+		return nil, nil, &notLoadedError{failed: failed, clean: clean, problems: len(problems)}
 	}
 	return reviews, studies, nil
 }
@@ -442,7 +505,7 @@ func saveReviews(ctx context.Context, g *globals, db *store.DB, reviews []ingest
 	if err := db.SaveReviews(ctx, reviews, studies); err != nil {
 		return fmt.Errorf("save reviews: %w", err)
 	}
-	g.progressf("loaded %d review(s) and %d published stud(ies)", len(reviews), len(studies))
+	g.progressf("loaded %s and %s", countOf(len(reviews), "review", "reviews"), countOf(len(studies), "published study", "published studies"))
 	return nil
 }
 
@@ -462,9 +525,15 @@ func readWhole(g *globals, path string) ([]byte, ingest.Source, error) {
 	return data, ingest.Source{Path: path, SHA256: hex.EncodeToString(sum[:])}, nil
 }
 
-// csvKind tells reviews.csv from studies.csv by the header row.
-func csvKind(data []byte) (string, error) {
+// csvKind tells reviews.csv from studies.csv by the header row. When it
+// is neither it says why: another separator, or the columns missing and
+// misspelt against the format the header comes closer to.
+func csvKind(data []byte, comma rune) (string, error) {
+	if err := ingest.DelimiterError(data, comma); err != nil {
+		return "", err
+	}
 	r := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
+	r.Comma = comma
 	header, err := r.Read()
 	if err != nil {
 		return "", fmt.Errorf("no header row: %w", err)
@@ -478,9 +547,13 @@ func csvKind(data []byte) (string, error) {
 		return "studies", nil
 	case cols["review_id"] && cols["measure"]:
 		return "reviews", nil
-	default:
-		return "", fmt.Errorf("header names neither a reviews file (review_id, measure, ...) nor a studies file (review_id, study, ...)")
 	}
+	kind, spec := "studies", ingest.StudiesColumns
+	if ingest.ReviewsColumns.Present(header) > ingest.StudiesColumns.Present(header) {
+		kind, spec = "reviews", ingest.ReviewsColumns
+	}
+	msg := spec.CheckHeader(header)
+	return "", fmt.Errorf("header names neither a reviews file (review_id, measure, ...) nor a studies file (review_id, study, ...); as a %s file it has %s", kind, msg)
 }
 
 func lineOf(s ingest.Source) string {

@@ -181,7 +181,7 @@ func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOpti
 	if err := os.WriteFile(opts.Links, buf.Bytes(), 0o644); err != nil {
 		return fmt.Errorf("write links file: %w", err)
 	}
-	g.progressf("searched %d registry trial(s); wrote %s", rep.TrialsIndexed, opts.Links)
+	g.progressf("searched %s; wrote %s", countOf(rep.TrialsIndexed, "registry trial", "registry trials"), opts.Links)
 	return render(g.IO.Out, g.Format, rep, matchGrid(rep))
 }
 
@@ -256,7 +256,7 @@ func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string) 
 	for _, p := range problems {
 		fmt.Fprintf(g.IO.ErrOut, "rejected: %s:%s: review %s trial %s outcome %d: %s\n", path, lineOf(p.Link.Source), p.Link.ReviewID, p.Link.TrialID, p.Link.OutcomeIndex, p.Detail)
 	}
-	g.progressf("loaded %d link(s) from %s", saved, path)
+	g.progressf("loaded %s from %s", countOf(saved, "link", "links"), path)
 	if n := len(bad) + len(problems); n > 0 {
 		return &rejectedError{n: n}
 	}

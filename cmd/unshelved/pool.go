@@ -86,7 +86,7 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 		for _, p := range bad {
 			fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
 		}
-		return fmt.Errorf("%d row(s) of %s rejected; nothing pooled", len(bad), opts.File)
+		return fmt.Errorf("%s of %s rejected; nothing pooled", countOf(len(bad), "row", "rows"), opts.File)
 	}
 	rep, err := compare.PoolStudies(studies, compare.PoolOptions{
 		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), TruncateHKSJ: opts.TruncateHKSJ,

@@ -60,35 +60,45 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 		return err
 	}
 	defer db.Close()
-	index, audits, err := writeReport(cmd, db, opts)
+	index, audits, failed, err := writeReport(cmd, db, opts)
 	if err != nil {
 		return err
 	}
-	g.progressf("report: %d review page(s) in %s", len(audits), opts.Out)
+	g.progressf("report: %s in %s", countOf(len(audits), "review page", "review pages"), opts.Out)
 	fmt.Fprintln(g.IO.Out, index)
+	if failed > 0 {
+		// Pages left out (reasons above); with none written this is
+		// not a report at all.
+		return &rejectedError{n: failed, what: [2]string{"review left out of the report", "reviews left out of the report"}}
+	}
 	return nil
 }
 
 // writeReport audits the reviews with the report's audit options, records
-// the run, and writes the pages; it returns the overview page's path.
-func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, error) {
+// the run, and writes the pages; it returns the overview page's path and
+// the number of reviews left out (their reasons printed, even under
+// --quiet). A workspace without reviews is an error.
+func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, int, error) {
 	g := opts.g
 	run, err := compare.RunAudit(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version, opts.Audit.Workers)
 	if err != nil {
-		return "", nil, err
+		return "", nil, 0, err
 	}
 	for _, e := range run.Failed {
-		g.progressf("report: left out: %v", e)
+		g.reasonf("report: left out: %v", e)
+	}
+	if len(run.Audits) == 0 && len(run.Failed) == 0 {
+		return "", nil, 0, errors.New("no reviews in the workspace: load them with `unshelved ingest reviews` first")
 	}
 	reviews, err := reviewDetails(cmd, db, run.Audits)
 	if err != nil {
-		return "", nil, err
+		return "", nil, 0, err
 	}
 	index, err := plotrender.WriteReport(opts.Out, run.Audits, plotrender.ReportOptions{
 		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level,
 		Generated: g.IO.now().UTC().Format("2006-01-02") + ", unshelved " + version,
 	})
-	return index, run.Audits, err
+	return index, run.Audits, len(run.Failed), err
 }
 
 // reviewDetails loads each audited review's question (outcome, timepoint,

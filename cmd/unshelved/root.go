@@ -15,9 +15,6 @@ import (
 	"unshelved/store"
 )
 
-// version is the tool version stored with every run.
-const version = "0.1.0-dev"
-
 // defaultDBPath is used when neither --db nor UNSHELVED_DB is given.
 const defaultDBPath = "unshelved.db"
 
@@ -72,6 +69,12 @@ func (g *globals) openDB(cmd *cobra.Command) (*store.DB, error) {
 	return db, nil
 }
 
+// reasonf writes why something was rejected or left out to stderr, even
+// under --quiet: quiet silences progress, never reasons.
+func (g *globals) reasonf(format string, args ...any) {
+	fmt.Fprintf(g.IO.ErrOut, format+"\n", args...)
+}
+
 // progressf writes a status line to stderr unless --quiet.
 func (g *globals) progressf(format string, args ...any) {
 	if g.Quiet {
@@ -94,6 +97,7 @@ the review's effect measure, re-pools, and reports how much the pooled
 estimate shifts.`,
 		SilenceErrors: true,
 		SilenceUsage:  true,
+		Version:       version,
 		PersistentPreRunE: func(cmd *cobra.Command, args []string) error {
 			for _, f := range formats {
 				if g.Format == f {
@@ -103,6 +107,7 @@ estimate shifts.`,
 			return flagErrorf("invalid --format %q: valid values are %s", g.Format, strings.Join(formats, ", "))
 		},
 	}
+	root.SetVersionTemplate("unshelved {{.Version}}\n")
 	root.SetOut(io.Out)
 	root.SetErr(io.ErrOut)
 	root.SetIn(io.In)
@@ -123,6 +128,7 @@ estimate shifts.`,
 		newCmdDB(g),
 		newCmdReport(g),
 		newCmdSummary(g), newCmdTrials(g), newCmdFetch(g),
+		newCmdVersion(g),
 	)
 	return root, g
 }

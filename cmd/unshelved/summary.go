@@ -115,7 +115,7 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		return err
 	}
 	for _, e := range run.Failed {
-		g.progressf("%v", e)
+		g.reasonf("not audited: %v", e)
 	}
 	for _, w := range run.Summary.Warnings {
 		g.progressf("summary: %s", w)
@@ -131,7 +131,7 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		return err
 	}
 	if len(run.Failed) > 0 {
-		return &rejectedError{n: len(run.Failed)}
+		return &rejectedError{n: len(run.Failed), what: notAudited}
 	}
 	return nil
 }
