@@ -255,7 +255,7 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 			missingLinks = append(missingLinks, l)
 			continue
 		}
-		if !strings.EqualFold(l.Decision, "accept") {
+		if !Accepted(l.Decision) {
 			continue
 		}
 		t, ok := in.Trials[l.TrialID]
@@ -267,6 +267,11 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 		if isIncluded(t, included) {
 			out.Rejected = append(out.Rejected, Rejected{TrialID: l.TrialID, OutcomeIndex: l.OutcomeIndex, Reason: ReasonIncluded,
 				Detail: fmt.Sprintf("%s is already among the review's published studies", l.TrialID)})
+			continue
+		}
+		if rej, warn, dup := duplicateGuard(rv, in.Studies, t, l); dup {
+			out.Rejected = append(out.Rejected, rej)
+			out.Warnings = append(out.Warnings, warn)
 			continue
 		}
 		if added[t.TrialID] {

@@ -152,7 +152,7 @@ func bestLinkPerTrial(links []ingest.Link) []ingest.Link {
 	var order []string
 	var out []ingest.Link
 	better := func(a, b ingest.Link) bool {
-		aa, ba := strings.EqualFold(a.Decision, "accept"), strings.EqualFold(b.Decision, "accept")
+		aa, ba := Accepted(a.Decision), Accepted(b.Decision)
 		if aa != ba {
 			return aa
 		}

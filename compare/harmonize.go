@@ -40,6 +40,11 @@ type StudyEffect struct {
 	// PostedAnalysis is the record's own between-group analysis of the
 	// linked groups, when it posts one, whether or not it was used.
 	PostedAnalysis *PostedComparison `json:"posted_analysis,omitempty"`
+
+	// armMeans are the two arms' means in the review's unit, before any
+	// sign flip, when the effect came from arms (for recognising the same
+	// trial among published studies).
+	armMeans *[2]float64
 }
 
 // RejectError says why a registry outcome or a study cannot be used.
@@ -306,6 +311,7 @@ func finishArms(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest.Li
 	}
 	se.TreatN, se.CtrlN = treat.N, ctrl.N
 	se.PooledSD = pooledSD(treat, ctrl)
+	se.armMeans = &[2]float64{treat.Mean, ctrl.Mean}
 	se.Derivations = derivs
 	se.Flags = dedupe(append(flags, changeFlags(rv, o)...))
 	se.ConvertedFrom = convertedFrom(kind, o.Dispersion, len(l.TreatGroups)+len(l.CtrlGroups) > 2)

@@ -16,6 +16,8 @@ const (
 	ClassMissedPublication = "missed-publication"
 	ClassRegistryOnly      = "registry-only"
 	ClassNoResults         = "no-results"
+	// ClassPossiblyIncluded (included.go) is a near match to a study of
+	// the review: a person decides.
 )
 
 // DefaultAcceptAbove is the score above which a proposal is taken to be
@@ -128,6 +130,7 @@ type FlowCounts struct {
 	Excluded            int            `json:"excluded"`
 	ExcludedBy          map[string]int `json:"excluded_by"`
 	Included            int            `json:"included"`
+	PossiblyIncluded    int            `json:"possibly_included"`
 	MissedPublication   int            `json:"missed_publication"`
 	RegistryOnly        int            `json:"registry_only"`
 	NoResults           int            `json:"no_results"`
@@ -193,9 +196,7 @@ func prepareReview(rv ingest.Review, studies []ingest.ReviewStudy) *reviewTerms 
 			}
 			continue
 		}
-		if s.TreatMean != nil && s.TreatN != nil && s.CtrlMean != nil && s.CtrlN != nil {
-			rt.unlinked = append(rt.unlinked, s)
-		}
+		rt.unlinked = append(rt.unlinked, s)
 	}
 	return rt
 }
@@ -242,6 +243,8 @@ func ProposeForReview(rv ingest.Review, studies []ingest.ReviewStudy, candidates
 		switch tp.Class {
 		case ClassIncluded:
 			f.Included++
+		case ClassPossiblyIncluded:
+			f.PossiblyIncluded++
 		case ClassMissedPublication:
 			f.MissedPublication++
 		case ClassRegistryOnly:
@@ -314,10 +317,7 @@ func proposeTrial(rt *reviewTerms, t ingest.Trial, opts MatchOptions) (*TrialPro
 		return tp.Outcomes[i].OutcomeIndex < tp.Outcomes[j].OutcomeIndex
 	})
 	if tp.Class == "" {
-		if study, ok := agreesWithStudy(rt, t, tp.Outcomes); ok {
-			tp.Class, tp.IncludedAs = ClassIncluded, study
-			tp.Reasons = append([]string{fmt.Sprintf("in the review as %s: arm Ns and means agree with the registry results", study)}, tp.Reasons...)
-		}
+		classifyIncluded(rt, t, tp)
 	}
 	if tp.Class == "" {
 		if hasResultReference(t) {
@@ -376,102 +376,10 @@ func hasResultReference(t ingest.Trial) bool {
 	return false
 }
 
-// Tolerances for recognising a published study without a registry id in
-// a trial's posted results: each arm's N within 2 (a few participants
-// dropped between the posting and the paper), and each arm's mean within
-// 2% of its size plus 0.05 (rounding to one decimal).
-const (
-	agreeN        = 2
-	agreeMeanRel  = 0.02
-	agreeMeanAbs  = 0.05
-	agreeMinScore = 0.3 // only outcomes that look like the review's outcome are compared
-)
-
-// agreesWithStudy looks for a published study of the review, without a
-// registry id, whose arm Ns and means agree with one of the trial's
-// proposed outcomes.
-func agreesWithStudy(rt *reviewTerms, t ingest.Trial, ops []OutcomeProposal) (string, bool) {
-	for _, s := range rt.unlinked {
-		for _, op := range ops {
-			if op.Score < agreeMinScore*op.Parts.Trial || len(op.TreatGroups) == 0 || len(op.CtrlGroups) == 0 {
-				continue
-			}
-			l := ingest.Link{ReviewID: rt.rv.ReviewID, TrialID: t.TrialID, OutcomeIndex: op.OutcomeIndex,
-				TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, UnitFrom: op.UnitFrom}
-			treat, ctrl, ok := linkArms(rt.rv, t, l)
-			if !ok {
-				continue
-			}
-			if op.Flip {
-				treat.Mean, ctrl.Mean = -treat.Mean, -ctrl.Mean
-			}
-			if armAgrees(treat.N, treat.Mean, *s.TreatN, *s.TreatMean) && armAgrees(ctrl.N, ctrl.Mean, *s.CtrlN, *s.CtrlMean) {
-				return s.Study, true
-			}
-		}
-	}
-	return "", false
-}
-
-func armAgrees(nReg int, meanReg float64, nPub int, meanPub float64) bool {
-	if d := nReg - nPub; d > agreeN || d < -agreeN {
-		return false
-	}
-	tol := agreeMeanRel*math.Max(math.Abs(meanReg), math.Abs(meanPub)) + agreeMeanAbs
-	return math.Abs(meanReg-meanPub) <= tol
-}
-
-// linkArms returns the N and N-weighted mean of each side of a link, in
-// the review's unit, when RegistryEffect can use the link.
-func linkArms(rv ingest.Review, t ingest.Trial, l ingest.Link) (treatArm, ctrlArm armSummary, ok bool) {
-	mdReview := rv
-	mdReview.Measure = "MD"
-	if _, err := RegistryEffectWith(mdReview, t, l, HarmonizeOptions{AllowNonrandomized: true}); err != nil {
-		return armSummary{}, armSummary{}, false
-	}
-	// RegistryEffect has checked that the outcome is a single row with
-	// every group's value and N; read the means from it.
-	o := outcomeByIndex(t, l.OutcomeIndex)
-	if o == nil {
-		return armSummary{}, armSummary{}, false
-	}
-	read := func(groups []string) (armSummary, bool) {
-		var n int
-		var sum float64
-		for _, g := range groups {
-			gn, okN := groupN(o, 0, g)
-			var m *ingest.Measurement
-			for i, x := range o.Classes[0].Categories[0].Measurements {
-				if x.GroupID == g {
-					m = &o.Classes[0].Categories[0].Measurements[i]
-				}
-			}
-			if !okN || m == nil || !m.Value.OK {
-				return armSummary{}, false
-			}
-			n += gn
-			sum += float64(gn) * m.Value.Value
-		}
-		if n == 0 {
-			return armSummary{}, false
-		}
-		mean := sum / float64(n)
-		if l.UnitFrom != "" {
-			if c, err := findConversion(l.UnitFrom, rv.Unit, rv.Outcome); err == nil && c != nil {
-				mean = c.Scale*mean + c.Offset
-			}
-		}
-		return armSummary{N: n, Mean: mean}, true
-	}
-	tr, ok1 := read(l.TreatGroups)
-	cr, ok2 := read(l.CtrlGroups)
-	return tr, cr, ok1 && ok2
-}
-
-type armSummary struct {
-	N    int
-	Mean float64
-}
+// agreeMinScore: only outcomes that look like the review's outcome (a
+// score of at least this share of the trial's fit) are compared with the
+// review's studies (see recogniseIncluded).
+const agreeMinScore = 0.3
 
 func outcomeByIndex(t ingest.Trial, idx int) *ingest.Outcome {
 	for i := range t.Outcomes {

@@ -117,7 +117,7 @@ func checkCorpus(t *testing.T, seed uint64) {
 	// Classes of the fitting trials, and no trap or background trial above
 	// the acceptance score.
 	truth := w.truth()
-	classOK, classN := 0, 0
+	classOK, classN, possibly := 0, 0, 0
 	for _, rp := range rps {
 		for _, tp := range rp.Trials {
 			want, ok := truth[pairKey{rp.ReviewID, tp.TrialID}]
@@ -128,9 +128,16 @@ func checkCorpus(t *testing.T, seed uint64) {
 				continue
 			}
 			classN++
-			if tp.Class == want.class {
+			switch {
+			case tp.Class == want.class:
 				classOK++
-			} else {
+			case tp.Class == ClassPossiblyIncluded && want.class != ClassIncluded && tp.IncludedAs != "":
+				// A different trial whose sizes and effect happen to be
+				// near a published study's: a person decides, which is
+				// the intended cost of never adding a trial twice.
+				possibly++
+				t.Logf("%s %s (%s): possibly-included: %s", rp.ReviewID, tp.TrialID, kindOf(w, rp.ReviewID, tp.TrialID), tp.Reasons[0])
+			default:
 				t.Errorf("%s %s (%s): class %s, want %s", rp.ReviewID, tp.TrialID, kindOf(w, rp.ReviewID, tp.TrialID), tp.Class, want.class)
 			}
 		}
@@ -141,7 +148,10 @@ func checkCorpus(t *testing.T, seed uint64) {
 			want++
 		}
 	}
-	t.Logf("classes: %d of %d candidates right; %d fitting trials in the truth", classOK, classN, want)
+	t.Logf("classes: %d of %d candidates right, %d near matches left to a person; %d fitting trials in the truth", classOK, classN, possibly, want)
+	if float64(possibly) > 0.03*float64(classN) {
+		t.Errorf("%d of %d candidates classed possibly-included by chance, want at most 3%%", possibly, classN)
+	}
 	if classN != want {
 		t.Errorf("%d fitting trials proposed, want %d", classN, want)
 	}

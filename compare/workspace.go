@@ -67,7 +67,7 @@ func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput,
 		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
 	}
 	for _, l := range in.Links {
-		if !strings.EqualFold(l.Decision, "accept") {
+		if !Accepted(l.Decision) {
 			continue
 		}
 		if _, ok := in.Trials[l.TrialID]; ok {

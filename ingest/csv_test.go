@@ -168,9 +168,10 @@ func TestReadLinksErrors(t *testing.T) {
 		{"negative index", "R1,NCT99000001,-1,OG000,OG001,,,", `l.csv:2: record R1/NCT99000001/-1: field "outcome_index": bad value: negative: "-1"`},
 		{"no index", "R1,NCT99000001,,OG000,OG001,,,", `l.csv:2: record R1/NCT99000001/: field "outcome_index": missing value: empty`},
 		{"flip", "R1,NCT99000001,0,OG000,OG001,maybe,,", `l.csv:2: record R1/NCT99000001/0: field "flip": bad value: not yes/no/true/false/1/0: "maybe"`},
-		{"decision", "R1,NCT99000001,0,OG000,OG001,,ok,", `l.csv:2: record R1/NCT99000001/0: field "decision": bad value: "ok" is not one of "accept", "reject"`},
+		{"decision", "R1,NCT99000001,0,OG000,OG001,,ok,", `l.csv:2: record R1/NCT99000001/0: field "decision": bad value: "ok" is not one of "accept", "reject", "accept-duplicate"`},
 		{"score", "R1,NCT99000001,0,OG000,OG001,,,1.5", `l.csv:2: record R1/NCT99000001/0: field "score": bad value: outside 0..1: "1.5"`},
 		{"accept without groups", "R1,NCT99000001,0,,OG001,,accept,", `l.csv:2: record R1/NCT99000001/0: field "treat_groups": missing value: an accepted link needs groups on both sides`},
+		{"accept-duplicate without groups", "R1,NCT99000001,0,OG000,,,accept-duplicate,", `l.csv:2: record R1/NCT99000001/0: field "ctrl_groups": missing value: an accepted link needs groups on both sides`},
 	} {
 		t.Run(tt.name, func(t *testing.T) {
 			_, bad, err := ReadLinks(strings.NewReader(h+tt.row+"\n"), Source{Path: "l.csv"})
@@ -181,6 +182,20 @@ func TestReadLinksErrors(t *testing.T) {
 				t.Errorf("got  %q\nwant %q", got, tt.want)
 			}
 		})
+	}
+}
+
+// TestReadLinksDuplicateDecision reads the accept-duplicate decision and
+// the possibly-included class.
+func TestReadLinksDuplicateDecision(t *testing.T) {
+	const in = "review_id,trial_id,outcome_index,treat_groups,ctrl_groups,class,decision\n" +
+		"R1,NCT99001801,2,OG000,OG001,possibly-included,Accept-Duplicate\n"
+	ls, bad, err := ReadLinks(strings.NewReader(in), Source{Path: "l.csv"})
+	if err != nil || len(bad) != 0 {
+		t.Fatalf("err %v, bad %v", err, errTexts(bad))
+	}
+	if len(ls) != 1 || ls[0].Decision != "accept-duplicate" || ls[0].Class != "possibly-included" || ls[0].OutcomeIndex != 2 {
+		t.Errorf("links = %+v", ls)
 	}
 }
 

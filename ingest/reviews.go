@@ -217,7 +217,9 @@ func firstFilled(t *csvTable, cols []string) string {
 
 // ReadLinks reads a links file: review_id, trial_id, outcome_index
 // (0-based), treat_groups and ctrl_groups (group ids joined by ';'), flip
-// (yes|no|true|false|1|0, empty is no), decision (accept|reject|empty) and
+// (yes|no|true|false|1|0, empty is no), decision (accept|reject|
+// accept-duplicate|empty; accept-duplicate adds a trial that the audit
+// would leave out as a copy of a published study) and
 // the optional unit_from, class, outcome_title, time_frame, score (0..1),
 // reasons, auto_accepted. A group in both lists is an error, and so is an
 // accepted link without groups on either side.
@@ -268,10 +270,10 @@ func ReadLinks(r io.Reader, src Source) ([]Link, []*ParseError, error) {
 			e.fail("outcome_index", ErrMissing, "empty")
 		}
 		if t.get("decision") != "" {
-			l.Decision = e.enum("decision", "accept", "reject")
+			l.Decision = e.enum("decision", "accept", "reject", "accept-duplicate")
 		}
 		if l.Class != "" {
-			l.Class = e.enum("class", "included", "missed-publication", "registry-only", "no-results")
+			l.Class = e.enum("class", "included", "possibly-included", "missed-publication", "registry-only", "no-results")
 		}
 		if l.Score != nil && (*l.Score < 0 || *l.Score > 1) {
 			e.fail("score", ErrBadValue, "outside 0..1: %q", t.get("score"))
@@ -283,7 +285,7 @@ func ReadLinks(r io.Reader, src Source) ([]Link, []*ParseError, error) {
 				}
 			}
 		}
-		if l.Decision == "accept" && !noResults && (len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0) {
+		if (l.Decision == "accept" || l.Decision == "accept-duplicate") && !noResults && (len(l.TreatGroups) == 0 || len(l.CtrlGroups) == 0) {
 			e.fail(map[bool]string{true: "treat_groups", false: "ctrl_groups"}[len(l.TreatGroups) == 0], ErrMissing, "an accepted link needs groups on both sides")
 		}
 		if e.err != nil {

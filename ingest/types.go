@@ -307,10 +307,10 @@ type Link struct {
 	CtrlGroups   []string
 	Flip         bool   // registry measure runs opposite to the review's outcome
 	UnitFrom     string // registry unit when it differs from the review's
-	Decision     string // accept, reject or "" (undecided)
+	Decision     string // accept, reject, accept-duplicate (accept although it matches a published study) or "" (undecided)
 
 	// Filled by automatic matching; empty in hand-made files.
-	Class        string // included, missed-publication, registry-only, no-results
+	Class        string // included, possibly-included, missed-publication, registry-only, no-results
 	OutcomeTitle string
 	TimeFrame    string
 	Score        *float64

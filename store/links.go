@@ -33,9 +33,9 @@ func (db *DB) SaveLinks(ctx context.Context, links []ingest.Link) error {
 			return fmt.Errorf("save links: %s/%s/%d: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
 		}
 		switch l.Decision {
-		case "", "accept", "reject":
+		case "", "accept", "reject", "accept-duplicate":
 		default:
-			return fmt.Errorf("save links: %s/%s/%d: decision %q is not accept, reject or empty",
+			return fmt.Errorf("save links: %s/%s/%d: decision %q is not accept, reject, accept-duplicate or empty",
 				l.ReviewID, l.TrialID, l.OutcomeIndex, l.Decision)
 		}
 	}

@@ -42,7 +42,10 @@ published-only standard error, with whether significance, direction or
 the review's minimal important difference changed; the published vs
 registry-only subgroup test; a seeded bootstrap interval of the shift;
 registered trials without results and a null-imputation what-if; and
-published vs registry values of trials in both.
+published vs registry values of trials in both. An accepted registry trial
+whose effect and group sizes match a published study of the same review is
+left out, with a warning naming both, unless its link's decision is
+accept-duplicate.
 
 Every run is stored in the workspace (kind audit) with its options, the
 tool version and the seed. --explain TRIAL shows how one registry trial's

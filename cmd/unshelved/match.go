@@ -40,9 +40,11 @@ registry trials that fit it (condition, intervention, a comparator arm of
 the review's kind, randomised, completed before the search date) and,
 within each, the posted outcome measures and groups that fit the review's
 outcome, unit and timepoint. Every candidate trial is classed included
-(already in the review, by registry id or by matching arm data),
-missed-publication (results and a RESULT reference), registry-only
-(results, no RESULT reference) or no-results. The proposals go to the
+(already in the review: by registry id, or its results read the same as a
+study that cites none, on effect, SE and group sizes), possibly-included
+(a near match to such a study: a person decides), missed-publication
+(results and a RESULT reference), registry-only (results, no RESULT
+reference, and clearly none of the review's studies) or no-results. The proposals go to the
 workspace and to FILE, a links CSV with one row per candidate outcome, best
 first within each trial and trials by their best score. Set the decision
 column to accept or reject and load the file with --apply. Running again
@@ -50,7 +52,8 @@ keeps the decisions already made.
 
 --accept-above SCORE accepts, for each missed-publication or registry-only
 trial, the best outcome when its score (0 to 1) is above SCORE and it
-converts to the review's measure; it is marked auto-accepted. Failed
+converts to the review's measure; it is marked auto-accepted. It never
+accepts a possibly-included trial. Failed
 criteria cap a score at 0.5 or less, so 0.7 is a reasonable choice.
 
 --apply FILE loads a links file: CSV with the columns review_id, trial_id,
@@ -58,7 +61,9 @@ outcome_index (0-based position in the record's posted outcome measures),
 treat_groups, ctrl_groups (the record's group ids for that outcome, several
 joined by ';' to be combined into one arm), flip (yes when the registry
 measure runs opposite to the review's outcome), unit_from (the registry's
-unit when it differs from the review's) and decision (accept or reject).
+unit when it differs from the review's) and decision (accept, reject, or
+accept-duplicate to add a trial that the audit would otherwise leave out
+because its results match a published study of the review).
 Every row is checked against the workspace: the review and the trial must
 be loaded, and the outcome and groups must exist in the record.
 
@@ -217,18 +222,18 @@ func linkRows(rep compare.MatchReport) [][]string {
 // matchGrid is the per-review summary: candidates per class, proposed
 // outcomes and automatic acceptances.
 func matchGrid(rep compare.MatchReport) grid {
-	cols := []string{"review_id", "examined", "excluded", "included", "missed_publication", "registry_only",
+	cols := []string{"review_id", "examined", "excluded", "included", "possibly_included", "missed_publication", "registry_only",
 		"no_results", "no_results_enrollment", "proposed_outcomes", "matched", "converted", "auto_accepted"}
 	var rows [][]string
 	for _, rp := range rep.Reviews {
 		f := rp.Flow
 		rows = append(rows, []string{rp.ReviewID, strconv.Itoa(f.Examined), strconv.Itoa(f.Excluded),
-			strconv.Itoa(f.Included), strconv.Itoa(f.MissedPublication), strconv.Itoa(f.RegistryOnly),
+			strconv.Itoa(f.Included), strconv.Itoa(f.PossiblyIncluded), strconv.Itoa(f.MissedPublication), strconv.Itoa(f.RegistryOnly),
 			strconv.Itoa(f.NoResults), strconv.Itoa(f.NoResultsEnrollment), strconv.Itoa(f.ProposedOutcomes),
 			strconv.Itoa(f.Matched), strconv.Itoa(f.Converted), strconv.Itoa(f.AutoAccepted)})
 	}
 	return grid{
-		Header: []string{"review", "examined", "excluded", "included", "missed pub.", "registry-only",
+		Header: []string{"review", "examined", "excluded", "included", "possibly incl.", "missed pub.", "registry-only",
 			"no results", "no-results n", "outcomes", "matched", "converted", "auto-accepted"},
 		Table: rows, Columns: cols, CSV: rows,
 		Notes: []string{fmt.Sprintf("matched: best outcome scores above %g; examined: trials found by the condition and intervention search", compare.DefaultAcceptAbove)},
