@@ -120,7 +120,7 @@ func readingsFor(rv ingest.Review, t ingest.Trial, l ingest.Link, allTreat []str
 			halfStep: registryHalfStep(rv, o, v, fromAnalysis)})
 		if pa := e.PostedAnalysis; pa != nil && !fromAnalysis && pa.Effect != nil && pa.SE != nil && *pa.SE > 0 {
 			a := e
-			a.Effect, a.SE, a.armMeans = *pa.Effect, *pa.SE, nil
+			a.Effect, a.SE = *pa.Effect, *pa.SE
 			a.ConvertedFrom = "between_group_analysis"
 			out = append(out, registryReading{eff: a, how: fmt.Sprintf("outcome %d %s, posted between-group analysis", o.Index, groups),
 				halfStep: registryHalfStep(rv, o, v, true)})
@@ -227,12 +227,16 @@ func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r reg
 	}
 	sameSE := seDiff <= seSameRel*pub.SE+hsPub
 	nearEffect := math.Abs(reg.Effect-pub.Effect) <= tol+effectNearSE*pub.SE && seDiff <= seNearRel*pub.SE+hsPub
-	arms := armsAgree(s, reg, hsPub, r.halfStep)
+	arms := armsAgree(s, reg, hsPub+r.halfStep)
+	armsNear := armsAgree(s, reg, hsPub+r.halfStep+effectNearSE*pub.SE)
 	level, note := matchNone, ""
 	switch {
-	case sameEffect(reg.Effect) && sameSE && sizes == "equal":
+	case sameEffect(reg.Effect) && sameSE && sizes == "equal" && arms != "differ":
 		level = matchSame
-	case (sizes == "equal" || sizes == "near") && nearEffect:
+	case sameEffect(reg.Effect) && sameSE && sizes == "equal":
+		level = matchPossible
+		note = "; the arms' means differ"
+	case (sizes == "equal" || sizes == "near") && nearEffect && armsNear != "differ":
 		level = matchPossible
 	case (sizes == "equal" || sizes == "near") && sameEffect(-reg.Effect) && sameSE && reg.Effect != 0:
 		level = matchPossible
@@ -252,17 +256,15 @@ func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r reg
 	return level, why, sizes
 }
 
-// sizeWithin reports whether two group sizes differ by at most rel of the
-// larger, or by one participant.
 // armsAgree compares the published arm means with the registry's (in the
-// review's unit, either sign): "agree", "differ", or "" when either side
-// gives none.
-func armsAgree(s ingest.ReviewStudy, reg StudyEffect, hsPub, hsReg float64) string {
+// review's unit, either sign), each within slack plus 0.5% (conversion
+// factors): "agree", "differ", or "" when either side gives none.
+func armsAgree(s ingest.ReviewStudy, reg StudyEffect, slack float64) string {
 	if s.TreatMean == nil || s.CtrlMean == nil || reg.armMeans == nil {
 		return ""
 	}
 	near := func(a, b float64) bool {
-		return math.Abs(a-b) <= hsPub+hsReg+effectRel*math.Max(math.Abs(a), math.Abs(b))+1e-9
+		return math.Abs(a-b) <= slack+effectRel*math.Max(math.Abs(a), math.Abs(b))+1e-9
 	}
 	t, c := reg.armMeans[0], reg.armMeans[1]
 	if near(*s.TreatMean, t) && near(*s.CtrlMean, c) || near(*s.TreatMean, -t) && near(*s.CtrlMean, -c) {
@@ -271,6 +273,8 @@ func armsAgree(s ingest.ReviewStudy, reg StudyEffect, hsPub, hsReg float64) stri
 	return "differ"
 }
 
+// sizeWithin reports whether two group sizes differ by at most rel of the
+// larger, or by one participant.
 func sizeWithin(a, b int, rel float64) bool {
 	d := a - b
 	if d < 0 {
