@@ -118,7 +118,8 @@ func readingsFor(rv ingest.Review, t ingest.Trial, l ingest.Link, allTreat []str
 		fromAnalysis := e.ConvertedFrom == "between_group_analysis"
 		out = append(out, registryReading{eff: e, how: fmt.Sprintf("outcome %d %s, %s", o.Index, groups, e.ConvertedFrom),
 			halfStep: registryHalfStep(rv, o, v, fromAnalysis)})
-		if pa := e.PostedAnalysis; pa != nil && !fromAnalysis && pa.Effect != nil && pa.SE != nil && *pa.SE > 0 {
+		// A posted analysis is a mean difference: compared on MD reviews only.
+		if pa := e.PostedAnalysis; pa != nil && !fromAnalysis && pa.Effect != nil && pa.SE != nil && *pa.SE > 0 && !strings.EqualFold(rv.Measure, "SMD") {
 			a := e
 			a.Effect, a.SE = *pa.Effect, *pa.SE
 			a.ConvertedFrom = "between_group_analysis"
@@ -169,28 +170,24 @@ func textDecimals(s string) int {
 	return min(len(s)-i-1, maxDecimals)
 }
 
-// publishedHalfStep is half the last decimal of a published study's
-// numbers: the most decimals among its effect and SE, or its means and
-// SDs (CSV numbers are read as floats, so "12.0" counts as 12 and the
-// other numbers of the row decide).
-func publishedHalfStep(s ingest.ReviewStudy) float64 {
-	dec := 0
-	for _, p := range []*float64{s.Effect, s.SE, s.TreatMean, s.TreatSD, s.CtrlMean, s.CtrlSD} {
-		if p != nil {
-			dec = max(dec, textDecimals(strconv.FormatFloat(*p, 'f', -1, 64)))
-		}
+// halfStepOf is half the last decimal of a published number as the CSV
+// gave it (read as a float, so "12.0" counts as 12, and its half step is
+// the looser 0.5); 0 for a missing number.
+func halfStepOf(x *float64) float64 {
+	if x == nil {
+		return 0
 	}
-	return 0.5 * math.Pow(10, -float64(dec))
+	return 0.5 * math.Pow(10, -float64(textDecimals(strconv.FormatFloat(*x, 'f', -1, 64))))
 }
 
 // compareStudy compares one published study with one registry reading.
 func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r registryReading) (matchLevel, string, string) {
 	reg := r.eff
-	hsPub := publishedHalfStep(s)
 	fromArms := pub.ConvertedFrom != "effect_se"
-	pubPart := hsPub
+	hsMeans := math.Max(halfStepOf(s.TreatMean), halfStepOf(s.CtrlMean))
+	pubPart, hsSE := halfStepOf(s.Effect), halfStepOf(s.SE)
 	if fromArms {
-		pubPart = 2 * hsPub // two rounded means
+		pubPart, hsSE = halfStepOf(s.TreatMean)+halfStepOf(s.CtrlMean), 0 // two rounded means
 	}
 	regPart := 2 * r.halfStep
 	if reg.ConvertedFrom == "between_group_analysis" {
@@ -225,10 +222,10 @@ func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r reg
 	sameEffect := func(effect float64) bool {
 		return math.Abs(effect-pub.Effect) <= tol
 	}
-	sameSE := seDiff <= seSameRel*pub.SE+hsPub
-	nearEffect := math.Abs(reg.Effect-pub.Effect) <= tol+effectNearSE*pub.SE && seDiff <= seNearRel*pub.SE+hsPub
-	arms := armsAgree(s, reg, hsPub+r.halfStep)
-	armsNear := armsAgree(s, reg, hsPub+r.halfStep+effectNearSE*pub.SE)
+	sameSE := seDiff <= seSameRel*pub.SE+hsSE
+	nearEffect := math.Abs(reg.Effect-pub.Effect) <= tol+effectNearSE*pub.SE && seDiff <= seNearRel*pub.SE+hsSE
+	arms := armsAgree(s, reg, hsMeans+r.halfStep)
+	armsNear := armsAgree(s, reg, hsMeans+r.halfStep+effectNearSE*pub.SE)
 	level, note := matchNone, ""
 	switch {
 	case sameEffect(reg.Effect) && sameSE && sizes == "equal" && arms != "differ":

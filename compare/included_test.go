@@ -279,7 +279,8 @@ func TestNearMatchRules(t *testing.T) {
 		{"sizes 20% off, same values (another analysis population)", armsStudy("S", 24.6, 7.9, 37, 29.8, 8.1, 36), ClassPossiblyIncluded},
 		{"sizes 20% off, same effect, SE and arm means", armsStudy("S", 24.6, 7.2, 37, 29.8, 7.3, 36), ClassPossiblyIncluded},
 		{"sizes 20% off, same effect and SE, other arm means", armsStudy("S", 20.6, 7.2, 37, 25.8, 7.3, 36), ClassRegistryOnly},
-		{"same sizes, effect a quarter SE away", armsStudy("S", 25.0, 7.9, 45, 29.8, 8.1, 44), ClassPossiblyIncluded},
+		{"same sizes, effect a quarter SE away", armsStudy("S", 25.1, 7.9, 45, 29.8, 8.1, 44), ClassPossiblyIncluded},
+		{"a whole number widens its rounding (25 may be 25.0 rounded to 0 decimals)", armsStudy("S", 25, 7.9, 45, 29.8, 8.1, 44), ClassIncluded},
 		{"same sizes, effect a whole SE away", armsStudy("S", 26.3, 7.9, 45, 29.8, 8.1, 44), ClassRegistryOnly},
 		{"same sizes, sign reversed", armsStudy("S", 29.8, 7.9, 45, 24.6, 8.1, 44), ClassPossiblyIncluded},
 		{"sizes far off, same values", armsStudy("S", 24.6, 7.9, 90, 29.8, 8.1, 88), ClassRegistryOnly},
@@ -368,5 +369,25 @@ func TestAuditGuardsDuplicates(t *testing.T) {
 				t.Errorf("a different trial of the same size: k_added %d, rejected %+v", a.KAdded, a.Rejected)
 			}
 		})
+	}
+}
+
+// TestIncludedSMD: on a standardized mean difference review the record and
+// the study are both read as Hedges' g, the tolerance scaled by the SD.
+func TestIncludedSMD(t *testing.T) {
+	tc := offByOneLayout()
+	rv := tc.review
+	rv.Measure, rv.Unit = "SMD", ""
+	for _, c := range []struct {
+		study ingest.ReviewStudy
+		want  string
+	}{
+		{armsStudy("Same", 24.6, 7.9, 45, 29.8, 8.1, 44), ClassIncluded},
+		{tc.other, ClassRegistryOnly},
+	} {
+		rp := ProposeForReview(rv, []ingest.ReviewStudy{c.study}, []ingest.Trial{tc.trial}, MatchOptions{})
+		if got := rp.Trials[0]; got.Class != c.want {
+			t.Errorf("%s: class %s, want %s; reasons %q", c.study.Study, got.Class, c.want, got.Reasons[0])
+		}
 	}
 }
