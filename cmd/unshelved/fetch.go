@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
+	"sort"
 	"strings"
 	"time"
 
@@ -122,17 +124,43 @@ func readIDsFile(path string) ([]string, error) {
 // fetchReport is the result of fetch: the download and, unless
 // --no-ingest, the ingest summary.
 type fetchReport struct {
-	Dir       string         `json:"dir"`
-	StateFile string         `json:"state_file"`
-	Pages     int            `json:"pages"`
-	NewPages  int            `json:"new_pages"`
-	Studies   int            `json:"studies"`
-	Total     *int           `json:"total_count"`
-	Resumed   bool           `json:"resumed"`
-	Complete  bool           `json:"already_complete"`
-	Requests  int            `json:"requests"`
-	Retries   int            `json:"retries"`
-	Ingest    *ingestSummary `json:"ingest"`
+	Dir        string         `json:"dir"`
+	StateFiles []string       `json:"state_files"`
+	Pages      int            `json:"pages"`
+	NewPages   int            `json:"new_pages"`
+	Studies    int            `json:"studies"`
+	Total      *int           `json:"total_count"`
+	Resumed    bool           `json:"resumed"`
+	Complete   bool           `json:"already_complete"`
+	Requests   int            `json:"requests"`
+	Retries    int            `json:"retries"`
+	Ingest     *ingestSummary `json:"ingest"`
+}
+
+// maxIDsPerQuery bounds the NCT numbers sent in one filter.ids parameter,
+// keeping request URLs short (about 12 characters each); longer lists are
+// fetched as several selections.
+const maxIDsPerQuery = 200
+
+// splitIDs splits a query with many ids into queries of at most
+// maxIDsPerQuery ids each, in sorted order so that a re-run makes the
+// same selections.
+func splitIDs(q fetch.Query) []fetch.Query {
+	if len(q.IDs) <= maxIDsPerQuery {
+		return []fetch.Query{q}
+	}
+	ids := append([]string(nil), q.IDs...)
+	sort.Strings(ids)
+	ids = slices.Compact(ids)
+	var out []fetch.Query
+	for len(ids) > 0 {
+		n := min(maxIDsPerQuery, len(ids))
+		c := q
+		c.IDs = ids[:n]
+		out = append(out, c)
+		ids = ids[n:]
+	}
+	return out
 }
 
 func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
@@ -155,34 +183,61 @@ func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
 }
 
 // fetchAndIngest downloads the query's pages into dir and ingests them
-// (unless opts.NoIngest); match --fetch uses it too.
+// (unless opts.NoIngest); match --fetch uses it too. Nothing is ingested
+// unless every page of every selection was fetched.
 func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, opts *fetchOptions) (fetchReport, error) {
 	ctx := cmd.Context()
-	bar := newFetchProgress(g)
 	fo := fetch.Options{BaseURL: opts.BaseURL, PageSize: opts.PageSize, UserAgent: "unshelved/" + version + " (registry fetch)",
-		Rate: opts.Rate, MaxRetries: opts.Retries, ReadTimeout: opts.ReadTimeout, Restart: opts.Restart, Progress: bar.update}
+		Rate: opts.Rate, MaxRetries: opts.Retries, ReadTimeout: opts.ReadTimeout, Restart: opts.Restart}
 	if opts.Retries == 0 {
 		fo.MaxRetries = -1
 	}
-	res, err := fetch.Run(ctx, q, dir, fo)
-	bar.finish()
-	rep := fetchReport{Dir: res.Dir, StateFile: res.StateFile, Pages: res.Pages, NewPages: res.NewPages, Studies: res.Studies,
-		Total: res.Total, Resumed: res.Resumed, Complete: res.AlreadyComplete, Requests: res.Requests, Retries: res.Retries}
-	if err != nil {
-		if res.Pages > 0 && !errors.Is(err, context.Canceled) {
-			g.progressf("fetch: %d page(s) (%d studies) kept in %s; nothing ingested; run the same command again to resume", res.Pages, res.Studies, dir)
-		} else if res.Pages > 0 {
-			g.progressf("fetch: interrupted; %d page(s) kept in %s; run the same command again to resume", res.Pages, dir)
+	rep := fetchReport{Dir: dir, StateFiles: []string{}}
+	var files []string
+	parts := splitIDs(q)
+	complete := true
+	for i, part := range parts {
+		if len(parts) > 1 {
+			g.progressf("fetch: ids %d to %d of %d", i*maxIDsPerQuery+1, i*maxIDsPerQuery+len(part.IDs), len(q.IDs))
 		}
-		return rep, err
+		bar := newFetchProgress(g)
+		fo.Progress = bar.update
+		res, err := fetch.Run(ctx, part, dir, fo)
+		bar.finish()
+		rep.StateFiles = append(rep.StateFiles, res.StateFile)
+		rep.Pages += res.Pages
+		rep.NewPages += res.NewPages
+		rep.Studies += res.Studies
+		rep.Requests += res.Requests
+		rep.Retries += res.Retries
+		rep.Resumed = rep.Resumed || res.Resumed
+		complete = complete && res.AlreadyComplete
+		switch {
+		case res.Total == nil || (i > 0 && rep.Total == nil):
+			rep.Total = nil
+		case i == 0:
+			rep.Total = res.Total
+		default:
+			*rep.Total += *res.Total
+		}
+		if err != nil {
+			if rep.Pages > 0 && !errors.Is(err, context.Canceled) {
+				g.progressf("fetch: %d page(s) (%d studies) kept in %s; nothing ingested; run the same command again to resume", rep.Pages, rep.Studies, dir)
+			} else if rep.Pages > 0 {
+				g.progressf("fetch: interrupted; %d page(s) kept in %s; run the same command again to resume", rep.Pages, dir)
+			}
+			return rep, err
+		}
+		if res.Resumed {
+			g.progressf("fetch: resumed after %d earlier page(s)", res.Pages-res.NewPages)
+		}
+		files = append(files, res.Files...)
 	}
-	if res.Resumed {
-		g.progressf("fetch: resumed after %d earlier page(s)", res.Pages-res.NewPages)
+	rep.Complete = complete
+	if complete {
+		g.progressf("fetch: this selection was fetched completely before (%d pages in %s); use --restart to fetch it again", rep.Pages, dir)
 	}
-	if res.AlreadyComplete {
-		g.progressf("fetch: this selection was fetched completely before (%d pages in %s); use --restart to fetch it again", res.Pages, dir)
-	}
-	if opts.NoIngest || len(res.Files) == 0 {
+	if opts.NoIngest || len(files) == 0 {
 		return rep, nil
 	}
 	defer ingestMemorySettings()()
@@ -191,7 +246,7 @@ func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, o
 		return rep, err
 	}
 	defer db.Close()
-	sum, err := loadRegistry(ctx, g, db, &ingestRegistryOptions{g: g, Paths: res.Files, BatchSize: 2000})
+	sum, err := loadRegistry(ctx, g, db, &ingestRegistryOptions{g: g, Paths: files, BatchSize: 2000})
 	rep.Ingest = &sum
 	return rep, err
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -237,5 +238,41 @@ func TestMatchFetch(t *testing.T) {
 	code, _, stderr = runCLI(t, "", args...)
 	if code != exitOK || strings.Contains(stderr, "fetching") || len(srv.Requests()) != n {
 		t.Errorf("second match --fetch: exit %d, %d new requests, stderr %s", code, len(srv.Requests())-n, stderr)
+	}
+}
+
+// A long --ids list is fetched as several selections of at most
+// maxIDsPerQuery ids, all ingested.
+func TestFetchManyIDs(t *testing.T) {
+	srv := demoServer(t)
+	dir := t.TempDir()
+	var ids []string
+	for _, st := range srv.Studies {
+		ids = append(ids, st.ID)
+	}
+	for i := 0; len(ids) < 2*maxIDsPerQuery+50; i++ {
+		ids = append(ids, fmt.Sprintf("NCT98%06d", i)) // not served
+	}
+	file := writeFile(t, dir, "ids.txt", strings.Join(ids, "\n")+"\n")
+	db := filepath.Join(dir, "w.db")
+	code, out, stderr := runCLI(t, "", "--db", db, "fetch", "--base-url", srv.URL, "--ids", file, "--rate", "1000", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var rep fetchReport
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	reqs := srv.Requests()
+	if len(reqs) != 3 || len(rep.StateFiles) != 3 || rep.Studies != len(srv.Studies) || rep.Total == nil || *rep.Total != len(srv.Studies) {
+		t.Errorf("%d requests, report %+v", len(reqs), rep)
+	}
+	for i, r := range reqs {
+		if n := len(strings.Split(r.Query["filter.ids"], ",")); n > maxIDsPerQuery {
+			t.Errorf("request %d: %d ids", i, n)
+		}
+	}
+	if got := dbTrials(t, db); got != float64(len(srv.Studies)) {
+		t.Errorf("%v trials stored, want %d", got, len(srv.Studies))
 	}
 }

@@ -81,7 +81,7 @@ type Progress struct {
 
 // PageFile is one completed page in the state file.
 type PageFile struct {
-	File    string `json:"file"` // name inside the folder
+	File    string `json:"file"` // name inside the folder; "" for a page without studies
 	Studies int    `json:"studies"`
 }
 
@@ -182,7 +182,9 @@ func Run(ctx context.Context, q Query, dir string, opts Options) (Result, error)
 	fill := func() {
 		res.Files, res.Studies = nil, 0
 		for _, p := range st.Pages {
-			res.Files = append(res.Files, filepath.Join(dir, p.File))
+			if p.File != "" {
+				res.Files = append(res.Files, filepath.Join(dir, p.File))
+			}
 			res.Studies += p.Studies
 		}
 		res.Pages, res.Total, res.Requests, res.Retries = len(st.Pages), st.TotalCount, c.requests, c.retries
@@ -202,10 +204,15 @@ func Run(ctx context.Context, q Query, dir string, opts Options) (Result, error)
 			fill()
 			return res, err
 		}
-		name := pageName(q, n)
-		if err := writePage(dir, name, pg.Studies); err != nil {
-			fill()
-			return res, err
+		name := ""
+		if len(pg.Studies) > 0 {
+			// An empty page (nothing matched) gets no file: an empty file
+			// would be an empty registry file to the ingest.
+			name = pageName(q, n)
+			if err := writePage(dir, name, pg.Studies); err != nil {
+				fill()
+				return res, err
+			}
 		}
 		st.Pages = append(st.Pages, PageFile{File: name, Studies: len(pg.Studies)})
 		st.NextPageToken = pg.NextPageToken
@@ -575,6 +582,9 @@ func loadState(path string) (State, bool, error) {
 		return State{}, false, fmt.Errorf("state file %s is inconsistent; remove it or use --restart", path)
 	}
 	for _, p := range st.Pages {
+		if p.File == "" {
+			continue
+		}
 		if _, err := os.Stat(filepath.Join(filepath.Dir(path), p.File)); err != nil {
 			return State{}, false, fmt.Errorf("state file %s lists %s, which is missing; use --restart", path, p.File)
 		}
@@ -616,6 +626,9 @@ func discard(dir, statePath string) error {
 		return nil
 	}
 	for _, p := range st.Pages {
+		if p.File == "" {
+			continue
+		}
 		if err := os.Remove(filepath.Join(dir, p.File)); err != nil && !errors.Is(err, os.ErrNotExist) {
 			return fmt.Errorf("remove %s: %w", p.File, err)
 		}

@@ -440,3 +440,24 @@ func TestParseRetryAfter(t *testing.T) {
 		}
 	}
 }
+
+// A selection that matches nothing gives one empty page and no file.
+func TestFetchNothingMatches(t *testing.T) {
+	srv := fetchtest.NewServer(t, corpus())
+	dir := t.TempDir()
+	res, err := Run(context.Background(), Query{Condition: "no such condition"}, dir, testOptions(srv, newFakeClock()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Pages != 1 || res.Studies != 0 || len(res.Files) != 0 || res.Total == nil || *res.Total != 0 {
+		t.Errorf("result %+v", res)
+	}
+	ents, _ := os.ReadDir(dir)
+	if len(ents) != 1 || !strings.HasSuffix(ents[0].Name(), ".state.json") {
+		t.Errorf("folder holds %v, want only the state file", ents)
+	}
+	res, err = Run(context.Background(), Query{Condition: "no such condition"}, dir, testOptions(srv, newFakeClock()))
+	if err != nil || !res.AlreadyComplete {
+		t.Errorf("re-run: %v %+v", err, res)
+	}
+}
