@@ -172,6 +172,15 @@ func twoSidedP(z float64) float64 {
 	return math.Erfc(math.Abs(z) / math.Sqrt2)
 }
 
+// twoSidedTP returns the two-sided p-value of t on df degrees of freedom;
+// NaN when t is NaN (a zero SE with a zero estimate).
+func twoSidedTP(t, df float64) float64 {
+	if math.IsNaN(t) {
+		return math.NaN()
+	}
+	return 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Survival(math.Abs(t))
+}
+
 // fixedCore computes the inverse-variance weighted mean of y with weights
 // 1/(varY[i] + tau2), the sum of the weights and the generalized Q
 // statistic sum w (y - mu)². It allocates nothing.

@@ -15,8 +15,10 @@ type RandomResult struct {
 	// Estimate, SE, the Wald CI (normal), Z and the two-sided P.
 	Estimate, SE, CILow, CIHigh, Z, P float64
 	// HKSJ interval (t with k-1 df), its SE and the scale factor that
-	// multiplies the Wald variance: HKSJSE² = HKSJScale · SE².
-	HKSJLow, HKSJHigh, HKSJSE, HKSJScale float64
+	// multiplies the Wald variance: HKSJSE² = HKSJScale · SE². HKSJP is
+	// the two-sided p of the same test, Estimate/HKSJSE on t with k-1 df,
+	// so HKSJP < 1-level exactly when the HKSJ interval excludes 0.
+	HKSJLow, HKSJHigh, HKSJSE, HKSJScale, HKSJP float64
 	// Prediction interval for the effect in a new study (t with k-2 df).
 	PILow, PIHigh float64
 	// Weights in percent, summing to 100.
@@ -98,6 +100,7 @@ func randomFromTau2(y, varY []float64, tau2 float64, c critical, s settings, dst
 		HKSJHigh:  math.NaN(),
 		HKSJSE:    math.NaN(),
 		HKSJScale: math.NaN(),
+		HKSJP:     math.NaN(),
 		PILow:     math.NaN(),
 		PIHigh:    math.NaN(),
 		Weights:   dstWeights,
@@ -112,6 +115,7 @@ func randomFromTau2(y, varY []float64, tau2 float64, c critical, s settings, dst
 		r.HKSJSE = seMu * math.Sqrt(scale)
 		r.HKSJLow = mu - c.tHKSJ*r.HKSJSE
 		r.HKSJHigh = mu + c.tHKSJ*r.HKSJSE
+		r.HKSJP = twoSidedTP(mu/r.HKSJSE, float64(k-1))
 	}
 	if k >= 3 {
 		half := c.tPI * math.Sqrt(tau2+seMu*seMu)
@@ -129,7 +133,7 @@ func failedRandom(m Tau2Method, iter int, dstWeights []float64) RandomResult {
 	return RandomResult{
 		Method: m, Tau2: nan, Tau2CILow: nan, Tau2CIHigh: nan,
 		Estimate: nan, SE: nan, CILow: nan, CIHigh: nan, Z: nan, P: nan,
-		HKSJLow: nan, HKSJHigh: nan, HKSJSE: nan, HKSJScale: nan,
+		HKSJLow: nan, HKSJHigh: nan, HKSJSE: nan, HKSJScale: nan, HKSJP: nan,
 		PILow: nan, PIHigh: nan, Weights: dstWeights, Iterations: iter,
 	}
 }
@@ -153,14 +157,16 @@ func randomEffects(y, varY []float64, m Tau2Method, c critical, s settings, tauL
 //	mu    = sum w*_i y_i / sum w*_i,  seMu = 1 / sqrt(sum w*_i)
 //	Wald  = mu ± z_{1-α/2} seMu,  Z = mu/seMu,  P = 2 (1 - Φ(|Z|))
 //	HKSJ  : q = sum w*_i (y_i - mu)² / (k-1),  seHKSJ = sqrt(q) seMu,
-//	        mu ± t_{k-1, 1-α/2} seHKSJ
+//	        mu ± t_{k-1, 1-α/2} seHKSJ,  P = 2 P(T_{k-1} > |mu / seHKSJ|)
 //	PI    = mu ± t_{k-2, 1-α/2} sqrt(tau² + seMu²)
 //	tau² CI (Q-profile): {tau² >= 0 : χ²_{k-1, α/2} <= Q(tau²) <= χ²_{k-1, 1-α/2}}
 //
 // with α = 1 - s.Level. Scale: the scale of the effects; tau² is in squared
 // units. The HKSJ scale factor q is not truncated at 1 unless
 // s.TruncateHKSJ is set, so the HKSJ interval can be narrower than the Wald
-// interval when the studies agree more than their SEs suggest.
+// interval when the studies agree more than their SEs suggest; with the
+// floor, max(1, q), it never is (Röver, Knapp & Friede 2015, BMC Med Res
+// Methodol 15:99).
 //
 // Edges: k = 1 gives tau² = 0, the study itself as estimate, and NaN for
 // the HKSJ interval, the prediction interval and the tau² CI. k = 2 gives a

@@ -15,11 +15,40 @@ import (
 	"unshelved/store"
 )
 
-// Random-effects confidence interval methods of Options.CI.
+// Random-effects confidence interval methods of Options.CI. The p-value
+// of an estimate always comes from the same test as its interval: the
+// normal z for CIWald, t with k-1 df on the HKSJ SE for the HKSJ forms.
 const (
-	CIHKSJ = "hksj" // Hartung-Knapp-Sidik-Jonkman, t with k-1 df
-	CIWald = "wald" // normal
+	// CIHKSJ is Hartung-Knapp-Sidik-Jonkman with its scale factor floored
+	// at 1, so the interval is never narrower than the Wald one (Röver,
+	// Knapp & Friede 2015, BMC Med Res Methodol 15:99); t with k-1 df.
+	CIHKSJ = "hksj"
+	// CIHKSJUntruncated is HKSJ without the floor (Hartung & Knapp 2001;
+	// Sidik & Jonkman 2002): narrower than Wald when the studies agree
+	// more than their SEs suggest.
+	CIHKSJUntruncated = "hksj-untruncated"
+	CIWald            = "wald" // normal
 )
+
+// CIMethods lists the values Options.CI accepts, for flag checking.
+var CIMethods = []string{CIHKSJ, CIHKSJUntruncated, CIWald}
+
+// ValidCI reports whether m is one of CIMethods.
+func ValidCI(m string) bool {
+	for _, x := range CIMethods {
+		if m == x {
+			return true
+		}
+	}
+	return false
+}
+
+// MinStudiesHKSJ is the smallest number of studies with which an audit
+// compares analyses on an HKSJ interval. With fewer (in either analysis of
+// a comparison) both analyses use the Wald interval of the same model:
+// HKSJ on 1 df is many times wider than Wald, and a switch of method
+// between the two analyses would itself move significance.
+const MinStudiesHKSJ = 3
 
 // DefaultSeed is the bootstrap seed the command line uses when --seed is
 // not given, so that reruns are byte-identical. (Options.Seed is used as
@@ -31,8 +60,10 @@ const DefaultSeed uint64 = 20260101
 type Options struct {
 	Level float64             // confidence level; zero means 0.95
 	Tau2  analysis.Tau2Method // zero means REML
-	// CI is the random-effects interval: CIHKSJ or CIWald; zero means
-	// CIHKSJ unless HKSJ is false and CI is CIWald.
+	// CI is the random-effects interval: CIHKSJ (floored), CIHKSJUntruncated
+	// or CIWald; zero means CIHKSJ. Whatever it says, a review whose
+	// published-only analysis has fewer than MinStudiesHKSJ studies is
+	// compared on Wald intervals throughout (ReviewAudit.FewStudies).
 	CI string
 	// HKSJ is kept for older callers: true is the same as CI = CIHKSJ.
 	HKSJ bool
@@ -59,10 +90,21 @@ func (o Options) ciMethod() string {
 	if o.HKSJ {
 		return CIHKSJ
 	}
-	if o.CI == CIWald {
-		return CIWald
+	if o.CI == CIWald || o.CI == CIHKSJUntruncated {
+		return o.CI
 	}
 	return CIHKSJ
+}
+
+// reviewCI is the interval method of every analysis of one review whose
+// smallest analysis has k studies, and whether the few-studies rule
+// replaced an HKSJ form by Wald.
+func (o Options) reviewCI(k int) (string, bool) {
+	m := o.ciMethod()
+	if m != CIWald && k < MinStudiesHKSJ {
+		return CIWald, true
+	}
+	return m, false
 }
 
 func (o Options) level() float64 {
@@ -114,10 +156,16 @@ type Shift struct {
 	// Absolute is augmented minus published.
 	Absolute *float64 `json:"absolute"`
 	// Relative is 100 (augmented - published) / published, in percent.
+	// Relative and Inflation are nil, with the reason in Warnings, when
+	// the published-only interval includes 0 or the two estimates differ
+	// in sign: a percentage of a value indistinguishable from 0, or across
+	// 0, means nothing.
 	Relative *float64 `json:"relative"`
 	// Inflation is 100 (published - augmented) / augmented: by how many
 	// percent the published literature overstates the fuller evidence.
 	Inflation *float64 `json:"inflation"`
+	// Warnings says why Relative or Inflation are nil.
+	Warnings []string `json:"warnings"`
 	// PublishedSEUnits is the absolute shift divided by the published-only
 	// random-effects SE.
 	PublishedSEUnits *float64 `json:"published_se_units"`
@@ -150,6 +198,79 @@ type PIChange struct {
 	Width *float64 `json:"width"`
 }
 
+// MissedAnalysis is the published-only analysis plus the accepted trials
+// that have a results publication but are not in the review, pooled with
+// the same model and interval method as the published-only analysis.
+// Shift is its random-effects estimate minus the published-only one.
+type MissedAnalysis struct {
+	K        int      `json:"k"`
+	KMissed  int      `json:"k_missed"`
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
+	CILow    *float64 `json:"ci_low"`
+	CIHigh   *float64 `json:"ci_high"`
+	P        *float64 `json:"p"`
+	CIMethod string   `json:"ci_method"`
+	Tau2     *float64 `json:"tau2"`
+	Shift    *float64 `json:"shift"`
+	// Trials are the missed publications, each with its effect and the
+	// PMIDs of its RESULT references.
+	Trials []MissedTrial `json:"trials"`
+}
+
+// MissedTrial is one trial published but not in the review.
+type MissedTrial struct {
+	StudyEffect
+	PMIDs []string `json:"pmids"`
+}
+
+// Registry search states of RegistrySearch.Status.
+const (
+	SearchNotLinked    = "not-linked"    // no link at all: match was not run or found nothing
+	SearchNoneEligible = "none-eligible" // links exist, every one rejected
+	SearchLinked       = "linked"        // at least one link not rejected
+)
+
+// RegistrySearch is what the links say about the registry search of one
+// review. LinkedTrials counts distinct trials with a link of any
+// decision; EligibleTrials those with a link not rejected. Note is the
+// sentence the command line and the report show (empty when linked).
+type RegistrySearch struct {
+	Status         string `json:"status"`
+	LinkedTrials   int    `json:"linked_trials"`
+	EligibleTrials int    `json:"eligible_trials"`
+	Note           string `json:"note,omitempty"`
+}
+
+// registrySearchOf classifies the links of review id.
+func registrySearchOf(id string, links []ingest.Link) RegistrySearch {
+	all, ok := map[string]bool{}, map[string]bool{}
+	for _, l := range links {
+		if l.ReviewID != id {
+			continue
+		}
+		all[l.TrialID] = true
+		if !strings.EqualFold(l.Decision, "reject") {
+			ok[l.TrialID] = true
+		}
+	}
+	rs := RegistrySearch{Status: SearchLinked, LinkedTrials: len(all), EligibleTrials: len(ok)}
+	switch {
+	case len(all) == 0:
+		rs.Status, rs.Note = SearchNotLinked, "no registry trials were linked: run `unshelved match`"
+	case len(ok) == 0:
+		rs.Status, rs.Note = SearchNoneEligible, fmt.Sprintf("%d %s examined, none eligible", len(all), plural(len(all), "trial", "trials"))
+	}
+	return rs
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
 // Rejected is a registry link that could not be used, with its reason.
 type Rejected struct {
 	TrialID      string `json:"trial_id"`
@@ -167,19 +288,43 @@ type ReviewAudit struct {
 	Better              string `json:"better"`
 	KPublished          int    `json:"k_published"`
 	KAdded              int    `json:"k_added"`
-	Published           Pooled `json:"published"`
-	Augmented           Pooled `json:"augmented"`
-	Shift               Shift  `json:"shift"`
-	SignificanceChanged bool   `json:"significance_changed"`
-	DirectionChanged    bool   `json:"direction_changed"`
+	// Published is the published studies alone; Augmented adds the
+	// registry-only (unpublished) trials, so Shift is the
+	// publication-bias shift. Trials published but missed by the review
+	// are kept apart in WithMissedPublications.
+	Published Pooled `json:"published"`
+	Augmented Pooled `json:"augmented"`
+	// FewStudies is true when the published-only analysis has fewer than
+	// MinStudiesHKSJ studies, so every analysis of the review (published,
+	// augmented, with missed publications, what-if) uses the Wald
+	// interval whatever Options.CI asked for; each analysis names its
+	// method in random.ci_method.
+	FewStudies bool  `json:"few_studies"`
+	Shift      Shift `json:"shift"`
+	// SignificanceChanged: the published-only and augmented random-effects
+	// intervals (same method) differ in excluding 0.
+	SignificanceChanged bool `json:"significance_changed"`
+	// DirectionChanged: the two estimates have opposite signs and at
+	// least one of the two intervals excludes 0.
+	DirectionChanged bool `json:"direction_changed"`
+	// WithMissedPublications pools the published studies with the
+	// accepted trials that are published but not in the review (links
+	// classed missed-publication): a search gap, not publication bias.
+	// nil when there is none.
+	WithMissedPublications *MissedAnalysis `json:"with_missed_publications"`
+	// RegistrySearch says whether registry trials were linked to the
+	// review at all.
+	RegistrySearch RegistrySearch `json:"registry_search"`
 	// MID is the review's minimal important difference (nil when none is
 	// given); MIDCrossed says whether the favourable magnitude of the
 	// random-effects estimate was at or beyond it in one analysis and not
 	// in the other (nil without a MID or a better direction).
 	MID        *float64 `json:"mid"`
 	MIDCrossed *bool    `json:"mid_crossed"`
-	// ConclusionChanged is significance, direction or MID changed.
-	ConclusionChanged bool `json:"conclusion_changed"`
+	// ConclusionChanged is significance, direction or MID changed; nil
+	// when no registry trial was linked or none of the linked ones was
+	// eligible (RegistrySearch.Status), since nothing was compared.
+	ConclusionChanged *bool `json:"conclusion_changed"`
 	// Tau2Change is augmented minus published tau²; PIChange the change
 	// of the prediction interval.
 	Tau2Change *float64  `json:"tau2_change"`
@@ -243,6 +388,7 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 	})
 	added := map[string]bool{}
 	var incLinks, missingLinks []ingest.Link
+	var missed []MissedTrial
 	for _, l := range links {
 		if l.ReviewID != rv.ReviewID || strings.EqualFold(l.Decision, "reject") {
 			continue
@@ -292,16 +438,30 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 			out.Warnings = append(out.Warnings, fmt.Sprintf("%s is %s and pooled as if randomized (--allow-nonrandomized)", l.TrialID, e.Design))
 		}
 		added[t.TrialID] = true
+		if missedPublication(l, t) {
+			e.Origin = "missed-publication"
+			missed = append(missed, MissedTrial{StudyEffect: e, PMIDs: resultPMIDs(t)})
+			continue
+		}
 		out.Studies = append(out.Studies, e)
 	}
 	out.KAdded = len(out.Studies) - out.KPublished
+	out.RegistrySearch = registrySearchOf(rv.ReviewID, in.Links)
 
+	// One interval method for every analysis of the review; the published
+	// analysis is the smallest of them.
+	method, few := opts.reviewCI(out.KPublished)
+	out.FewStudies = few
+	if few {
+		out.Warnings = append(out.Warnings, fmt.Sprintf("only %d published %s: every analysis of this review uses the Wald interval (HKSJ is used from %d studies)",
+			out.KPublished, plural(out.KPublished, "study", "studies"), MinStudiesHKSJ))
+	}
 	var err error
-	out.Published, err = pool(out.Studies[:out.KPublished], opts)
+	out.Published, err = pool(out.Studies[:out.KPublished], opts, method)
 	if err != nil {
 		return out, fmt.Errorf("review %s: pool published studies: %w", rv.ReviewID, err)
 	}
-	out.Augmented, err = pool(out.Studies, opts)
+	out.Augmented, err = pool(out.Studies, opts, method)
 	if err != nil {
 		return out, fmt.Errorf("review %s: pool augmented studies: %w", rv.ReviewID, err)
 	}
@@ -309,7 +469,14 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 	if out.KAdded > 0 {
 		out.Warnings = append(out.Warnings, prefixed("augmented: ", out.Augmented.result.Warnings)...)
 	}
+	if len(missed) > 0 {
+		out.WithMissedPublications, err = missedAnalysis(out.Studies[:out.KPublished], missed, out.Published, opts, method)
+		if err != nil {
+			return out, fmt.Errorf("review %s: pool with missed publications: %w", rv.ReviewID, err)
+		}
+	}
 	out.Shift = shiftOf(out.Published, out.Augmented, rv.Better)
+	out.Warnings = append(out.Warnings, prefixed("shift: ", out.Shift.Warnings)...)
 	if out.Shift.Absolute != nil {
 		if strings.EqualFold(rv.Measure, "SMD") {
 			out.Shift.SDUnits = opt(*out.Shift.Absolute)
@@ -326,10 +493,13 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 		out.Bias = &b
 	}
 	out.SignificanceChanged = significant(out.Published.Random) != significant(out.Augmented.Random)
-	out.DirectionChanged = sign(out.Published.Random.Estimate) != sign(out.Augmented.Random.Estimate)
+	out.DirectionChanged = directionChanged(out.Published.Random, out.Augmented.Random)
 	out.MID = rv.MID
 	out.MIDCrossed = midCrossed(out.Published.Random.Estimate, out.Augmented.Random.Estimate, rv.MID, rv.Better)
-	out.ConclusionChanged = out.SignificanceChanged || out.DirectionChanged || (out.MIDCrossed != nil && *out.MIDCrossed)
+	if out.RegistrySearch.Status == SearchLinked {
+		c := out.SignificanceChanged || out.DirectionChanged || (out.MIDCrossed != nil && *out.MIDCrossed)
+		out.ConclusionChanged = &c
+	}
 	out.Tau2Change = diffPtr(out.Augmented.Random.Tau2, out.Published.Random.Tau2)
 	if out.Published.PILow != nil && out.Augmented.PILow != nil {
 		out.PIChange = &PIChange{Low: diffPtr(out.Augmented.PILow, out.Published.PILow), High: diffPtr(out.Augmented.PIHigh, out.Published.PIHigh),
@@ -347,11 +517,54 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 	return out, nil
 }
 
+// missedPublication says whether an accepted link brings a trial that is
+// published but not in the review: classed missed-publication by matching,
+// or, for a link without a class, a trial with a results publication (the
+// rule matching uses). Such trials measure a search gap, not publication
+// bias, and are pooled apart (ReviewAudit.WithMissedPublications).
+func missedPublication(l ingest.Link, t ingest.Trial) bool {
+	if l.Class != "" {
+		return l.Class == ClassMissedPublication
+	}
+	return hasResultReference(t)
+}
+
+// resultPMIDs lists the PMIDs of a trial's RESULT references, in record
+// order, without repeats.
+func resultPMIDs(t ingest.Trial) []string {
+	out := []string{}
+	seen := map[string]bool{}
+	for _, r := range t.References {
+		id := strings.TrimSpace(r.PMID)
+		if strings.EqualFold(r.Type, "RESULT") && id != "" && !seen[id] {
+			seen[id] = true
+			out = append(out, id)
+		}
+	}
+	return out
+}
+
+// missedAnalysis pools the published studies with the missed publications.
+func missedAnalysis(pub []StudyEffect, missed []MissedTrial, published Pooled, opts Options, method string) (*MissedAnalysis, error) {
+	studies := append([]StudyEffect(nil), pub...)
+	for _, m := range missed {
+		studies = append(studies, m.StudyEffect)
+	}
+	p, err := pool(studies, opts, method)
+	if err != nil {
+		return nil, err
+	}
+	r := p.Random
+	return &MissedAnalysis{K: p.K, KMissed: len(missed), Estimate: r.Estimate, SE: r.SE, CILow: r.CILow, CIHigh: r.CIHigh, P: r.P,
+		CIMethod: r.CIMethod, Tau2: r.Tau2, Shift: diffPtr(r.Estimate, published.Random.Estimate), Trials: missed}, nil
+}
+
 // How AuditReview uses link classes (ingest.Link.Class, set by automatic
 // matching): links with ClassIncluded are compared with the published
 // study (Discrepancies); links with ClassNoResults count as missing
 // evidence (Missing); neither is pooled. Links of any other class, or of
-// none, are pooled when accepted.
+// none, are pooled when accepted: into the augmented analysis, unless they
+// are missed publications (see missedPublication).
 
 // midCrossed reports whether the favourable magnitude of the estimate was
 // at or beyond the MID in one analysis and not in the other:
@@ -428,7 +641,9 @@ func isIncluded(t ingest.Trial, included map[string]bool) bool {
 	return false
 }
 
-func pool(studies []StudyEffect, opts Options) (Pooled, error) {
+// pool runs the fixed-effect and random-effects analyses of studies, the
+// random-effects interval and p by method (see randomInterval).
+func pool(studies []StudyEffect, opts Options, method string) (Pooled, error) {
 	effects := make([]float64, len(studies))
 	seEffects := make([]float64, len(studies))
 	labels := make([]string, len(studies))
@@ -436,41 +651,61 @@ func pool(studies []StudyEffect, opts Options) (Pooled, error) {
 		effects[i], seEffects[i], labels[i] = s.Effect, s.SE, s.Study
 	}
 	res, err := analysis.Pool(effects, seEffects, analysis.Settings{
-		Level: opts.level(), Tau2: opts.tau2(), Labels: labels, SkipLeaveOneOut: true,
+		Level: opts.level(), Tau2: opts.tau2(), Labels: labels, SkipLeaveOneOut: true, TruncateHKSJ: method == CIHKSJ,
 	})
 	if err != nil {
 		return Pooled{}, err
 	}
 	p := Pooled{K: len(studies), result: &res}
 	f := res.Fixed
-	p.Fixed = Estimate{Model: "fixed", Estimate: opt(f.Estimate), SE: opt(f.SE), CILow: opt(f.CILow), CIHigh: opt(f.CIHigh), P: opt(f.P)}
+	p.Fixed = Estimate{Model: "fixed", Estimate: opt(f.Estimate), SE: opt(f.SE), CILow: opt(f.CILow), CIHigh: opt(f.CIHigh), P: opt(f.P),
+		CIMethod: CIWald}
 	r := res.Random
-	p.Random = Estimate{Model: "random", Estimate: opt(r.Estimate), SE: opt(r.SE), CILow: opt(r.CILow), CIHigh: opt(r.CIHigh), P: opt(r.P),
-		Tau2Method: string(r.Method), Tau2: opt(r.Tau2), CIMethod: "wald"}
-	// HKSJ needs k >= 2; a single study keeps the Wald interval.
-	if opts.ciMethod() == CIHKSJ && len(studies) >= 2 {
-		p.Random.CILow, p.Random.CIHigh, p.Random.CIMethod = opt(r.HKSJLow), opt(r.HKSJHigh), CIHKSJ
-		p.Random.SE = opt(r.HKSJSE)
-	}
+	iv := randomInterval(r, len(studies), method)
+	p.Random = Estimate{Model: "random", Estimate: opt(r.Estimate), SE: opt(iv.SE), CILow: opt(iv.Low), CIHigh: opt(iv.High), P: opt(iv.P),
+		Tau2Method: string(r.Method), Tau2: opt(r.Tau2), CIMethod: iv.Method}
 	p.I2, p.Q = opt(res.Het.I2), opt(res.Het.Q)
 	p.PILow, p.PIHigh = opt(r.PILow), opt(r.PIHigh)
 	return p, nil
 }
 
+// interval is a random-effects SE, interval and p from one test.
+type interval struct {
+	SE, Low, High, P float64
+	Method           string
+}
+
+// randomInterval picks the SE, interval and two-sided p of the
+// random-effects result r of k studies for method: the normal (Wald) test
+// for CIWald, t with k-1 df on the HKSJ SE for CIHKSJ and
+// CIHKSJUntruncated (r must have been fitted with TruncateHKSJ set for the
+// floored form). HKSJ needs k >= 2; below that the Wald test is used and
+// Method says so. p < 1 - level exactly when the interval excludes 0.
+func randomInterval(r analysis.RandomResult, k int, method string) interval {
+	if method != CIWald && k >= 2 {
+		return interval{SE: r.HKSJSE, Low: r.HKSJLow, High: r.HKSJHigh, P: r.HKSJP, Method: method}
+	}
+	return interval{SE: r.SE, Low: r.CILow, High: r.CIHigh, P: r.P, Method: CIWald}
+}
+
 func shiftOf(pub, aug Pooled, better string) Shift {
-	var s Shift
-	s.Toward = "none"
+	s := Shift{Toward: "none", Warnings: []string{}}
 	if pub.Random.Estimate == nil || aug.Random.Estimate == nil {
 		return s
 	}
 	p, a := *pub.Random.Estimate, *aug.Random.Estimate
 	d := a - p
 	s.Absolute = opt(d)
-	if p != 0 {
+	switch {
+	case !significant(pub.Random):
+		s.Warnings = append(s.Warnings, "relative and inflation not given: the published-only interval includes 0, so a percentage of it means nothing")
+	case sign(&p)*sign(&a) < 0:
+		s.Warnings = append(s.Warnings, "relative and inflation not given: the published-only and augmented estimates have opposite signs")
+	default:
 		s.Relative = opt(100 * d / p)
-	}
-	if a != 0 {
-		s.Inflation = opt(100 * (p - a) / a)
+		if a != 0 {
+			s.Inflation = opt(100 * (p - a) / a)
+		}
 	}
 	if pub.Random.SE != nil && *pub.Random.SE > 0 {
 		s.PublishedSEUnits = opt(d / *pub.Random.SE)
@@ -484,6 +719,13 @@ func shiftOf(pub, aug Pooled, better string) Shift {
 		s.Toward = "harm"
 	}
 	return s
+}
+
+// directionChanged: the estimates have opposite signs and at least one
+// interval excludes 0 (a sign flip between two estimates both
+// indistinguishable from 0 is noise).
+func directionChanged(pub, aug Estimate) bool {
+	return sign(pub.Estimate)*sign(aug.Estimate) < 0 && (significant(pub) || significant(aug))
 }
 
 // significant reports whether the interval excludes zero.
@@ -698,11 +940,10 @@ type optionsRecord struct {
 	SkipBias       bool    `json:"skip_bias"`
 	SkipSelection  bool    `json:"skip_selection"`
 	DiscrepancySD  float64 `json:"discrepancy_sd_units"`
-	DiscrepancyRel float64 `json:"discrepancy_relative"`
 }
 
 func (o Options) record() optionsRecord {
 	d := o.Discrepancy.resolve()
 	return optionsRecord{Level: o.level(), Tau2: string(o.tau2()), CI: o.ciMethod(), Bootstrap: o.Bootstrap, Seed: o.Seed,
-		SkipBias: o.SkipBias, SkipSelection: o.SkipSelection, DiscrepancySD: d.SDUnits, DiscrepancyRel: d.Relative}
+		SkipBias: o.SkipBias, SkipSelection: o.SkipSelection, DiscrepancySD: d.SDUnits}
 }

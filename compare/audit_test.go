@@ -176,8 +176,8 @@ func TestAuditMIDMissingDiscrepancy(t *testing.T) {
 	}
 	// Published DL -6.40 is beyond the MID of 5 (lower is better); the
 	// augmented -4.76 is not.
-	if a.MIDCrossed == nil || !*a.MIDCrossed || !a.ConclusionChanged {
-		t.Errorf("mid crossed %v, conclusion changed %v", deref2(a.MIDCrossed), a.ConclusionChanged)
+	if a.MIDCrossed == nil || !*a.MIDCrossed || a.ConclusionChanged == nil || !*a.ConclusionChanged {
+		t.Errorf("mid crossed %v, conclusion changed %v", deref2(a.MIDCrossed), deref2(a.ConclusionChanged))
 	}
 	if want := 5.6096069018962584 - 2.3629817049435573; a.Tau2Change == nil || !scalar.EqualWithinAbsOrRel(*a.Tau2Change, want, 1e-10, 1e-10) {
 		t.Errorf("tau2 change %v, want %v", deref(a.Tau2Change), want)
@@ -201,9 +201,11 @@ func TestAuditMIDMissingDiscrepancy(t *testing.T) {
 		t.Fatalf("discrepancies %+v", a.Discrepancies)
 	}
 	// Study A published -8; the registry gives 40 - 50 = -10: difference -2,
-	// 25% of the published magnitude, beyond 10%.
+	// 25% of the published magnitude. No published study gives arm SDs, so
+	// the difference has no SD units and is not flagged on the percentage
+	// alone; the reason says so.
 	d := a.Discrepancies[0]
-	if d.Study != "A" || *d.Difference != -2 || *d.RelativePct != -25 || !d.Flagged || !d.RegistryPrimary {
+	if d.Study != "A" || *d.Difference != -2 || *d.RelativePct != -25 || d.Flagged || d.DifferenceSD != nil || d.Reason == "" || !d.RegistryPrimary {
 		t.Errorf("discrepancy %+v", d)
 	}
 	if a.KAdded != 2 {

@@ -17,25 +17,22 @@ import (
 // of the same trial's outcome disagree. A difference is flagged when it
 // exceeds SDUnits in units of the study's SD (for MD: the published
 // study's pooled SD when it gave arms, else the review's pooled SD; for
-// SMD the difference itself), or when it exceeds Relative (a fraction) of
-// the published effect's magnitude. Zero fields take DefaultDiscrepancy's.
+// SMD the difference itself). A relative difference alone never flags:
+// near 0 a negligible difference is a large percentage (0.05 vs 0.06 is
+// 20% but 0.01 SD). Where no SD is known the difference is not flagged
+// and Discrepancy.Reason says so. Zero fields take DefaultDiscrepancy's.
 type DiscrepancyTolerance struct {
-	SDUnits  float64
-	Relative float64
+	SDUnits float64
 }
 
-// DefaultDiscrepancy flags differences beyond 0.1 SD units or 10% of the
-// published effect (common practice, no source: a tenth of an SD is well
-// below the usual small-effect size of 0.2, and 10% is beyond rounding of
-// values reported to two significant digits).
-var DefaultDiscrepancy = DiscrepancyTolerance{SDUnits: 0.1, Relative: 0.10}
+// DefaultDiscrepancy flags differences beyond 0.1 SD units (common
+// practice, no source: a tenth of an SD is well below the usual
+// small-effect size of 0.2).
+var DefaultDiscrepancy = DiscrepancyTolerance{SDUnits: 0.1}
 
 func (t DiscrepancyTolerance) resolve() DiscrepancyTolerance {
 	if t.SDUnits == 0 {
 		t.SDUnits = DefaultDiscrepancy.SDUnits
-	}
-	if t.Relative == 0 {
-		t.Relative = DefaultDiscrepancy.Relative
 	}
 	return t
 }
@@ -60,7 +57,7 @@ type Discrepancy struct {
 	DifferenceSD     *float64 `json:"difference_sd_units"`
 	RelativePct      *float64 `json:"relative_pct"`
 	Flagged          bool     `json:"flagged"`
-	Reason           string   `json:"reason,omitempty"` // why the registry value could not be computed
+	Reason           string   `json:"reason,omitempty"` // why the registry value could not be computed or compared
 	PublishedStudyIn bool     `json:"published_study_found"`
 }
 
@@ -135,8 +132,10 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 			if ps.Effect != 0 {
 				d.RelativePct = opt(100 * diff / math.Abs(ps.Effect))
 			}
-			d.Flagged = d.DifferenceSD != nil && math.Abs(*d.DifferenceSD) > tol.SDUnits ||
-				d.RelativePct != nil && math.Abs(*d.RelativePct) > 100*tol.Relative
+			d.Flagged = d.DifferenceSD != nil && math.Abs(*d.DifferenceSD) > tol.SDUnits
+			if d.DifferenceSD == nil {
+				d.Reason = "no SD known to put the difference in SD units; not flagged"
+			}
 		}
 		out = append(out, d)
 	}

@@ -50,13 +50,17 @@ type MissingTrial struct {
 // with SD the review's pooled SD for MD reviews (the same SD as
 // Shift.SDUnits) and SD = 1 for SMD reviews (the SE of a standardized
 // difference of zero, up to the small-sample factor). Pooling uses the
-// audit's model and interval.
+// audit's model and the review's interval method (the one its published
+// and augmented analyses use, Wald when ReviewAudit.FewStudies), so the
+// significance comparisons are like with like. P comes from the same test
+// as the interval.
 type WhatIf struct {
 	KImputed    int      `json:"k_imputed"`
 	SD          *float64 `json:"sd"`
 	Estimate    *float64 `json:"estimate"`
 	CILow       *float64 `json:"ci_low"`
 	CIHigh      *float64 `json:"ci_high"`
+	P           *float64 `json:"p"`
 	Tau2        *float64 `json:"tau2"`
 	CIMethod    string   `json:"ci_method"`
 	Shift       *float64 `json:"shift"` // estimate minus the published-only estimate
@@ -136,11 +140,12 @@ func whatIf(rv ingest.Review, a ReviewAudit, missing []MissingTrial, opts Option
 	if w.KImputed == 0 {
 		return w
 	}
-	p, err := pool(studies, opts)
+	method, _ := opts.reviewCI(a.KPublished)
+	p, err := pool(studies, opts, method)
 	if err != nil {
 		return w
 	}
-	w.Estimate, w.CILow, w.CIHigh, w.Tau2, w.CIMethod = p.Random.Estimate, p.Random.CILow, p.Random.CIHigh, p.Random.Tau2, p.Random.CIMethod
+	w.Estimate, w.CILow, w.CIHigh, w.P, w.Tau2, w.CIMethod = p.Random.Estimate, p.Random.CILow, p.Random.CIHigh, p.Random.P, p.Random.Tau2, p.Random.CIMethod
 	w.Shift = diffPtr(p.Random.Estimate, a.Published.Random.Estimate)
 	w.Significant = significant(p.Random)
 	w.SignificanceChanged = w.Significant != significant(a.Augmented.Random)

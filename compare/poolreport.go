@@ -16,6 +16,12 @@ type PoolOptions struct {
 	Measure      string              // MD or SMD; zero means MD
 	Level        float64             // zero means 0.95
 	Tau2         analysis.Tau2Method // zero means REML
+	// CI is the interval and p of the headline random-effects result:
+	// CIHKSJ (zero; floored at 1), CIHKSJUntruncated or CIWald. With fewer
+	// than MinStudiesHKSJ studies the headline uses Wald (FewStudies).
+	CI string
+	// TruncateHKSJ is kept for older callers: true is the same as CI =
+	// CIHKSJ.
 	TruncateHKSJ bool
 	// Bias configures the publication-bias battery (its Level defaults to
 	// Level); SkipBias leaves it out.
@@ -60,15 +66,27 @@ type PoolHeterogeneity struct {
 	Tau2Method string   `json:"tau2_method"`
 }
 
-// PoolRandom is the random-effects block of a pool report.
+// PoolRandom is the random-effects block of a pool report. SE, CILow,
+// CIHigh and P are the headline, from one test named by CIMethod; the
+// Wald and HKSJ forms follow, each with its own p. The HKSJ form is the
+// floored one unless CIMethod is CIHKSJUntruncated; HKSJScale is its scale
+// factor (at least 1 when floored).
 type PoolRandom struct {
 	Estimate   *float64 `json:"estimate"`
 	SE         *float64 `json:"se"`
 	CILow      *float64 `json:"ci_low"`
 	CIHigh     *float64 `json:"ci_high"`
 	P          *float64 `json:"p"`
+	CIMethod   string   `json:"ci_method"`
+	FewStudies bool     `json:"few_studies"`
+	WaldSE     *float64 `json:"wald_se"`
+	WaldCILow  *float64 `json:"wald_ci_low"`
+	WaldCIHigh *float64 `json:"wald_ci_high"`
+	WaldP      *float64 `json:"wald_p"`
+	HKSJSE     *float64 `json:"hksj_se"`
 	HKSJCILow  *float64 `json:"hksj_ci_low"`
 	HKSJCIHigh *float64 `json:"hksj_ci_high"`
+	HKSJP      *float64 `json:"hksj_p"`
 	HKSJScale  *float64 `json:"hksj_scale"`
 	PILow      *float64 `json:"pi_low"`
 	PIHigh     *float64 `json:"pi_high"`
@@ -142,8 +160,15 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 	for i, e := range effs {
 		effects[i], seEffects[i], labels[i] = e.Effect, e.SE, e.Study
 	}
+	ci := opts.CI
+	if ci == "" || opts.TruncateHKSJ {
+		ci = CIHKSJ
+	}
+	if !ValidCI(ci) {
+		return PoolReport{}, fmt.Errorf("interval %q is not one of %s", ci, strings.Join(CIMethods, ", "))
+	}
 	res, err := analysis.Pool(effects, seEffects, analysis.Settings{
-		Level: opts.Level, Tau2: opts.Tau2, TruncateHKSJ: opts.TruncateHKSJ, Labels: labels,
+		Level: opts.Level, Tau2: opts.Tau2, TruncateHKSJ: ci != CIHKSJUntruncated, Labels: labels,
 	})
 	if err != nil {
 		return PoolReport{}, err
@@ -162,9 +187,19 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 	r := res.Random
 	rep.Heterogeneity = PoolHeterogeneity{Q: opt(res.Het.Q), DF: res.Het.DF, QP: opt(res.Het.QP), I2: opt(res.Het.I2), H2: opt(res.Het.H2),
 		Tau2: opt(r.Tau2), Tau2CILow: opt(r.Tau2CILow), Tau2CIHigh: opt(r.Tau2CIHigh), Tau2Method: string(r.Method)}
-	rep.Random = PoolRandom{Estimate: opt(r.Estimate), SE: opt(r.SE), CILow: opt(r.CILow), CIHigh: opt(r.CIHigh), P: opt(r.P),
-		HKSJCILow: opt(r.HKSJLow), HKSJCIHigh: opt(r.HKSJHigh), HKSJScale: opt(r.HKSJScale), PILow: opt(r.PILow), PIHigh: opt(r.PIHigh),
-		Converged: r.Converged}
+	few := ci != CIWald && res.K < MinStudiesHKSJ
+	method := ci
+	if few {
+		method = CIWald
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("Only %d %s: the headline random-effects interval and p are Wald (HKSJ is used from %d studies).",
+			res.K, plural(res.K, "study", "studies"), MinStudiesHKSJ))
+	}
+	iv := randomInterval(r, res.K, method)
+	rep.Random = PoolRandom{Estimate: opt(r.Estimate), SE: opt(iv.SE), CILow: opt(iv.Low), CIHigh: opt(iv.High), P: opt(iv.P),
+		CIMethod: iv.Method, FewStudies: few,
+		WaldSE: opt(r.SE), WaldCILow: opt(r.CILow), WaldCIHigh: opt(r.CIHigh), WaldP: opt(r.P),
+		HKSJSE: opt(r.HKSJSE), HKSJCILow: opt(r.HKSJLow), HKSJCIHigh: opt(r.HKSJHigh), HKSJP: opt(r.HKSJP), HKSJScale: opt(r.HKSJScale),
+		PILow: opt(r.PILow), PIHigh: opt(r.PIHigh), Converged: r.Converged}
 	rep.RandomByMethod = map[string]PoolMethodRow{}
 	for _, m := range []analysis.Tau2Method{analysis.Tau2DL, analysis.Tau2PM, analysis.Tau2REML} {
 		x, _ := res.ByTau2(m)

@@ -33,7 +33,7 @@ type SummaryOptions struct {
 	Threshold float64
 	Level     float64
 	Tau2      analysis.Tau2Method
-	CI        string // CIHKSJ (zero) or CIWald
+	CI        string // CIHKSJ (zero, floored), CIHKSJUntruncated or CIWald
 }
 
 func (o SummaryOptions) resolve() SummaryOptions {
@@ -66,9 +66,10 @@ type Summary struct {
 	// ShiftSMD is the distribution of Shift.SDUnits over reviews with
 	// additions (and a pooled SD).
 	ShiftSMD ShiftDistribution `json:"shift_smd"`
-	// ConclusionChangedShare is the share of all audited reviews whose
-	// conclusion changed (significance, direction or MID); the parts
-	// follow.
+	// ConclusionChangedShare is the share of reviews whose conclusion
+	// changed (significance, direction or MID), among those where it is
+	// known (registry trials were linked); the parts follow, over all
+	// audited reviews.
 	ConclusionChangedShare   *float64 `json:"conclusion_changed_share"`
 	SignificanceChangedShare *float64 `json:"significance_changed_share"`
 	DirectionChangedShare    *float64 `json:"direction_changed_share"`
@@ -163,12 +164,15 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 	s := Summary{Reviews: len(audits), Truth: o.Truth, TruthThreshold: o.Threshold, Warnings: []string{},
 		Detection: []Detection{}, AdjustedError: []AdjustedError{}}
 	var shifts []float64
-	var benefit, harm, concl, sig, dir, mid int
+	var benefit, harm, concl, known, sig, dir, mid int
 	var diffs, seDiffs []float64
 	var labels []string
 	for _, a := range audits {
-		if a.ConclusionChanged {
-			concl++
+		if a.ConclusionChanged != nil {
+			known++
+			if *a.ConclusionChanged {
+				concl++
+			}
 		}
 		if a.SignificanceChanged {
 			sig++
@@ -205,7 +209,7 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 		}
 		return opt(float64(n) / float64(d))
 	}
-	s.ConclusionChangedShare, s.SignificanceChangedShare = share(concl, len(audits)), share(sig, len(audits))
+	s.ConclusionChangedShare, s.SignificanceChangedShare = share(concl, known), share(sig, len(audits))
 	s.DirectionChangedShare, s.MIDCrossedShare = share(dir, len(audits)), share(mid, len(audits))
 
 	s.ShiftSMD.N = len(shifts)
@@ -222,18 +226,15 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 
 	s.PooledDifferenceSMD = PooledDifference{K: len(diffs), Tau2Method: string(o.Tau2), CIMethod: o.CI}
 	if len(diffs) > 0 {
-		res, err := analysis.Pool(diffs, seDiffs, analysis.Settings{Level: o.Level, Tau2: o.Tau2, Labels: labels, SkipLeaveOneOut: true})
+		res, err := analysis.Pool(diffs, seDiffs, analysis.Settings{Level: o.Level, Tau2: o.Tau2, Labels: labels, SkipLeaveOneOut: true,
+			TruncateHKSJ: o.CI == CIHKSJ})
 		if err != nil {
 			s.Warnings = append(s.Warnings, "pooled difference: "+err.Error())
 		} else {
 			r := res.Random
 			p := &s.PooledDifferenceSMD
-			p.Estimate, p.SE, p.CILow, p.CIHigh = opt(r.Estimate), opt(r.SE), opt(r.CILow), opt(r.CIHigh)
-			if o.CI == CIHKSJ && len(diffs) >= 2 {
-				p.SE, p.CILow, p.CIHigh = opt(r.HKSJSE), opt(r.HKSJLow), opt(r.HKSJHigh)
-			} else {
-				p.CIMethod = CIWald
-			}
+			iv := randomInterval(r, len(diffs), o.CI)
+			p.Estimate, p.SE, p.CILow, p.CIHigh, p.CIMethod = opt(r.Estimate), opt(iv.SE), opt(iv.Low), opt(iv.High), iv.Method
 			p.Tau2, p.I2, p.Q, p.QP, p.PILow, p.PIHigh = opt(r.Tau2), opt(res.Het.I2), opt(res.Het.Q), opt(res.Het.QP), opt(r.PILow), opt(r.PIHigh)
 			s.Warnings = append(s.Warnings, prefixed("pooled difference: ", reviewsNotStudies(res.Warnings))...)
 		}

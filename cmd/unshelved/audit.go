@@ -82,7 +82,7 @@ func defaultAuditOptions(g *globals) auditOptions {
 func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	d := defaultAuditOptions(opts.g)
 	cmd.Flags().StringVar(&opts.Tau2, "tau2", d.Tau2, "tau² estimator for random effects: reml, dl or pm")
-	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval: hksj (Hartung-Knapp-Sidik-Jonkman) or wald")
+	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval and its p-value: hksj (Hartung-Knapp-Sidik-Jonkman, scale floored at 1), hksj-untruncated or wald; Wald throughout for reviews with fewer than 3 published studies")
 	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
 	cmd.Flags().Float64Var(&opts.Level, "level", d.Level, "confidence level")
 	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "bootstrap replicates of the shift (0 turns it off)")
@@ -103,8 +103,8 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 		}
 		o.CI = compare.CIHKSJ
 	}
-	if o.CI != compare.CIHKSJ && o.CI != compare.CIWald {
-		return flagErrorf("invalid --ci %q: valid values are hksj, wald", o.CI)
+	if err := checkCI(o.CI); err != nil {
+		return err
 	}
 	if !(o.Level > 0 && o.Level < 1) {
 		return flagErrorf("--level must lie between 0 and 1, not %v", o.Level)
@@ -121,6 +121,14 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 func (o *auditOptions) compareOptions() compare.Options {
 	return compare.Options{Level: o.Level, Tau2: analysis.Tau2Method(o.Tau2), CI: o.CI, Bootstrap: o.Bootstrap, Seed: o.Seed,
 		Harmonize: compare.HarmonizeOptions{Prefer: o.Prefer, AllowNonrandomized: o.AllowNonrandomized}}
+}
+
+// checkCI rejects an unknown --ci value, listing the valid ones.
+func checkCI(m string) error {
+	if compare.ValidCI(m) {
+		return nil
+	}
+	return flagErrorf("invalid --ci %q: valid values are %s", m, strings.Join(compare.CIMethods, ", "))
 }
 
 func checkTau2(m string) error {
@@ -148,6 +156,9 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	}
 	g.progressf("audit: run %d stored (seed %d)", run.RunID, opts.Seed)
 	for _, a := range audits {
+		if a.RegistrySearch.Note != "" {
+			g.progressf("%s: %s", a.ReviewID, a.RegistrySearch.Note)
+		}
 		for _, w := range a.Warnings {
 			g.progressf("%s: %s", a.ReviewID, w)
 		}
@@ -184,6 +195,9 @@ var auditColumns = []string{
 	"mid", "mid_crossed", "conclusion_changed", "tau2_change", "pi_width_change",
 	"missing_k", "missing_enrollment", "missing_share", "what_if_estimate", "what_if_significance_changed",
 	"discrepancies_flagged",
+	"few_studies", "augmented_ci_method", "published_random_p", "augmented_random_p",
+	"with_missed_publications_k", "with_missed_publications_estimate", "with_missed_publications_ci_low",
+	"with_missed_publications_ci_high", "with_missed_publications_shift", "registry_search",
 }
 
 func auditGrid(audits []compare.ReviewAudit, level float64) grid {
@@ -209,10 +223,22 @@ func auditGrid(audits []compare.ReviewAudit, level float64) grid {
 			fmt.Sprint(a.SignificanceChanged), fmt.Sprint(a.DirectionChanged),
 		}, auditExtraCSV(a)...))
 	}
-	g.Notes = append([]string{
+	var few []string
+	for _, a := range audits {
+		if a.FewStudies {
+			few = append(few, a.ReviewID)
+		}
+	}
+	notes := []string{
 		fmt.Sprintf("Estimates with %g%% confidence intervals on each review's measure (MD in the review's unit, SMD as Hedges' g).", 100*level),
-		"Shift = augmented - published random-effects estimate; relative = 100 shift / published; inflation = 100 (published - augmented) / augmented.",
-	}, cautions...)
+		"Random effects: published and augmented use the same interval method (ci_method in --format json/csv), its p-value from the same test.",
+		"Shift = augmented - published random-effects estimate; relative = 100 shift / published; inflation = 100 (published - augmented) / augmented; both '-' when the published interval includes 0 or the signs differ.",
+		"Augmented adds registry-only (unpublished) trials; trials published but missed by the review are pooled apart (see the second table).",
+	}
+	if len(few) > 0 {
+		notes = append(notes, "Fewer than 3 published studies, so Wald intervals throughout: "+strings.Join(few, ", ")+".")
+	}
+	g.Notes = append(notes, cautions...)
 	g.Extra = append(g.Extra, auditDetailTable(audits, level))
 	return g
 }
@@ -266,12 +292,19 @@ func auditExtraCSV(a compare.ReviewAudit) []string {
 			flagged++
 		}
 	}
+	var m compare.MissedAnalysis
+	mk := 0
+	if a.WithMissedPublications != nil {
+		m, mk = *a.WithMissedPublications, a.WithMissedPublications.K
+	}
 	return []string{
 		fullPtr(a.Shift.SDUnits), fullPtr(a.Shift.BootCILow), fullPtr(a.Shift.BootCIHigh), fmt.Sprint(a.Shift.BootFailed),
 		fullPtr(sg.Difference), fullPtr(sg.SE), fullPtr(sg.CILow), fullPtr(sg.CIHigh), fullPtr(sg.QBetween), fullPtr(sg.P),
-		fullPtr(a.MID), midCrossed, fmt.Sprint(a.ConclusionChanged), fullPtr(a.Tau2Change), fullPtr(piWidth),
+		fullPtr(a.MID), midCrossed, boolPtr(a.ConclusionChanged), fullPtr(a.Tau2Change), fullPtr(piWidth),
 		fmt.Sprint(a.Missing.K), fmt.Sprint(a.Missing.Enrollment), fullPtr(a.Missing.Share), fullPtr(wiEst), wiChanged,
 		fmt.Sprint(flagged),
+		fmt.Sprint(a.FewStudies), a.Augmented.Random.CIMethod, fullPtr(a.Published.Random.P), fullPtr(a.Augmented.Random.P),
+		fmt.Sprint(mk), fullPtr(m.Estimate), fullPtr(m.CILow), fullPtr(m.CIHigh), fullPtr(m.Shift), a.RegistrySearch.Status,
 	}
 }
 
@@ -279,7 +312,7 @@ func auditExtraCSV(a compare.ReviewAudit) []string {
 // uncertainty, conclusion changes and what is missing.
 func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
 	t := titled{Title: "Shift uncertainty, conclusions and missing evidence",
-		Header: []string{"review", "shift [bootstrap CI]", "registry - published [CI]", "Q-between p", "MID crossed", "conclusion changed", "tau² change", "missing trials (enrolment, share)", "null what-if", "discrepancies"}}
+		Header: []string{"review", "shift [bootstrap CI]", "registry - published [CI]", "Q-between p", "MID crossed", "conclusion changed", "tau² change", "missing trials (enrolment, share)", "null what-if", "with missed publications [CI]", "discrepancies"}}
 	for _, a := range audits {
 		boot := roundPtr(a.Shift.Absolute, 2)
 		if a.Shift.BootCILow != nil {
@@ -318,14 +351,24 @@ func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
 				flagged++
 			}
 		}
-		t.Rows = append(t.Rows, []string{a.ReviewID, boot, sub, subP, mid, yesNo(a.ConclusionChanged), roundPtr(a.Tau2Change, 3),
-			missing, whatIf, fmt.Sprintf("%d of %d flagged", flagged, len(a.Discrepancies))})
+		concl := "unknown (" + a.RegistrySearch.Status + ")"
+		if a.ConclusionChanged != nil {
+			concl = yesNo(*a.ConclusionChanged)
+		}
+		missed := "-"
+		if m := a.WithMissedPublications; m != nil {
+			missed = fmt.Sprintf("%s [%s, %s] (+%d)", roundPtr(m.Estimate, 2), roundPtr(m.CILow, 2), roundPtr(m.CIHigh, 2), m.KMissed)
+		}
+		t.Rows = append(t.Rows, []string{a.ReviewID, boot, sub, subP, mid, concl, roundPtr(a.Tau2Change, 3),
+			missing, whatIf, missed, fmt.Sprintf("%d of %d flagged", flagged, len(a.Discrepancies))})
 	}
 	t.Notes = []string{
 		fmt.Sprintf("Bootstrap: percentile %g%% interval, studies resampled within the published and registry subgroups.", 100*level),
 		"Registry - published: each subgroup pooled with its own tau²; Q-between with 1 df. Same sign as the shift.",
 		"Missing trials: linked as eligible with no results posted; share of all randomized participants counted. Null what-if: each imputed as effect 0.",
-		"Discrepancies: registry vs published value of the same trial beyond 0.1 SD or 10%; see --format json.",
+		"With missed publications: published studies plus accepted trials published but not in the review (a search gap, not publication bias), pooled apart from the registry-only trials.",
+		"Discrepancies: registry vs published value of the same trial beyond 0.1 SD; see --format json.",
+		"Conclusion changed is unknown where no registry trial was linked (run `unshelved match`) or every linked trial was rejected.",
 	}
 	return t
 }

@@ -26,12 +26,22 @@ var demoChecks = []struct {
 	tau2                          float64
 }{
 	{"TINN-01", "published", 8, -7.537827271880008, 0.8784441918580959, -7.6806429293689495, 0.9419192034815188, 0.6230806221015492},
-	{"TINN-01", "augmented", 12, -5.1523277813201664, 0.6619842159369544, -5.884827334584818, 1.0725342551337225, 7.259017218431714},
+	// TINN-01 augmented has 11 studies, not 12: NCT99000108 has a RESULT
+	// reference (published, missed by the review) and is pooled apart, in
+	// with_missed_publications (demoMissed).
+	{"TINN-01", "augmented", 11, -5.294011203956855, 0.6868351476521147, -6.183756190140619, 1.1603627526791886, 8.133562883214706},
 	{"GLUC-02", "published", 7, -0.8927804522856893, 0.10675756226243457, -0.8927804522856893, 0.10675756226243457, 0},
 	{"GLUC-02", "augmented", 10, -0.7022038801370305, 0.08409536688396839, -0.7343339326648767, 0.10625503359094324, 0.03457015238032012},
 	{"MOOD-03", "published", 7, -0.4261777083846583, 0.0671139928117482, -0.44652908027584454, 0.07708320423943205, 0.007631335169948431},
 	{"MOOD-03", "augmented", 10, -0.2733581418695152, 0.05109734740087717, -0.3258035803832743, 0.08004036327831955, 0.03300889203039122},
 }
+
+// demoMissed is TINN-01 with_missed_publications, from the same script:
+// the 8 published studies and NCT99000108, DerSimonian-Laird.
+var demoMissed = struct {
+	k            int
+	random, rndSE float64
+}{9, -7.3417069770203485, 0.9822547379113609}
 
 const demoTol = 1e-9 // two implementations of closed forms; rounding only
 
@@ -51,7 +61,7 @@ func TestDemo(t *testing.T) {
 	if !strings.Contains(stdout, "random (reml)") {
 		t.Errorf("demo table is not on the audit default (REML):\n%s", stdout)
 	}
-	for _, want := range []string{"-7.54 [", "-5.15 [", "-0.89 [", "-0.70 [", "-0.43 [", "-0.27 ["} {
+	for _, want := range []string{"-7.54 [", "-5.30 [", "-0.89 [", "-0.70 [", "-0.43 [", "-0.27 ["} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("demo table lacks the estimate %q:\n%s", want, stdout)
 		}
@@ -101,6 +111,32 @@ func TestDemo(t *testing.T) {
 			}
 		}
 	}
+	// The missed publication is pooled apart, with the published studies.
+	m, ok := byID["TINN-01"]["with_missed_publications"].(map[string]any)
+	if !ok {
+		t.Fatalf("TINN-01 has no with_missed_publications: %v", byID["TINN-01"]["with_missed_publications"])
+	}
+	if got, _ := m["k"].(float64); int(got) != demoMissed.k {
+		t.Errorf("with_missed_publications k = %v, want %d", m["k"], demoMissed.k)
+	}
+	for _, v := range []struct {
+		name string
+		want float64
+	}{{"estimate", demoMissed.random}, {"se", demoMissed.rndSE}, {"shift", demoMissed.random - demoChecks[0].random}} {
+		if got, ok := m[v.name].(float64); !ok || !scalar.EqualWithinAbsOrRel(got, v.want, demoTol, demoTol) {
+			t.Errorf("with_missed_publications %s = %v, want %.17g", v.name, m[v.name], v.want)
+		}
+	}
+	if trials, _ := m["trials"].([]any); len(trials) != 1 || trials[0].(map[string]any)["trial_id"] != "NCT99000108" ||
+		len(trials[0].(map[string]any)["pmids"].([]any)) != 1 || trials[0].(map[string]any)["pmids"].([]any)[0] != "99000031" {
+		t.Errorf("with_missed_publications trials = %v, want NCT99000108 with PMID 99000031", m["trials"])
+	}
+	for _, id := range []string{"GLUC-02", "MOOD-03"} {
+		if byID[id]["with_missed_publications"] != nil {
+			t.Errorf("%s has with_missed_publications %v, want null", id, byID[id]["with_missed_publications"])
+		}
+	}
+
 	// The shift follows from the two random-effects estimates.
 	for _, id := range []string{"TINN-01", "GLUC-02", "MOOD-03"} {
 		var pub, aug float64

@@ -232,3 +232,11 @@ func yesNo(b bool) string {
 	}
 	return "no"
 }
+
+// boolPtr writes an optional flag for CSV: true, false or empty for null.
+func boolPtr(b *bool) string {
+	if b == nil {
+		return ""
+	}
+	return fmt.Sprint(*b)
+}

@@ -21,6 +21,7 @@ type poolOptions struct {
 	Measure      string
 	Tau2         string
 	Level        float64
+	CI           string
 	TruncateHKSJ bool
 	Plots        []string
 	Unit         string
@@ -36,11 +37,14 @@ func newCmdPool(g *globals) *cobra.Command {
 study and either effect, se or treat_mean, treat_sd, treat_n, ctrl_mean,
 ctrl_sd, ctrl_n (review_id, registry_id, year and note are optional).
 
-Reports the fixed-effect estimate, Cochran's Q, I² and H², random-effects
-estimates under DerSimonian-Laird, Paule-Mandel and REML tau² with Wald and
-Hartung-Knapp-Sidik-Jonkman intervals (scale factor not truncated at 1
-unless --truncate-hksj), the prediction interval, the Q-profile interval of
-tau², and leave-one-out estimates.`,
+Reports the fixed-effect estimate, Cochran's Q, I² and H², the
+random-effects estimate with its interval and p-value from one test chosen
+by --ci (hksj: Hartung-Knapp-Sidik-Jonkman with the scale factor floored at
+1, the default; hksj-untruncated; wald; Wald with fewer than 3 studies),
+the Wald and HKSJ forms beside it, estimates under DerSimonian-Laird,
+Paule-Mandel and REML tau² (Wald), the prediction interval, the Q-profile
+interval of tau², and leave-one-out estimates (Wald). The forest plot
+draws the headline interval.`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.File = args[0]
@@ -54,6 +58,15 @@ tau², and leave-one-out estimates.`,
 			if !(opts.Level > 0 && opts.Level < 1) {
 				return flagErrorf("--level must lie between 0 and 1, not %v", opts.Level)
 			}
+			if err := checkCI(opts.CI); err != nil {
+				return err
+			}
+			if opts.TruncateHKSJ {
+				if cmd.Flags().Changed("ci") && opts.CI != compare.CIHKSJ {
+					return flagErrorf("--truncate-hksj contradicts --ci %s", opts.CI)
+				}
+				opts.CI = compare.CIHKSJ
+			}
 			for _, p := range opts.Plots {
 				if _, err := plotKind(p); err != nil {
 					return &flagError{err: err}
@@ -65,7 +78,8 @@ tau², and leave-one-out estimates.`,
 	cmd.Flags().StringVar(&opts.Measure, "measure", "MD", "effect measure for arm data: MD or SMD (Hedges' g)")
 	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator of the main random-effects result: reml, dl or pm")
 	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
-	cmd.Flags().BoolVar(&opts.TruncateHKSJ, "truncate-hksj", false, "floor the HKSJ scale factor at 1")
+	cmd.Flags().StringVar(&opts.CI, "ci", compare.CIHKSJ, "random-effects interval and its p-value: hksj (scale floored at 1), hksj-untruncated or wald")
+	cmd.Flags().BoolVar(&opts.TruncateHKSJ, "truncate-hksj", false, "same as --ci hksj, now the default (kept for older scripts)")
 	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write a plot: a file name containing funnel or forest, ending .svg, .png or .pdf (repeatable)")
 	cmd.Flags().StringVar(&opts.Unit, "unit", "", "unit of the measure, for plot axis labels (e.g. points)")
 	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plot")
@@ -89,7 +103,7 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 		return fmt.Errorf("%s of %s rejected; nothing pooled", countOf(len(bad), "row", "rows"), opts.File)
 	}
 	rep, err := compare.PoolStudies(studies, compare.PoolOptions{
-		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), TruncateHKSJ: opts.TruncateHKSJ,
+		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), CI: opts.CI,
 	})
 	if err != nil {
 		if strings.HasPrefix(err.Error(), opts.File+":") {
@@ -145,23 +159,37 @@ func poolGrid(r compare.PoolReport) grid {
 		Header: []string{"model", "estimate", "SE", "CI", "p", "tau²"},
 		Rows: [][]string{
 			{"fixed effect", roundPtr(r.Fixed.Estimate, 3), roundPtr(r.Fixed.SE, 3), ciCell(r.Fixed.CILow, r.Fixed.CIHigh), pPtr(r.Fixed.P), ""},
-			{"random (" + h.Tau2Method + "), Wald", roundPtr(r.Random.Estimate, 3), roundPtr(r.Random.SE, 3), ciCell(r.Random.CILow, r.Random.CIHigh), pPtr(r.Random.P), roundPtr(h.Tau2, 4)},
-			{"random (" + h.Tau2Method + "), HKSJ", roundPtr(r.Random.Estimate, 3), "", ciCell(r.Random.HKSJCILow, r.Random.HKSJCIHigh), "", ""},
+			{"random (" + h.Tau2Method + "), " + ciLabel(r.Random.CIMethod), roundPtr(r.Random.Estimate, 3), roundPtr(r.Random.SE, 3), ciCell(r.Random.CILow, r.Random.CIHigh), pPtr(r.Random.P), roundPtr(h.Tau2, 4)},
 		},
+	}
+	// The other forms, each with the p of its own test.
+	hksjForm := compare.CIHKSJ
+	if r.Random.CIMethod == compare.CIHKSJUntruncated {
+		hksjForm = compare.CIHKSJUntruncated
+	}
+	if r.Random.CIMethod != compare.CIWald {
+		models.Rows = append(models.Rows, []string{"random (" + h.Tau2Method + "), " + ciLabel(compare.CIWald), roundPtr(r.Random.Estimate, 3), roundPtr(r.Random.WaldSE, 3),
+			ciCell(r.Random.WaldCILow, r.Random.WaldCIHigh), pPtr(r.Random.WaldP), ""})
+	} else if r.K >= 2 {
+		models.Rows = append(models.Rows, []string{"random (" + h.Tau2Method + "), " + ciLabel(hksjForm), roundPtr(r.Random.Estimate, 3), roundPtr(r.Random.HKSJSE, 3),
+			ciCell(r.Random.HKSJCILow, r.Random.HKSJCIHigh), pPtr(r.Random.HKSJP), ""})
 	}
 	for _, m := range []string{"dl", "pm", "reml"} {
 		x := r.RandomByMethod[m]
-		models.Rows = append(models.Rows, []string{"random (" + m + ")", roundPtr(x.Estimate, 3), roundPtr(x.SE, 3), ciCell(x.CILow, x.CIHigh), "", roundPtr(x.Tau2, 4)})
+		models.Rows = append(models.Rows, []string{"random (" + m + "), Wald", roundPtr(x.Estimate, 3), roundPtr(x.SE, 3), ciCell(x.CILow, x.CIHigh), "", roundPtr(x.Tau2, 4)})
 	}
 	models.Notes = []string{
 		fmt.Sprintf("Between-study variation: tau² (%s) = %s, %s CI %s (Q-profile); I² = %s%%, H² = %s; Q = %s with %d df (p = %s)",
 			h.Tau2Method, roundPtr(h.Tau2, 4), pct(r.Level), ciCell(h.Tau2CILow, h.Tau2CIHigh), roundPtr(h.I2, 1), roundPtr(h.H2, 2), roundPtr(h.Q, 2), h.DF, pPtr(h.QP)),
 		fmt.Sprintf("Prediction interval (%s): %s", pct(r.Level), ciCell(r.Random.PILow, r.Random.PIHigh)),
-		"The HKSJ scale factor is not truncated at 1 unless --truncate-hksj is given.",
+		"The first random-effects row is the headline (--ci); its interval and p come from the same test, as in the forest plot.",
+	}
+	if r.Random.FewStudies {
+		models.Notes = append(models.Notes, "Fewer than 3 studies: the headline uses the Wald interval whatever --ci asks.")
 	}
 	g.Extra = append(g.Extra, models)
 	if len(r.LeaveOneOut) > 0 {
-		loo := titled{Title: "Leave one out (random effects, " + h.Tau2Method + ")", Header: []string{"omitted", "estimate", "CI", "tau²", "I² %"}}
+		loo := titled{Title: "Leave one out (random effects, " + h.Tau2Method + ", Wald)", Header: []string{"omitted", "estimate", "CI", "tau²", "I² %"}}
 		for _, l := range r.LeaveOneOut {
 			loo.Rows = append(loo.Rows, []string{l.Omitted, roundPtr(l.Estimate, 3), ciCell(l.CILow, l.CIHigh), roundPtr(l.Tau2, 4), roundPtr(l.I2, 1)})
 		}
@@ -179,6 +207,17 @@ func poolGrid(r compare.PoolReport) grid {
 		g.Extra = append(g.Extra, w)
 	}
 	return g
+}
+
+// ciLabel names an interval method in table rows.
+func ciLabel(m string) string {
+	switch m {
+	case compare.CIHKSJ:
+		return "HKSJ (floored at 1)"
+	case compare.CIHKSJUntruncated:
+		return "HKSJ (untruncated)"
+	}
+	return "Wald"
 }
 
 func pct(level float64) string { return fmt.Sprintf("%g%%", 100*level) }

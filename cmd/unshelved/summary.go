@@ -45,8 +45,8 @@ and seed. --run N shows a stored summary instead of computing one;
 			if opts.audit.HKSJ {
 				opts.audit.CI = compare.CIHKSJ
 			}
-			if opts.audit.CI != compare.CIHKSJ && opts.audit.CI != compare.CIWald {
-				return flagErrorf("invalid --ci %q: valid values are hksj, wald", opts.audit.CI)
+			if err := checkCI(opts.audit.CI); err != nil {
+				return err
 			}
 			if opts.Truth != compare.TruthThreshold && opts.Truth != compare.TruthQBetween {
 				return flagErrorf("invalid --truth %q: valid values are threshold, q-between", opts.Truth)

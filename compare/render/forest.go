@@ -147,6 +147,9 @@ func ShiftSentence(a compare.ReviewAudit) string {
 	if !strings.EqualFold(a.Measure, "SMD") && strings.TrimSpace(a.Unit) != "" {
 		unit = " " + strings.TrimSpace(a.Unit)
 	}
+	if a.KAdded == 0 && a.RegistrySearch.Note != "" {
+		return "No registry evidence was compared: " + a.RegistrySearch.Note + "."
+	}
 	if a.KAdded == 0 {
 		if p == nil {
 			return "No registry-only trial was added; the pooled " + noun + " could not be estimated."

@@ -60,6 +60,8 @@ var tmplFuncs = template.FuncMap{
 		return "no"
 	},
 	"trialURL": trialURL,
+	"pmidURL":  pmidURL,
+	"ciName":   ciName,
 	"inputs":   derivationInputs,
 	"deref2":   func(b *bool) bool { return b != nil && *b },
 	"derefInt": func(p *int) int { return *p },
@@ -117,6 +119,30 @@ func trialURL(id string) template.URL {
 	return ""
 }
 
+var pmidDigits = regexp.MustCompile(`^[0-9]{1,9}$`)
+
+// pmidURL is the PubMed page of a PMID, or "" when it is not a number.
+func pmidURL(pmid string) template.URL {
+	pmid = strings.TrimSpace(pmid)
+	if pmidDigits.MatchString(pmid) {
+		return template.URL("https://pubmed.ncbi.nlm.nih.gov/" + pmid + "/")
+	}
+	return ""
+}
+
+// ciName names an interval method for people.
+func ciName(m string) string {
+	switch m {
+	case compare.CIHKSJ:
+		return "Hartung-Knapp-Sidik-Jonkman, scale factor floored at 1 (t on k - 1 df)"
+	case compare.CIHKSJUntruncated:
+		return "Hartung-Knapp-Sidik-Jonkman, untruncated (t on k - 1 df)"
+	case compare.CIWald:
+		return "Wald (normal)"
+	}
+	return m
+}
+
 func derivationInputs(vs []analysis.NamedValue) string {
 	parts := make([]string, len(vs))
 	for i, v := range vs {
@@ -134,6 +160,7 @@ type pageData struct {
 	Shift     string
 	Verdict   []string
 	Changes   bool
+	WhatIf    string
 	Forest    template.HTML
 	Funnel    template.HTML
 	Published []studyRow
@@ -162,6 +189,7 @@ type indexData struct {
 	Cautions  []string
 	Generated string
 	Changed   int
+	Unknown   int
 }
 
 type indexRow struct {
@@ -170,6 +198,10 @@ type indexRow struct {
 	Shift   string
 	Changes bool
 }
+
+// Unknown reports whether the row's conclusion change is unknown (no
+// registry trial linked or none eligible).
+func (r indexRow) Unknown() bool { return r.A.ConclusionChanged == nil }
 
 // reportCautions are the cautions every page carries.
 var reportCautions = []string{
@@ -180,10 +212,17 @@ var reportCautions = []string{
 }
 
 func methodsFor(a compare.ReviewAudit) []method {
-	ci := "Wald interval of the random-effects estimate."
-	if a.Published.Random.CIMethod == "hksj" {
-		ci = "Random-effects interval by Hartung-Knapp-Sidik-Jonkman: Hartung J, Knapp G. Stat Med 2001;20:3875-89; Sidik K, Jonkman JN. Stat Med 2002;21:3153-9."
+	ci := "Wald (normal) interval of the random-effects estimate; its p-value from the same normal test."
+	switch a.Published.Random.CIMethod {
+	case compare.CIHKSJ:
+		ci = "Random-effects interval by Hartung-Knapp-Sidik-Jonkman with the scale factor floored at 1, so never narrower than the Wald interval, and its p-value from the same t test on k - 1 df: Hartung J, Knapp G. Stat Med 2001;20:3875-89; Sidik K, Jonkman JN. Stat Med 2002;21:3153-9; Röver C, Knapp G, Friede T. BMC Med Res Methodol 2015;15:99."
+	case compare.CIHKSJUntruncated:
+		ci = "Random-effects interval by Hartung-Knapp-Sidik-Jonkman without a floor on the scale factor (it can be narrower than the Wald interval), and its p-value from the same t test on k - 1 df: Hartung J, Knapp G. Stat Med 2001;20:3875-89; Sidik K, Jonkman JN. Stat Med 2002;21:3153-9."
 	}
+	if a.FewStudies {
+		ci = "Fewer than " + strconv.Itoa(compare.MinStudiesHKSJ) + " published studies, so every analysis of this review uses the Wald (normal) interval, with its p-value from the same normal test (the Hartung-Knapp-Sidik-Jonkman interval rests on k - 1 degrees of freedom and would differ in method between the analyses compared)."
+	}
+	ci += " The published-only, augmented and other analyses of a review always use the same interval method."
 	tau := "DerSimonian R, Laird N. Meta-analysis in clinical trials. Control Clin Trials 1986;7:177-88."
 	switch a.Published.Random.Tau2Method {
 	case string(analysis.Tau2REML):
@@ -193,7 +232,7 @@ func methodsFor(a compare.ReviewAudit) []method {
 	}
 	return []method{
 		{"Random-effects pooling (tau² estimator " + strings.ToUpper(a.Published.Random.Tau2Method) + "), fixed effect by inverse variance", tau},
-		{"Confidence interval of the pooled estimate", ci + " (Hartung & Knapp 2001 and Sidik & Jonkman 2002 describe the alternative interval the audit offers with --hksj.)"},
+		{"Confidence interval and p-value of the pooled estimate", ci + " The audit offers --ci hksj (the default), hksj-untruncated and wald."},
 		{"Prediction interval for the effect in a new study", "Higgins JPT, Thompson SG, Spiegelhalter DJ. A re-evaluation of random-effects meta-analysis. J R Stat Soc A 2009;172:137-59."},
 		{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."},
 		{"Rank correlation test (Begg & Mazumdar 1994)", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
@@ -218,8 +257,17 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 		}
 		return "includes no effect"
 	}
+	switch a.RegistrySearch.Status {
+	case compare.SearchNotLinked:
+		return []string{"No registry trials were linked: run `unshelved match`. Without a registry search nothing can be said about unpublished trials; this is not evidence that there are none.",
+			"Published-only: the " + lv + " interval " + sig(a.Published.Random) + "."}
+	case compare.SearchNoneEligible:
+		return []string{capitalize(a.RegistrySearch.Note) + ": every linked trial was rejected, so no registry evidence was compared.",
+			"Published-only: the " + lv + " interval " + sig(a.Published.Random) + "."}
+	}
 	if a.KAdded == 0 {
-		return []string{"No registry-only trial could be added, so the published-only conclusion stands as it is; the " + lv + " interval " + sig(a.Published.Random) + "."}
+		out = append(out, "No registry-only trial could be added, so the published-only and augmented analyses are the same; the "+lv+" interval "+sig(a.Published.Random)+".")
+		return append(out, missingSentence(a)...)
 	}
 	if a.SignificanceChanged {
 		out = append(out, "The conclusion about significance changes: the published-only "+lv+" interval "+sig(a.Published.Random)+", the interval with registry trials "+sig(a.Augmented.Random)+".")
@@ -245,17 +293,7 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 	if a.Shift.BootCILow != nil && a.Shift.BootCIHigh != nil {
 		out = append(out, "Bootstrap "+lv+" interval of the shift: "+fmtFixed(*a.Shift.BootCILow, 2)+" to "+fmtFixed(*a.Shift.BootCIHigh, 2)+".")
 	}
-	if m := a.Missing; m.K > 0 {
-		t := fmt.Sprintf("%d registered eligible %s posted no results", m.K, map[bool]string{true: "trial", false: "trials"}[m.K == 1])
-		if m.Enrollment > 0 {
-			t += fmt.Sprintf(" (%d participants enrolled", m.Enrollment)
-			if m.Share != nil {
-				t += fmt.Sprintf(", %s%% of all randomized", fmtFixed(100**m.Share, 0))
-			}
-			t += ")"
-		}
-		out = append(out, t+"; their evidence is still missing.")
-	}
+	out = append(out, missingSentence(a)...)
 	switch a.Shift.Toward {
 	case "benefit":
 		out = append(out, "The fuller evidence looks more favourable to the intervention than the published studies alone ("+betterText(a.Better)+").")
@@ -263,6 +301,57 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 		out = append(out, "The fuller evidence looks less favourable to the intervention than the published studies alone ("+betterText(a.Better)+").")
 	}
 	return out
+}
+
+// missingSentence states the registered trials without results, if any.
+func missingSentence(a compare.ReviewAudit) []string {
+	m := a.Missing
+	if m.K == 0 {
+		return nil
+	}
+	t := fmt.Sprintf("%d registered eligible %s posted no results", m.K, map[bool]string{true: "trial", false: "trials"}[m.K == 1])
+	if m.Enrollment > 0 {
+		t += fmt.Sprintf(" (%d participants enrolled", m.Enrollment)
+		if m.Share != nil {
+			t += fmt.Sprintf(", %s%% of all randomized", fmtFixed(100**m.Share, 0))
+		}
+		t += ")"
+	}
+	return []string{t + "; their evidence is still missing."}
+}
+
+// WhatIfSentence states the null-imputation what-if against the augmented
+// analysis it re-pools ("" when there is none): the interval "still"
+// excludes or includes no effect when it agrees with the augmented one,
+// "no longer" excludes it when the imputations remove significance, and
+// "now" excludes it when they bring significance.
+func WhatIfSentence(a compare.ReviewAudit) string {
+	w := a.Missing.WhatIf
+	if w == nil || w.Estimate == nil || w.CILow == nil || w.CIHigh == nil {
+		return ""
+	}
+	aug := a.Augmented.Random
+	augSig := aug.CILow != nil && aug.CIHigh != nil && (*aug.CILow > 0 || *aug.CIHigh < 0)
+	var how string
+	switch {
+	case w.Significant && augSig:
+		how = "still excluding no effect, like the analysis with registry trials"
+	case w.Significant:
+		how = "now excluding no effect, unlike the analysis with registry trials (the imputed trials narrow the interval)"
+	case augSig:
+		how = "no longer excluding no effect, unlike the analysis with registry trials"
+	default:
+		how = "still including no effect, like the analysis with registry trials"
+	}
+	return fmt.Sprintf("What if each of them had found no effect (effect 0, SE from its enrolment and a pooled SD of %s): the pooled estimate would be %s [%s, %s], %s.",
+		fmt2(w.SD), fmt2(w.Estimate), fmt2(w.CILow), fmt2(w.CIHigh), how)
+}
+
+func capitalize(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
 }
 
 func betterText(b string) string {
@@ -297,7 +386,7 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 		level = 0.95
 	}
 	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a),
-		Verdict: verdict(a, level), Changes: a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged, Bias: a.Bias,
+		Verdict: verdict(a, level), Changes: changes(a), WhatIf: WhatIfSentence(a), Bias: a.Bias,
 		Methods: methodsFor(a), Cautions: reportCautions, Generated: opts.Generated, Index: index}
 	if rv, ok := opts.Reviews[a.ReviewID]; ok {
 		d.Review = &rv
@@ -383,9 +472,12 @@ func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (
 		if err := writeFile(filepath.Join(dir, name), func(w io.Writer) error { return ReviewPage(w, a, opts, "index.html") }); err != nil {
 			return "", err
 		}
-		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged}
+		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: changes(a)}
 		if row.Changes {
 			idx.Changed++
+		}
+		if row.Unknown() {
+			idx.Unknown++
 		}
 		idx.Rows = append(idx.Rows, row)
 	}
@@ -394,6 +486,12 @@ func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (
 		return "", err
 	}
 	return indexPath, nil
+}
+
+// changes reports whether a review's page is marked as changing a
+// conclusion.
+func changes(a compare.ReviewAudit) bool {
+	return a.ConclusionChanged != nil && *a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged
 }
 
 func writeFile(path string, fill func(io.Writer) error) (err error) {

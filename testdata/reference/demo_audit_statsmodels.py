@@ -3,7 +3,9 @@
 
 Re-implements, from the handbook formulas and without any unshelved code,
 the conversion of the demo's published studies and accepted registry links
-into effects, and pools them with Debian's python3-statsmodels 0.13.5
+into effects, and pools them (published alone, with the registry-only
+trials, and with the trials published but not in the review: those whose
+record has a RESULT reference) with Debian's python3-statsmodels 0.13.5
 (statsmodels.stats.meta_analysis.combine_effects, method_re="dl").
 
 Formulas (Cochrane Handbook ch. 6; Borenstein et al. 2009 ch. 4):
@@ -140,7 +142,7 @@ def main():
                 t = (int(s["treat_n"]), float(s["treat_mean"]), float(s["treat_sd"]))
                 c = (int(s["ctrl_n"]), float(s["ctrl_mean"]), float(s["ctrl_sd"]))
                 pub.append(effect(rv["measure"], t, c))
-        added = []
+        added, missed = [], []
         for l in links:
             if l["review_id"] != rid or l["decision"] != "accept":
                 continue
@@ -158,8 +160,18 @@ def main():
             e, se = effect(rv["measure"], t, c)
             if l["flip"] == "yes":
                 e = -e
-            added.append((e, se))
-        for name, data in (("published", pub), ("augmented", pub + added)):
+            # A trial whose record lists a RESULT reference is published;
+            # missed by the review it is a search gap, not publication
+            # bias, and is pooled apart from the registry-only trials.
+            refs = rec["protocolSection"].get("referencesModule", {}).get("references", [])
+            if any(r.get("type") == "RESULT" for r in refs):
+                missed.append((e, se))
+            else:
+                added.append((e, se))
+        sets = [("published", pub), ("augmented", pub + added)]
+        if missed:
+            sets.append(("with_missed_publications", pub + missed))
+        for name, data in sets:
             eff = np.array([x[0] for x in data])
             var = np.array([x[1] ** 2 for x in data])
             res = combine_effects(eff, var, method_re="dl")
