@@ -281,13 +281,13 @@ type Rejected struct {
 
 // ReviewAudit is the result of auditing one review.
 type ReviewAudit struct {
-	ReviewID            string `json:"review_id"`
-	Title               string `json:"title"`
-	Measure             string `json:"measure"`
-	Unit                string `json:"unit"`
-	Better              string `json:"better"`
-	KPublished          int    `json:"k_published"`
-	KAdded              int    `json:"k_added"`
+	ReviewID   string `json:"review_id"`
+	Title      string `json:"title"`
+	Measure    string `json:"measure"`
+	Unit       string `json:"unit"`
+	Better     string `json:"better"`
+	KPublished int    `json:"k_published"`
+	KAdded     int    `json:"k_added"`
 	// Published is the published studies alone; Augmented adds the
 	// registry-only (unpublished) trials, so Shift is the
 	// publication-bias shift. Trials published but missed by the review
@@ -932,14 +932,14 @@ func finishRun(db *store.DB, runID int64, ctx context.Context, err error) error 
 
 // optionsRecord is Options as stored with a run.
 type optionsRecord struct {
-	Level          float64 `json:"level"`
-	Tau2           string  `json:"tau2"`
-	CI             string  `json:"ci"`
-	Bootstrap      int     `json:"bootstrap"`
-	Seed           uint64  `json:"seed"`
-	SkipBias       bool    `json:"skip_bias"`
-	SkipSelection  bool    `json:"skip_selection"`
-	DiscrepancySD  float64 `json:"discrepancy_sd_units"`
+	Level         float64 `json:"level"`
+	Tau2          string  `json:"tau2"`
+	CI            string  `json:"ci"`
+	Bootstrap     int     `json:"bootstrap"`
+	Seed          uint64  `json:"seed"`
+	SkipBias      bool    `json:"skip_bias"`
+	SkipSelection bool    `json:"skip_selection"`
+	DiscrepancySD float64 `json:"discrepancy_sd_units"`
 }
 
 func (o Options) record() optionsRecord {

@@ -13,9 +13,9 @@ import (
 
 // PoolOptions control PoolStudies.
 type PoolOptions struct {
-	Measure      string              // MD or SMD; zero means MD
-	Level        float64             // zero means 0.95
-	Tau2         analysis.Tau2Method // zero means REML
+	Measure string              // MD or SMD; zero means MD
+	Level   float64             // zero means 0.95
+	Tau2    analysis.Tau2Method // zero means REML
 	// CI is the interval and p of the headline random-effects result:
 	// CIHKSJ (zero; floored at 1), CIHKSJUntruncated or CIWald. With fewer
 	// than MinStudiesHKSJ studies the headline uses Wald (FewStudies).

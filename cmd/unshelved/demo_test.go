@@ -39,7 +39,7 @@ var demoChecks = []struct {
 // demoMissed is TINN-01 with_missed_publications, from the same script:
 // the 8 published studies and NCT99000108, DerSimonian-Laird.
 var demoMissed = struct {
-	k            int
+	k             int
 	random, rndSE float64
 }{9, -7.3417069770203485, 0.9822547379113609}
 
