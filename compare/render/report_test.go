@@ -119,3 +119,101 @@ func TestPageName(t *testing.T) {
 		}
 	}
 }
+
+func fptr(x float64) *float64 { return &x }
+
+// The what-if wording follows the comparison with the augmented analysis
+// it re-pools: "still" only when nothing changed, "no longer" only when
+// significance was lost, "now" when the imputations brought it.
+func TestWhatIfWording(t *testing.T) {
+	sig, null := compare.Estimate{CILow: fptr(-0.9), CIHigh: fptr(-0.1)}, compare.Estimate{CILow: fptr(-0.5), CIHigh: fptr(0.1)}
+	for _, c := range []struct {
+		aug       compare.Estimate
+		whatIfSig bool
+		want      string
+	}{
+		{sig, true, "still excluding no effect"},
+		{sig, false, "no longer excluding no effect"},
+		{null, true, "now excluding no effect"},
+		{null, false, "still including no effect"},
+	} {
+		var a compare.ReviewAudit
+		a.Augmented.Random = c.aug
+		lo, hi := -0.3, 0.2
+		if c.whatIfSig {
+			hi = -0.05
+		}
+		a.Missing.WhatIf = &compare.WhatIf{SD: fptr(1), Estimate: fptr((lo + hi) / 2), CILow: &lo, CIHigh: &hi, Significant: c.whatIfSig}
+		got := WhatIfSentence(a)
+		if !strings.Contains(got, c.want) {
+			t.Errorf("augmented [%v, %v], what-if significant %v: %q lacks %q", *c.aug.CILow, *c.aug.CIHigh, c.whatIfSig, got, c.want)
+		}
+		for _, other := range []string{"still excluding", "no longer excluding", "now excluding", "still including"} {
+			if other != c.want[:len(other)] && strings.Contains(got, other) {
+				t.Errorf("%q also says %q", got, other)
+			}
+		}
+	}
+}
+
+// A review with no registry links says so on its page and in the index,
+// and never that the published conclusion stands.
+func TestReportNoRegistrySearch(t *testing.T) {
+	a := loadDemoAudits(t)[0]
+	a.KAdded, a.Studies, a.Subgroup, a.ConclusionChanged = 0, a.Studies[:a.KPublished], nil, nil
+	a.SignificanceChanged, a.DirectionChanged = false, false
+	a.Augmented = a.Published
+	a.RegistrySearch = compare.RegistrySearch{Status: compare.SearchNotLinked, Note: "no registry trials were linked: run `unshelved match`"}
+	dir := t.TempDir()
+	if _, err := WriteReport(dir, []compare.ReviewAudit{a}, ReportOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(dir, PageName(a.ReviewID)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	idx, err := os.ReadFile(filepath.Join(dir, "index.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, s := range map[string]string{"page": string(page), "index": string(idx)} {
+		if !strings.Contains(s, "no registry trials were linked: run `unshelved match`") {
+			t.Errorf("%s lacks the no-links note", name)
+		}
+		if strings.Contains(s, "conclusion stands") {
+			t.Errorf("%s says the conclusion stands", name)
+		}
+	}
+	if !strings.Contains(string(idx), "not known") {
+		t.Errorf("index does not say the change is not known")
+	}
+}
+
+// The demo's missed publication is shown apart, labelled and linked to
+// PubMed; the registry-only table does not list it.
+func TestReportMissedPublications(t *testing.T) {
+	var a compare.ReviewAudit
+	for _, x := range loadDemoAudits(t) {
+		if x.WithMissedPublications != nil {
+			a = x
+		}
+	}
+	if a.ReviewID == "" {
+		t.Fatal("no demo audit has missed publications")
+	}
+	var buf bytes.Buffer
+	if err := ReviewPage(&buf, a, ReportOptions{}, ""); err != nil {
+		t.Fatal(err)
+	}
+	s := buf.String()
+	for _, want := range []string{"Published but not in the review", "published but not in the review",
+		`href="https://pubmed.ncbi.nlm.nih.gov/99000031/"`, "With trials published but not in the review"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("%s page lacks %q", a.ReviewID, want)
+		}
+	}
+	added := s[strings.Index(s, "<h2>Registry-only trials added</h2>"):strings.Index(s, "<h2>Published but not in the review</h2>")]
+	if strings.Contains(added, "NCT99000108") {
+		t.Errorf("the missed publication is listed among the registry-only trials")
+	}
+}
