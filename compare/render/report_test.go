@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"unshelved/compare"
+	"unshelved/ingest"
 )
 
 // loadDemoAudits reads testdata/demo-audit.json: the audit JSON of the
@@ -215,5 +216,30 @@ func TestReportMissedPublications(t *testing.T) {
 	added := s[strings.Index(s, "<h2>Registry-only trials added</h2>"):strings.Index(s, "<h2>Published but not in the review</h2>")]
 	if strings.Contains(added, "NCT99000108") {
 		t.Errorf("the missed publication is listed among the registry-only trials")
+	}
+}
+
+// The report's pooled table printed the Wald p (0.030) beside the HKSJ
+// interval for the issue-13 example; it now prints the HKSJ t-test p,
+// 0.124 (testdata/reference/ci_p_consistency.txt, scipy 1.10.1).
+func TestReportPFromIntervalTest(t *testing.T) {
+	in := compare.AuditInput{Review: ingest.Review{ReviewID: "EX", Measure: "MD", Better: "higher"}}
+	for i, es := range [][2]float64{{0.10, 0.12}, {0.32, 0.15}, {0.05, 0.10}, {0.40, 0.20}} {
+		e, se := es[0], es[1]
+		in.Studies = append(in.Studies, ingest.ReviewStudy{ReviewID: "EX", Study: string(rune('A' + i)), Effect: &e, SE: &se})
+	}
+	a, err := compare.AuditReview(in, compare.Options{SkipBias: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := ReviewPage(&buf, a, ReportOptions{}, ""); err != nil {
+		t.Fatal(err)
+	}
+	s := buf.String()
+	row := s[strings.Index(s, "<td>Published only</td>"):]
+	row = row[:strings.Index(row, "</tr>")]
+	if !strings.Contains(row, "[\u22120.08, 0.41]") || !strings.Contains(row, ">0.124<") || strings.Contains(row, "0.030") {
+		t.Errorf("published row %q: want the HKSJ interval [−0.08, 0.41] with p 0.124", row)
 	}
 }
