@@ -130,7 +130,8 @@ type Estimate struct {
 	CILow    *float64 `json:"ci_low"`
 	CIHigh   *float64 `json:"ci_high"`
 	P        *float64 `json:"p"`
-	// Random-effects only.
+	// CIMethod names the test behind CILow, CIHigh and P (CIWald for
+	// the fixed effect). Random-effects only: Tau2Method and Tau2.
 	Tau2Method string   `json:"tau2_method,omitempty"`
 	Tau2       *float64 `json:"tau2,omitempty"`
 	CIMethod   string   `json:"ci_method,omitempty"`

@@ -21,7 +21,8 @@ type Missing struct {
 	NoEnrollment int `json:"no_enrollment"`
 	// Randomized is the denominator of Share:
 	//
-	//	published arm Ns + added trials' arm Ns + missing enrolment
+	//	published arm Ns + added trials' arm Ns + missed publications'
+	//	arm Ns + missing enrolment
 	//
 	// Published studies given only as effect and SE carry no N; they add
 	// nothing and are counted in PublishedWithoutN.
@@ -107,6 +108,11 @@ func missingOf(rv ingest.Review, a ReviewAudit, links []ingest.Link, trials map[
 			m.PublishedWithoutN++
 		}
 		m.Randomized += s.TreatN + s.CtrlN
+	}
+	if w := a.WithMissedPublications; w != nil {
+		for _, t := range w.Trials {
+			m.Randomized += t.TreatN + t.CtrlN
+		}
 	}
 	m.Randomized += m.Enrollment
 	if m.K > 0 && m.Randomized > 0 {

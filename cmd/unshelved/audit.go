@@ -41,11 +41,17 @@ the published estimate overstates the augmented one) and in units of the
 published-only standard error, with whether significance, direction or
 the review's minimal important difference changed; the published vs
 registry-only subgroup test; a seeded bootstrap interval of the shift;
-registered trials without results and a null-imputation what-if; and
-published vs registry values of trials in both. An accepted registry trial
-whose effect and group sizes match a published study of the same review is
-left out, with a warning naming both, unless its link's decision is
-accept-duplicate.
+registered trials without results and a null-imputation what-if; the
+trials published but missed by the review, pooled apart (a search gap, not
+publication bias); and published vs registry values of trials in both. An
+accepted registry trial whose effect and group sizes match a published
+study of the same review is left out, with a warning naming both, unless
+its link's decision is accept-duplicate.
+
+Every random-effects interval and its p come from one test (--ci), the
+same for all analyses of a review; with fewer than 3 published studies
+that test is Wald. A review with no registry trial linked is reported on
+stderr and its conclusion change is unknown (null).
 
 Every run is stored in the workspace (kind audit) with its options, the
 tool version and the seed. --explain TRIAL shows how one registry trial's
