@@ -335,13 +335,13 @@ func WhatIfSentence(a compare.ReviewAudit) string {
 	var how string
 	switch {
 	case w.Significant && augSig:
-		how = "still excluding no effect, like the analysis with registry trials"
+		how = "still excluding no effect, like the analysis with registry-only trials"
 	case w.Significant:
-		how = "now excluding no effect, unlike the analysis with registry trials (the imputed trials narrow the interval)"
+		how = "now excluding no effect, unlike the analysis with registry-only trials (the imputed trials narrow the interval)"
 	case augSig:
-		how = "no longer excluding no effect, unlike the analysis with registry trials"
+		how = "no longer excluding no effect, unlike the analysis with registry-only trials"
 	default:
-		how = "still including no effect, like the analysis with registry trials"
+		how = "still including no effect, like the analysis with registry-only trials"
 	}
 	return fmt.Sprintf("What if each of them had found no effect (effect 0, SE from its enrolment and a pooled SD of %s): the pooled estimate would be %s [%s, %s], %s.",
 		fmt2(w.SD), fmt2(w.Estimate), fmt2(w.CILow), fmt2(w.CIHigh), how)
