@@ -217,6 +217,22 @@ func TestStatedSign(t *testing.T) {
 			}
 		})
 	}
+	// One title inside the other (an active ointment and its vehicle).
+	o = &ingest.Outcome{Groups: []ingest.Group{{ID: "OG000", Title: "ACU-D1 Ointment"}, {ID: "OG001", Title: "ACU-D1 Ointment Vehicle"}}}
+	for _, tc := range []struct {
+		name string
+		a    ingest.Analysis
+		want float64
+	}{
+		{"active first", ingest.Analysis{EstimateComment: "ACU-D1 Ointment - ACU-D1 Ointment Vehicle"}, 1},
+		{"vehicle first", ingest.Analysis{EstimateComment: "ACU-D1 Ointment Vehicle minus ACU-D1 Ointment"}, -1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if got, _, _ := statedSign(o, tc.a, "OG000", "OG001"); got != tc.want {
+				t.Errorf("sign %v, want %v", got, tc.want)
+			}
+		})
+	}
 }
 
 // TestSMDSaysWhichSD: an SMD review standardises by the arms' SD and the

@@ -588,6 +588,10 @@ func namesGroup(side, title, other string, experimental bool) bool {
 	if title == "" {
 		return false
 	}
+	if other != title && strings.Contains(other, title) && strings.Contains(side, other) {
+		// "Ointment Vehicle" names the vehicle group, not "Ointment".
+		return false
+	}
 	if strings.Contains(side, " "+title+" ") || strings.Contains(side, title) && len(title) > 3 {
 		return true
 	}
