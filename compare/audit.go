@@ -50,13 +50,12 @@ func ValidCI(m string) bool {
 // between the two analyses would itself move significance.
 const MinStudiesHKSJ = 3
 
-// DefaultSeed is the bootstrap seed the command line uses when --seed is
-// not given, so that reruns are byte-identical. (Options.Seed is used as
-// given, zero included.)
+// DefaultSeed is the seed the command line records when --seed is not
+// given. (Options.Seed is used as given, zero included.)
 const DefaultSeed uint64 = 20260101
 
 // Options control an audit. The zero value is a 95% level with REML
-// random effects, Hartung-Knapp-Sidik-Jonkman intervals and no bootstrap.
+// random effects and Hartung-Knapp-Sidik-Jonkman intervals.
 type Options struct {
 	Level float64             // confidence level; zero means 0.95
 	Tau2  analysis.Tau2Method // zero means REML
@@ -70,12 +69,11 @@ type Options struct {
 	// SkipBias leaves out the publication-bias battery; SkipSelection only
 	// its selection model (the slowest part).
 	SkipBias, SkipSelection bool
-	// Bootstrap is the number of bootstrap replicates of the shift; zero
-	// turns the bootstrap off.
+	// Bootstrap is kept for older callers and recorded with the run; it
+	// has no effect since the shift interval became analytic
+	// (analysis.ShiftInterval).
 	Bootstrap int
-	// Seed seeds the bootstrap. Each review draws from its own PCG stream
-	// keyed by Seed and a hash of its review id, so results do not depend
-	// on the order or the parallelism in which reviews are audited.
+	// Seed is recorded with the run; no method draws random numbers.
 	Seed uint64
 	// Tolerance for outcome-reporting discrepancies; zero means
 	// DefaultDiscrepancy.
@@ -180,15 +178,24 @@ type Shift struct {
 	// ("benefit"), less favourable ("harm") or equal ("none"), given the
 	// review's better direction.
 	Toward string `json:"toward"`
-	// BootCILow and BootCIHigh are the percentile bootstrap interval of
-	// Absolute at the audit's level (see Bootstrap); nil when the bootstrap
-	// is off, nothing was added, or too many replicates failed.
-	BootCILow  *float64 `json:"boot_ci_low"`
-	BootCIHigh *float64 `json:"boot_ci_high"`
-	// BootReplicates is the number of replicates asked for, BootFailed
-	// how many of them could not be pooled (left out of the interval).
-	BootReplicates int `json:"boot_replicates"`
-	BootFailed     int `json:"boot_failed"`
+	// OverstatementSD is favourable · (published - augmented) / SD
+	// (favourable = -1 when lower is better, +1 when higher): positive
+	// when the published-only analysis overstates the benefit. Nil without
+	// a better direction or an SD scale. See orientShift.
+	OverstatementSD *float64 `json:"overstatement_sd"`
+	// CILow and CIHigh are the confidence interval of the shift (effect
+	// scale, augmented minus published) at the audit's level, centred on
+	// CIEstimate, the shift under the subgroup model; CIMethod names the
+	// method (analysis.ShiftInterval). Nil when nothing was added or it
+	// cannot be estimated (the reason is in the warnings).
+	CILow      *float64 `json:"ci_low"`
+	CIHigh     *float64 `json:"ci_high"`
+	CIMethod   string   `json:"ci_method"`
+	CIEstimate *float64 `json:"ci_estimate"`
+	// OverstatementCILow and OverstatementCIHigh are that interval on the
+	// oriented scale of OverstatementSD.
+	OverstatementCILow  *float64 `json:"overstatement_ci_low"`
+	OverstatementCIHigh *float64 `json:"overstatement_ci_high"`
 }
 
 // PIChange is the change of the prediction interval, augmented minus
@@ -486,13 +493,7 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 			out.Shift.SDUnits = opt(*out.Shift.Absolute / sd)
 		}
 	}
-	if !opts.SkipBias {
-		b := BiasFor(out.Studies[:out.KPublished], rv.Measure, BiasOptions{
-			Level: opts.level(), Tau2: opts.tau2(), Direction: favourable(rv.Better), ShiftSDUnits: out.Shift.SDUnits,
-			SkipSelection: opts.SkipSelection,
-		})
-		out.Bias = &b
-	}
+	out.Warnings = append(out.Warnings, completeShift(&out, opts)...)
 	out.SignificanceChanged = significant(out.Published.Random) != significant(out.Augmented.Random)
 	out.DirectionChanged = directionChanged(out.Published.Random, out.Augmented.Random)
 	out.MID = rv.MID
@@ -509,12 +510,13 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 	if out.KAdded > 0 {
 		sg := subgroupOf(out.Studies[:out.KPublished], out.Studies[out.KPublished:], opts)
 		out.Subgroup = &sg
-		if opts.Bootstrap > 0 {
-			bootstrapShift(&out.Shift, out.Studies, out.KPublished, rv.ReviewID, opts)
-		}
 	}
 	out.Missing = missingOf(rv, out, missingLinks, in.Trials, included, added, opts)
 	out.Discrepancies = discrepanciesOf(rv, out.Studies[:out.KPublished], incLinks, in.Trials, opts)
+	if !opts.SkipBias {
+		b := reviewBias(out, opts)
+		out.Bias = &b
+	}
 	return out, nil
 }
 

@@ -21,8 +21,10 @@ type BiasOptions struct {
 	// the three-parameter model's single cut at 0.025.
 	Cutpoints     []float64
 	SkipSelection bool
-	// ShiftSDUnits is the registry shift in SD units, for the GRADE hint.
-	ShiftSDUnits *float64
+	// Evidence is the registry evidence for the GRADE hint (oriented
+	// overstatement with its interval, share of participants without
+	// posted results); zero means none.
+	Evidence bias.RegistryEvidence
 }
 
 // EggerJSON is Egger's regression test in the report.
@@ -194,11 +196,11 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	b, err := bias.Run(effects, seEffects, bias.Options{
 		Level: opts.Level, Direction: opts.Direction, NBasedX: nBasedX, Tau2: opts.Tau2,
 		Selection: bias.SelectionSettings{Cutpoints: opts.Cutpoints}, SkipSelection: opts.SkipSelection,
-		Registry: registry, ShiftSDUnits: opts.ShiftSDUnits,
+		Registry: registry, Evidence: opts.Evidence,
 	})
 	if err != nil {
 		rep.Warnings = append(rep.Warnings, err.Error())
-		g := bias.Grade(bias.GradeInput{K: len(studies), ShiftSDUnits: opts.ShiftSDUnits})
+		g := bias.Grade(bias.GradeInput{K: len(studies), Direction: opts.Direction, Registry: opts.Evidence})
 		rep.GradeHint = GradeJSON{Level: g.Level, Reasons: nonNil(g.Reasons), Cautions: nonNil(g.Cautions)}
 		return rep
 	}
@@ -258,6 +260,23 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	rep.Funnel = fj
 	rep.GradeHint = GradeJSON{Level: b.Grade.Level, Reasons: nonNil(b.Grade.Reasons), Cautions: nonNil(b.Grade.Cautions)}
 	return rep
+}
+
+// reviewBias runs the battery on a review's published studies (what a
+// reader of the published literature could have seen), giving the GRADE
+// hint the registry evidence: the oriented overstatement with its interval
+// when registry trials were added, and the share of randomized
+// participants in eligible trials without posted results.
+func reviewBias(a ReviewAudit, opts Options) BiasReport {
+	var ev bias.RegistryEvidence
+	if a.KAdded > 0 {
+		ev.Overstatement, ev.CILow, ev.CIHigh = a.Shift.OverstatementSD, a.Shift.OverstatementCILow, a.Shift.OverstatementCIHigh
+	}
+	ev.MissingShare = a.Missing.Share
+	return BiasFor(a.Studies[:a.KPublished], a.Measure, BiasOptions{
+		Level: opts.level(), Tau2: opts.tau2(), Direction: favourable(a.Better), Evidence: ev,
+		SkipSelection: opts.SkipSelection,
+	})
 }
 
 func eggerJSON(r bias.Regression, x string) *EggerJSON {

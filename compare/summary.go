@@ -11,18 +11,20 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"unshelved/analysis"
+	"unshelved/analysis/bias"
 	"unshelved/store"
 )
 
-// Truth rules of SummaryOptions.Truth: what counts as a real shift when
-// scoring the bias diagnostics.
+// Truth rules of SummaryOptions.Truth: what counts as a real
+// overstatement when scoring the bias diagnostics.
 const (
-	TruthThreshold = "threshold" // |shift| in SD units above Threshold
-	TruthQBetween  = "q-between" // subgroup Q-between p below 0.05
+	TruthThreshold = "threshold" // oriented overstatement in SD units above Threshold
+	TruthQBetween  = "q-between" // subgroup Q-between p below 0.05, published more favourable
 )
 
-// DefaultTruthThreshold is the shift, in SD units, above which a review
-// counts as shifted (a tenth of an SD; common practice, no source).
+// DefaultTruthThreshold is the overstatement, in SD units, above which a
+// review counts as overstated (a tenth of an SD; common practice, no
+// source).
 const DefaultTruthThreshold = 0.1
 
 // SummaryOptions control Summarize. Zero values: Truth TruthThreshold with
@@ -55,17 +57,20 @@ func (o SummaryOptions) resolve() SummaryOptions {
 	return o
 }
 
-// Summary is the cross-review view of a batch of audits.
+// Summary is the cross-review view of a batch of audits. Every
+// cross-review number is oriented by each review's better direction, so
+// that positive always means the published-only analysis overstates the
+// benefit.
 type Summary struct {
 	// Reviews audited; ReviewsWithAdditions those with at least one
-	// registry trial added (the shift distribution and the pooled
-	// difference use these only: a review with nothing added has no
-	// registry evidence to compare).
+	// registry trial added (the overstatement distribution, the pooled
+	// overstatement and the adjusted errors use these only: a review with
+	// nothing added has no registry evidence to compare).
 	Reviews              int `json:"reviews"`
 	ReviewsWithAdditions int `json:"reviews_with_additions"`
-	// ShiftSMD is the distribution of Shift.SDUnits over reviews with
-	// additions (and a pooled SD).
-	ShiftSMD ShiftDistribution `json:"shift_smd"`
+	// OverstatementSD is the distribution of Shift.OverstatementSD over
+	// reviews with additions (and a better direction and an SD scale).
+	OverstatementSD OverstatementDistribution `json:"overstatement_sd"`
 	// ConclusionChangedShare is the share of reviews whose conclusion
 	// changed (significance, direction or MID), among those where it is
 	// known (registry trials were linked); the parts follow, over all
@@ -74,26 +79,29 @@ type Summary struct {
 	SignificanceChangedShare *float64 `json:"significance_changed_share"`
 	DirectionChangedShare    *float64 `json:"direction_changed_share"`
 	MIDCrossedShare          *float64 `json:"mid_crossed_share"`
-	// PooledDifferenceSMD is the random-effects meta-analysis of the
-	// per-review subgroup difference (registry - published) in SD units.
-	PooledDifferenceSMD PooledDifference `json:"pooled_difference_smd"`
-	Detection           []Detection      `json:"detection"`
-	AdjustedError       []AdjustedError  `json:"adjusted_error"`
-	Truth               string           `json:"truth"`
-	TruthThreshold      float64          `json:"truth_threshold"`
-	Warnings            []string         `json:"warnings"`
+	// PooledOverstatementSD is the random-effects meta-analysis over
+	// reviews of the oriented subgroup difference in SD units:
+	// favourable · (published - registry) / SD, positive when the
+	// published studies are more favourable than the registry-only trials.
+	PooledOverstatementSD PooledDifference `json:"pooled_overstatement_sd"`
+	Detection             []Detection      `json:"detection"`
+	AdjustedError         []AdjustedError  `json:"adjusted_error"`
+	Truth                 string           `json:"truth"`
+	TruthThreshold        float64          `json:"truth_threshold"`
+	Warnings              []string         `json:"warnings"`
 }
 
-// ShiftDistribution summarizes shifts in SD units. Quartiles are sample
-// quantiles of type 7 (Hyndman & Fan 1996, definition 7).
-type ShiftDistribution struct {
-	N                  int      `json:"n"`
-	Median             *float64 `json:"median"`
-	Q1                 *float64 `json:"q1"`
-	Q3                 *float64 `json:"q3"`
-	Mean               *float64 `json:"mean"`
-	TowardBenefitShare *float64 `json:"toward_benefit_share"`
-	TowardHarmShare    *float64 `json:"toward_harm_share"`
+// OverstatementDistribution summarizes oriented overstatements in SD
+// units. Quartiles are sample quantiles of type 7 (Hyndman & Fan 1996,
+// definition 7); SharePositive is the share of reviews whose published-only
+// analysis overstates the benefit (overstatement above 0).
+type OverstatementDistribution struct {
+	N             int      `json:"n"`
+	Median        *float64 `json:"median"`
+	Q1            *float64 `json:"q1"`
+	Q3            *float64 `json:"q3"`
+	Mean          *float64 `json:"mean"`
+	SharePositive *float64 `json:"share_positive"`
 }
 
 // PooledDifference is a random-effects pooled estimate across reviews.
@@ -115,14 +123,22 @@ type PooledDifference struct {
 
 // Detection is one diagnostic's 2x2 table against the registry truth, with
 // Wilson score intervals (see Wilson) for sensitivity and specificity.
-// Reviews where the diagnostic could not run are left out (Skipped).
+// MinK is the least number of published studies of the reviews in the
+// table (0: all reviews; 10: the tests' advised minimum, Sterne et al.
+// 2011, BMJ 343:d4002). Reviews whose truth is unknown (nothing added but
+// eligible trials without results) are counted in Unknown and left out of
+// the table; reviews where the diagnostic could not run, or whose truth
+// cannot be computed (no SD scale, no better direction, no subgroup test),
+// are counted in Skipped.
 type Detection struct {
 	Test              string   `json:"test"`
 	Rule              string   `json:"rule"`
+	MinK              int      `json:"min_k"`
 	TP                int      `json:"tp"`
 	FP                int      `json:"fp"`
 	FN                int      `json:"fn"`
 	TN                int      `json:"tn"`
+	Unknown           int      `json:"unknown"`
 	Skipped           int      `json:"skipped"`
 	Sensitivity       *float64 `json:"sensitivity"`
 	SensitivityCILow  *float64 `json:"sensitivity_ci_low"`
@@ -133,9 +149,11 @@ type Detection struct {
 }
 
 // AdjustedError is the error of a bias-adjusted estimate (from the
-// published studies) against the augmented random-effects estimate, in SD
-// units: error = (adjusted - augmented) / SD. "published" is the
-// unadjusted published-only estimate, for comparison.
+// published studies) against the augmented random-effects estimate, over
+// reviews with registry additions and a better direction, oriented and in
+// SD units: error = favourable · (adjusted - augmented) / SD, positive when
+// the estimate still overstates the benefit. "published" is the unadjusted
+// published-only estimate, for comparison (its error is the overstatement).
 type AdjustedError struct {
 	Method    string   `json:"method"`
 	N         int      `json:"n"`
@@ -157,14 +175,14 @@ func sdScale(a ReviewAudit) float64 {
 
 // Summarize summarizes a batch of audits (see Summary). The shares use the
 // reviews as denominators as documented on each field; the pooled
-// difference reuses analysis.Pool on the per-review differences divided by
-// each review's SD scale.
+// overstatement reuses analysis.Pool on the per-review oriented subgroup
+// differences divided by each review's SD scale.
 func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 	o := opts.resolve()
 	s := Summary{Reviews: len(audits), Truth: o.Truth, TruthThreshold: o.Threshold, Warnings: []string{},
 		Detection: []Detection{}, AdjustedError: []AdjustedError{}}
-	var shifts []float64
-	var benefit, harm, concl, known, sig, dir, mid int
+	var over []float64
+	var positive, concl, known, sig, dir, mid, undirected int
 	var diffs, seDiffs []float64
 	var labels []string
 	for _, a := range audits {
@@ -187,21 +205,27 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 			continue
 		}
 		s.ReviewsWithAdditions++
-		if a.Shift.SDUnits != nil {
-			shifts = append(shifts, *a.Shift.SDUnits)
-			switch a.Shift.Toward {
-			case "benefit":
-				benefit++
-			case "harm":
-				harm++
+		f := favourable(a.Better)
+		if f == 0 {
+			undirected++
+			continue
+		}
+		if x := a.Shift.OverstatementSD; x != nil {
+			over = append(over, *x)
+			if *x > 0 {
+				positive++
 			}
 		}
 		sd := sdScale(a)
 		if sg := a.Subgroup; sg != nil && sg.Difference != nil && sg.SE != nil && *sg.SE > 0 && sd > 0 {
-			diffs = append(diffs, *sg.Difference/sd)
+			// Difference is registry - published; oriented published - registry.
+			diffs = append(diffs, -f**sg.Difference/sd)
 			seDiffs = append(seDiffs, *sg.SE/sd)
 			labels = append(labels, a.ReviewID)
 		}
+	}
+	if undirected > 0 {
+		s.Warnings = append(s.Warnings, fmt.Sprintf("%d reviews with registry additions have no better direction (lower or higher) and are left out of every oriented figure", undirected))
 	}
 	share := func(n, d int) *float64 {
 		if d == 0 {
@@ -212,31 +236,32 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 	s.ConclusionChangedShare, s.SignificanceChangedShare = share(concl, known), share(sig, len(audits))
 	s.DirectionChangedShare, s.MIDCrossedShare = share(dir, len(audits)), share(mid, len(audits))
 
-	s.ShiftSMD.N = len(shifts)
-	if len(shifts) > 0 {
-		slices.Sort(shifts)
+	s.OverstatementSD.N = len(over)
+	if len(over) > 0 {
+		slices.Sort(over)
 		var sum float64
-		for _, x := range shifts {
+		for _, x := range over {
 			sum += x
 		}
-		s.ShiftSMD.Median, s.ShiftSMD.Q1, s.ShiftSMD.Q3 = opt(quantile7(shifts, 0.5)), opt(quantile7(shifts, 0.25)), opt(quantile7(shifts, 0.75))
-		s.ShiftSMD.Mean = opt(sum / float64(len(shifts)))
-		s.ShiftSMD.TowardBenefitShare, s.ShiftSMD.TowardHarmShare = share(benefit, len(shifts)), share(harm, len(shifts))
+		d := &s.OverstatementSD
+		d.Median, d.Q1, d.Q3 = opt(quantile7(over, 0.5)), opt(quantile7(over, 0.25)), opt(quantile7(over, 0.75))
+		d.Mean = opt(sum / float64(len(over)))
+		d.SharePositive = share(positive, len(over))
 	}
 
-	s.PooledDifferenceSMD = PooledDifference{K: len(diffs), Tau2Method: string(o.Tau2), CIMethod: o.CI}
+	s.PooledOverstatementSD = PooledDifference{K: len(diffs), Tau2Method: string(o.Tau2), CIMethod: o.CI}
 	if len(diffs) > 0 {
 		res, err := analysis.Pool(diffs, seDiffs, analysis.Settings{Level: o.Level, Tau2: o.Tau2, Labels: labels, SkipLeaveOneOut: true,
 			TruncateHKSJ: o.CI == CIHKSJ})
 		if err != nil {
-			s.Warnings = append(s.Warnings, "pooled difference: "+err.Error())
+			s.Warnings = append(s.Warnings, "pooled overstatement across reviews: "+err.Error())
 		} else {
 			r := res.Random
-			p := &s.PooledDifferenceSMD
+			p := &s.PooledOverstatementSD
 			iv := randomInterval(r, len(diffs), o.CI)
 			p.Estimate, p.SE, p.CILow, p.CIHigh, p.CIMethod = opt(r.Estimate), opt(iv.SE), opt(iv.Low), opt(iv.High), iv.Method
 			p.Tau2, p.I2, p.Q, p.QP, p.PILow, p.PIHigh = opt(r.Tau2), opt(res.Het.I2), opt(res.Het.Q), opt(res.Het.QP), opt(r.PILow), opt(r.PIHigh)
-			s.Warnings = append(s.Warnings, prefixed("pooled difference: ", reviewsNotStudies(res.Warnings))...)
+			s.Warnings = append(s.Warnings, prefixed("pooled overstatement across reviews: ", reviewsNotStudies(res.Warnings))...)
 		}
 	}
 	s.Detection = detections(audits, o)
@@ -244,101 +269,145 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 	return s
 }
 
-// truthOf says whether a review's registry evidence shows a real shift
-// under the summary's rule; reviews with nothing added are negatives.
-func truthOf(a ReviewAudit, o SummaryOptions) (bool, bool) {
+// Truth states of a review for the detection tables.
+const (
+	truthNegative = iota
+	truthPositive
+	truthUnknown // nothing added, but eligible trials posted no results
+	truthNone    // cannot be computed (no direction, SD scale or subgroup test)
+)
+
+// truthOf is a review's directional truth under the summary's rule.
+// Reviews with nothing added are negative when no eligible registered
+// trial lacks results, and unknown otherwise. With additions: threshold,
+// Shift.OverstatementSD > Threshold; q-between, the subgroup test p < 0.05
+// with the published subgroup more favourable (favourable · (published -
+// registry) > 0).
+func truthOf(a ReviewAudit, o SummaryOptions) int {
 	if a.KAdded == 0 {
-		return false, true
+		if a.Missing.K > 0 {
+			return truthUnknown
+		}
+		return truthNegative
+	}
+	f := favourable(a.Better)
+	if f == 0 {
+		return truthNone
 	}
 	if o.Truth == TruthQBetween {
-		if a.Subgroup == nil || a.Subgroup.P == nil {
-			return false, false
+		sg := a.Subgroup
+		if sg == nil || sg.P == nil || sg.Difference == nil {
+			return truthNone
 		}
-		return *a.Subgroup.P < 0.05, true
+		if *sg.P < 0.05 && -f**sg.Difference > 0 {
+			return truthPositive
+		}
+		return truthNegative
 	}
-	if a.Shift.SDUnits == nil {
-		return false, false
+	if a.Shift.OverstatementSD == nil {
+		return truthNone
 	}
-	return math.Abs(*a.Shift.SDUnits) > o.Threshold, true
+	if *a.Shift.OverstatementSD > o.Threshold {
+		return truthPositive
+	}
+	return truthNegative
 }
 
-// diagnostic is one bias test's verdict on a review: positive, and
-// whether it ran.
+// diagnostic is one bias test's directional verdict on a review:
+// positive only when its asymmetry points to missing unfavourable small
+// studies (see analysis/bias/direction.go), and whether it ran. direction
+// is the sign of a favourable effect.
 type diagnostic struct {
 	name, rule string
-	verdict    func(b *BiasReport) (positive, ran bool)
+	verdict    func(b *BiasReport, direction float64) (positive, ran bool)
+}
+
+func eggerVerdict(e *EggerJSON, direction float64) (bool, bool) {
+	if e == nil || e.P == nil || e.Bias == nil {
+		return false, false
+	}
+	return *e.P < 0.10 && bias.SmallStudiesFavourable(bias.Regression{Bias: *e.Bias}, direction), true
 }
 
 var diagnostics = []diagnostic{
-	{"egger", "Egger p < 0.10", func(b *BiasReport) (bool, bool) { return pBelow(b.Egger.p(), 0.10) }},
-	{"egger_sample_size", "Egger regressed on √(1/n₁+1/n₂) (SMD) p < 0.10", func(b *BiasReport) (bool, bool) { return pBelow(b.EggerSampleSize.p(), 0.10) }},
-	{"begg", "rank correlation test (Begg & Mazumdar 1994) p < 0.10", func(b *BiasReport) (bool, bool) {
-		if b.Begg == nil {
+	{"egger", "Egger p < 0.10, small studies more favourable", func(b *BiasReport, d float64) (bool, bool) { return eggerVerdict(b.Egger, d) }},
+	{"egger_sample_size", "Egger regressed on √(1/n₁+1/n₂) (SMD) p < 0.10, small studies more favourable", func(b *BiasReport, d float64) (bool, bool) {
+		return eggerVerdict(b.EggerSampleSize, d)
+	}},
+	{"begg", "rank correlation test (Begg & Mazumdar 1994) p < 0.10, small studies more favourable", func(b *BiasReport, d float64) (bool, bool) {
+		if b.Begg == nil || b.Begg.P == nil || b.Begg.Tau == nil {
 			return false, false
 		}
-		return pBelow(b.Begg.P, 0.10)
+		return *b.Begg.P < 0.10 && bias.RankFavourable(bias.RankCorrelation{Tau: *b.Begg.Tau}, d), true
 	}},
-	{"trim_fill", "trim-and-fill k0 > 0", func(b *BiasReport) (bool, bool) {
+	{"trim_fill", "trim-and-fill k0 > 0 on the unfavourable side", func(b *BiasReport, d float64) (bool, bool) {
 		if b.TrimFill == nil {
 			return false, false
 		}
-		return b.TrimFill.K0 > 0, true
+		return bias.FilledUnfavourable(bias.TrimFillResult{K0: b.TrimFill.K0, Side: b.TrimFill.Side}, d), true
 	}},
-	{"selection", "selection model LRT p < 0.10", func(b *BiasReport) (bool, bool) {
-		if b.Selection == nil || !b.Selection.Converged {
+	{"selection", "selection model LRT p < 0.10, weight below 1", func(b *BiasReport, d float64) (bool, bool) {
+		s := b.Selection
+		if s == nil || !s.Converged || s.LRTP == nil {
 			return false, false
 		}
-		return pBelow(b.Selection.LRTP, 0.10)
+		r := bias.SelectionResult{Converged: true}
+		for _, w := range s.Weights {
+			if w == nil {
+				return false, false
+			}
+			r.Weights = append(r.Weights, *w)
+		}
+		return *s.LRTP < 0.10 && bias.SelectsFavourable(r), true
 	}},
 }
 
-func (e *EggerJSON) p() *float64 {
-	if e == nil {
-		return nil
-	}
-	return e.P
-}
-
-func pBelow(p *float64, alpha float64) (bool, bool) {
-	if p == nil {
-		return false, false
-	}
-	return *p < alpha, true
-}
+// detectionMinK are the MinK of the detection tables.
+var detectionMinK = []int{0, 10}
 
 func detections(audits []ReviewAudit, o SummaryOptions) []Detection {
-	out := make([]Detection, 0, len(diagnostics))
-	for _, d := range diagnostics {
-		det := Detection{Test: d.name, Rule: d.rule}
-		for _, a := range audits {
-			truth, known := truthOf(a, o)
-			if a.Bias == nil || !known {
-				det.Skipped++
-				continue
+	out := make([]Detection, 0, len(detectionMinK)*len(diagnostics))
+	for _, minK := range detectionMinK {
+		for _, d := range diagnostics {
+			det := Detection{Test: d.name, Rule: d.rule, MinK: minK}
+			for _, a := range audits {
+				if a.KPublished < minK {
+					continue
+				}
+				truth := truthOf(a, o)
+				if truth == truthUnknown {
+					det.Unknown++
+					continue
+				}
+				f := favourable(a.Better)
+				if a.Bias == nil || truth == truthNone || f == 0 {
+					det.Skipped++
+					continue
+				}
+				pos, ran := d.verdict(a.Bias, f)
+				switch {
+				case !ran:
+					det.Skipped++
+				case pos && truth == truthPositive:
+					det.TP++
+				case pos:
+					det.FP++
+				case truth == truthPositive:
+					det.FN++
+				default:
+					det.TN++
+				}
 			}
-			pos, ran := d.verdict(a.Bias)
-			switch {
-			case !ran:
-				det.Skipped++
-			case pos && truth:
-				det.TP++
-			case pos:
-				det.FP++
-			case truth:
-				det.FN++
-			default:
-				det.TN++
+			if n := det.TP + det.FN; n > 0 {
+				est, lo, hi := Wilson(det.TP, n, 0.95)
+				det.Sensitivity, det.SensitivityCILow, det.SensitivityCIHigh = opt(est), opt(lo), opt(hi)
 			}
+			if n := det.TN + det.FP; n > 0 {
+				est, lo, hi := Wilson(det.TN, n, 0.95)
+				det.Specificity, det.SpecificityCILow, det.SpecificityCIHigh = opt(est), opt(lo), opt(hi)
+			}
+			out = append(out, det)
 		}
-		if n := det.TP + det.FN; n > 0 {
-			est, lo, hi := Wilson(det.TP, n, 0.95)
-			det.Sensitivity, det.SensitivityCILow, det.SensitivityCIHigh = opt(est), opt(lo), opt(hi)
-		}
-		if n := det.TN + det.FP; n > 0 {
-			est, lo, hi := Wilson(det.TN, n, 0.95)
-			det.Specificity, det.SpecificityCILow, det.SpecificityCIHigh = opt(est), opt(lo), opt(hi)
-		}
-		out = append(out, det)
 	}
 	return out
 }
@@ -373,12 +442,12 @@ func adjustedErrors(audits []ReviewAudit) []AdjustedError {
 		e := AdjustedError{Method: m.name}
 		var sum, sum2 float64
 		for _, a := range audits {
-			sd := sdScale(a)
+			sd, f := sdScale(a), favourable(a.Better)
 			x, ref := m.get(a), a.Augmented.Random.Estimate
-			if x == nil || ref == nil || !(sd > 0) {
+			if a.KAdded == 0 || f == 0 || x == nil || ref == nil || !(sd > 0) {
 				continue
 			}
-			d := (*x - *ref) / sd
+			d := f * (*x - *ref) / sd
 			sum += d
 			sum2 += d * d
 			e.N++
@@ -427,21 +496,24 @@ type SummaryRun struct {
 	Failed  []error
 }
 
-// ShiftPoints returns, for the audits with a shift in SD units, the
-// published-only random-effects estimate in SD units (the estimate divided
-// by the review's SD scale: 1 for SMD, the pooled SD for MD), the shift in
-// SD units, and the review ids: the data of the batch figures.
-func ShiftPoints(audits []ReviewAudit) (publishedSD, shiftSD []float64, labels []string) {
+// ShiftPoints returns, for the audits with registry additions and an
+// oriented overstatement, the published-only random-effects estimate
+// oriented and in SD units (favourable · estimate / SD, so that positive is
+// a benefit whichever way is better; SD is 1 for SMD, the pooled SD for
+// MD), the overstatement in SD units (Shift.OverstatementSD, positive when
+// the published-only analysis overstates the benefit), and the review ids:
+// the data of the batch figures.
+func ShiftPoints(audits []ReviewAudit) (publishedSD, overstatementSD []float64, labels []string) {
 	for _, a := range audits {
-		sd := sdScale(a)
-		if a.Shift.SDUnits == nil || a.Published.Random.Estimate == nil || !(sd > 0) {
+		sd, f := sdScale(a), favourable(a.Better)
+		if a.KAdded == 0 || f == 0 || a.Shift.OverstatementSD == nil || a.Published.Random.Estimate == nil || !(sd > 0) {
 			continue
 		}
-		publishedSD = append(publishedSD, *a.Published.Random.Estimate/sd)
-		shiftSD = append(shiftSD, *a.Shift.SDUnits)
+		publishedSD = append(publishedSD, f**a.Published.Random.Estimate/sd)
+		overstatementSD = append(overstatementSD, *a.Shift.OverstatementSD)
 		labels = append(labels, a.ReviewID)
 	}
-	return publishedSD, shiftSD, labels
+	return publishedSD, overstatementSD, labels
 }
 
 // RunSummary audits every review with auditOpts (not stored as an audit
@@ -509,4 +581,20 @@ func StoredSummary(ctx context.Context, db *store.DB, runID int64) (store.Run, S
 		return r, s, nil
 	}
 	return store.Run{}, Summary{}, fmt.Errorf("no summary run %d in the workspace", runID)
+}
+
+// quantile7 is the sample quantile of sorted x at probability p by linear
+// interpolation between order statistics (Hyndman & Fan 1996, Am Stat
+// 50:361, definition 7; R's default):
+//
+//	h = (n-1) p,  Q = x[floor h] + (h - floor h) (x[floor h + 1] - x[floor h])
+//
+// x must be sorted and non-empty.
+func quantile7(x []float64, p float64) float64 {
+	h := float64(len(x)-1) * p
+	lo := int(h)
+	if lo >= len(x)-1 {
+		return x[len(x)-1]
+	}
+	return x[lo] + (h-float64(lo))*(x[lo+1]-x[lo])
 }

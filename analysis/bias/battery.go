@@ -32,8 +32,9 @@ type Options struct {
 	// GridPoints is the number of points of the fitted Egger line; 0 means
 	// DefaultGridPoints.
 	GridPoints int
-	// ShiftSDUnits is the registry shift passed to Grade; nil when unknown.
-	ShiftSDUnits *float64
+	// Evidence is the registry evidence passed to Grade (see
+	// RegistryEvidence); its zero value means none.
+	Evidence RegistryEvidence
 }
 
 // Battery holds the results of every method Run executes. A method that
@@ -83,7 +84,7 @@ func Run(effects, seEffects []float64, opts Options) (Battery, error) {
 		direction = sign(fe)
 	}
 	warn := func(err error) { b.Warnings = append(b.Warnings, err.Error()) }
-	in := GradeInput{K: len(effects), Estimate: fe, ShiftSDUnits: opts.ShiftSDUnits}
+	in := GradeInput{K: len(effects), Estimate: fe, Direction: sign(direction), Registry: opts.Evidence}
 
 	if opts.Registry != nil && len(opts.Registry) != len(effects) {
 		panic("bias: slice length mismatch")

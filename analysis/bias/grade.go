@@ -2,7 +2,6 @@ package bias
 
 import (
 	"fmt"
-	"math"
 )
 
 // Grade levels.
@@ -15,26 +14,46 @@ const (
 	gradeAlpha = AsymmetryAlpha
 )
 
-// ShiftConcernSD is the shift of the pooled estimate, in standard-deviation
-// units, caused by adding registry results, from which Grade reports a
-// serious concern: half of the conventional "small" standardized effect of
-// 0.2 (Cohen, Statistical Power Analysis for the Behavioral Sciences, 2nd
-// ed., 1988). The threshold is a choice of this package, not a published
-// standard; review teams may judge otherwise.
+// ShiftConcernSD is the overstatement of the pooled estimate, in
+// standard-deviation units, shown by adding registry results, from which
+// Grade reports a serious concern: half of the conventional "small"
+// standardized effect of 0.2 (Cohen, Statistical Power Analysis for the
+// Behavioral Sciences, 2nd ed., 1988). The threshold is a choice of this
+// package, not a published standard; review teams may judge otherwise.
 const ShiftConcernSD = 0.1
+
+// MissingShareConcern is the share of randomized participants in eligible
+// trials that posted no results from which Grade never reports "no serious
+// concern" and reports a serious one (a choice of this package, not a
+// published standard).
+const MissingShareConcern = 0.20
+
+// RegistryEvidence is what the registry says about a review, on the
+// oriented scale: Overstatement = favourable · (published - augmented) /
+// SD, positive when the published-only analysis overstates the benefit,
+// with its confidence interval (nil when it could not be estimated); all
+// nil when no registry trial was added. MissingShare is the share of
+// randomized participants in eligible registered trials that posted no
+// results (nil when there are none or it is unknown).
+type RegistryEvidence struct {
+	Overstatement, CILow, CIHigh *float64
+	MissingShare                 *float64
+}
 
 // GradeInput is the evidence Grade combines. Nil pointers mean the method
 // was not run or failed.
 type GradeInput struct {
 	// K is the number of studies in the meta-analysis.
-	K         int
+	K int
+	// Direction is the sign of a favourable effect (+1 higher is better,
+	// -1 lower); 0 means unknown, and then no test can count as pointing
+	// to missing unfavourable studies.
+	Direction float64
 	Egger     *Regression
 	Begg      *RankCorrelation
 	TrimFill  *TrimFillResult
 	Selection *SelectionResult
-	// ShiftSDUnits is the change in the pooled estimate, in SD units, when
-	// registry results of unpublished trials are added; nil when unknown.
-	ShiftSDUnits *float64
+	Registry  RegistryEvidence
 	// Estimate is the fixed-effect estimate of the published studies, in
 	// effect units, compared with trim-and-fill's filled fixed-effect
 	// estimate in Reasons.
@@ -51,25 +70,32 @@ type GradeHint struct {
 
 // Grade combines the publication-bias evidence into a hint for the GRADE
 // domain "publication bias" (Guyatt et al. 2011, GRADE guidelines 5, J Clin
-// Epidemiol 64:1277-1282). The rule:
+// Epidemiol 64:1277-1282). Every figure is oriented so that positive means
+// the published evidence overstates the benefit. The rule:
 //
-//   - Registry evidence is direct: if ShiftSDUnits is known and
-//     |shift| >= ShiftConcernSD (0.1 SD) the hint is "serious concern".
+//   - Registry comparison (direct evidence): an overstatement of at least
+//     ShiftConcernSD (0.1 SD) gives "serious concern". The registry
+//     reassures only when the upper limit of the overstatement's interval
+//     is below 0.1 SD (an understatement counts as reassuring only under
+//     the same condition); without an interval it cannot reassure.
+//   - Missing evidence: when MissingShare >= MissingShareConcern (20%) the
+//     hint is "serious concern", never "no serious concern".
 //   - Tests count only with K >= 10 studies (Cochrane Handbook ch. 13;
-//     Sterne et al. 2011, BMJ 343:d4002). A test flags asymmetry when its
-//     p value is below 0.10: Egger's regression (P), the rank
-//     correlation (P), or the selection model's likelihood-ratio test
-//     (LRTP, only if it converged). Any flag gives "serious concern".
-//   - Otherwise, if the registry shift is known (and small) or at least one
-//     test was usable and none flagged, the hint is "no serious concern".
-//   - Otherwise (K < 10 and no registry shift, or no test available) it is
-//     "cannot assess".
+//     Sterne et al. 2011, BMJ 343:d4002) and only in the direction of
+//     missing unfavourable small studies: Egger's regression with p < 0.10
+//     and its coefficient in the benefit direction, the rank correlation
+//     test likewise, the selection model's likelihood-ratio test with p < 0.10
+//     and its weights below 1 (see direction.go). Any such flag gives
+//     "serious concern"; asymmetry the other way is reported, not counted.
+//   - Otherwise the hint is "no serious concern" when the registry
+//     reassures or at least one test could count and none flagged, and
+//     "cannot assess" when neither holds.
 //
-// Trim-and-fill is reported in Reasons (how many studies it imputes and how
-// the estimate moves) but never decides, because it is an adjustment under
-// strong assumptions, not a test. Cautions always say that funnel asymmetry
-// is not proof of bias, that registry results are not peer reviewed, and
-// that the judgement belongs to the review team.
+// Trim-and-fill is reported in Reasons (how many studies it imputes, on
+// which side, and how the estimate moves) but never decides, because it is
+// an adjustment under strong assumptions, not a test. Cautions always say
+// that funnel asymmetry is not proof of bias, that registry results are not
+// peer reviewed, and that the judgement belongs to the review team.
 func Grade(in GradeInput) GradeHint {
 	h := GradeHint{Cautions: []string{
 		"funnel-plot asymmetry is not proof of publication bias: heterogeneity, chance, genuine small-study effects and artefacts of the effect measure can cause it",
@@ -77,48 +103,77 @@ func Grade(in GradeInput) GradeHint {
 		"this is a hint; the judgement belongs to the review team, their GRADE assessment and local practice",
 	}}
 	serious, reassured := false, false
-	if in.ShiftSDUnits != nil {
-		shift := *in.ShiftSDUnits
-		if math.Abs(shift) >= ShiftConcernSD {
+	r := in.Registry
+	if r.Overstatement != nil {
+		o := *r.Overstatement
+		ci := "no interval could be estimated"
+		if r.CILow != nil && r.CIHigh != nil {
+			ci = fmt.Sprintf("interval %.2f to %.2f SD", *r.CILow, *r.CIHigh)
+		}
+		switch {
+		case o >= ShiftConcernSD:
 			serious = true
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"adding registry results shifts the pooled estimate by %.2f SD (at least %.2f SD)", shift, ShiftConcernSD))
-		} else {
+				"adding registry results shows the published studies overstate the benefit by %.2f SD (%s; at least %.2f SD)", o, ci, ShiftConcernSD))
+		case r.CIHigh != nil && *r.CIHigh < ShiftConcernSD:
 			reassured = true
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"adding registry results shifts the pooled estimate by %.2f SD (less than %.2f SD)", shift, ShiftConcernSD))
+				"adding registry results: overstatement of the benefit %.2f SD (%s, below %.2f SD)", o, ci, ShiftConcernSD))
+		default:
+			h.Reasons = append(h.Reasons, fmt.Sprintf(
+				"adding registry results: overstatement of the benefit %.2f SD, but an overstatement of %.2f SD or more cannot be ruled out (%s)", o, ShiftConcernSD, ci))
+		}
+	} else {
+		h.Reasons = append(h.Reasons, "no registry results were added, so the registry gives no direct comparison")
+	}
+	if r.MissingShare != nil {
+		m := *r.MissingShare
+		if m >= MissingShareConcern {
+			serious = true
+			h.Reasons = append(h.Reasons, fmt.Sprintf(
+				"%.0f%% of randomized participants are in eligible registered trials that posted no results (%.0f%% or more)", 100*m, 100*MissingShareConcern))
+		} else {
+			h.Reasons = append(h.Reasons, fmt.Sprintf(
+				"%.0f%% of randomized participants are in eligible registered trials that posted no results (below %.0f%%)", 100*m, 100*MissingShareConcern))
 		}
 	}
 	usable, flagged := 0, 0
-	test := func(name string, p float64) {
+	test := func(name string, p float64, towardBenefit bool) {
 		if in.K < gradeMinK {
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
 				"%s not counted: %d studies, fewer than %d (p = %.3g)", name, in.K, gradeMinK, p))
 			return
 		}
 		usable++
-		if p < gradeAlpha {
+		switch {
+		case p < gradeAlpha && towardBenefit:
 			flagged++
-			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests asymmetry (p = %.3g < %.2f, %d studies)", name, p, gradeAlpha, in.K))
-		} else {
+			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests missing unfavourable small studies (p = %.3g < %.2f, %d studies)", name, p, gradeAlpha, in.K))
+		case p < gradeAlpha:
+			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests asymmetry the other way, not missing unfavourable studies (p = %.3g, %d studies; not counted as a concern)", name, p, in.K))
+		default:
 			h.Reasons = append(h.Reasons, fmt.Sprintf("%s does not suggest asymmetry (p = %.3g, %d studies)", name, p, in.K))
 		}
 	}
 	if in.Egger != nil {
-		test("Egger's test regressed on SE", in.Egger.P)
+		test("Egger's test regressed on SE", in.Egger.P, SmallStudiesFavourable(*in.Egger, in.Direction))
 	}
 	if in.Begg != nil {
-		test("the rank correlation test (Begg & Mazumdar 1994)", in.Begg.P)
+		test("the rank correlation test (Begg & Mazumdar 1994)", in.Begg.P, RankFavourable(*in.Begg, in.Direction))
 	}
 	if in.Selection != nil && in.Selection.Converged {
-		test("the selection model's likelihood-ratio test", in.Selection.LRTP)
+		test("the selection model's likelihood-ratio test", in.Selection.LRTP, SelectsFavourable(*in.Selection))
 	}
 	if in.TrimFill != nil {
 		tf := in.TrimFill
 		if tf.K0 > 0 {
+			side := "the unfavourable side"
+			if !FilledUnfavourable(*tf, in.Direction) {
+				side = "the favourable side"
+			}
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"trim-and-fill (%s) imputes %d studies on the %s; the fixed-effect estimate moves from %.3g to %.3g (random effects of the filled data: %.3g) (not used for the hint)",
-				tf.Estimator, tf.K0, tf.Side, in.Estimate, tf.FixedEstimate, tf.RandomEstimate))
+				"trim-and-fill (%s) imputes %d studies on the %s (%s); the fixed-effect estimate moves from %.3g to %.3g (random effects of the filled data: %.3g) (not used for the hint)",
+				tf.Estimator, tf.K0, tf.Side, side, in.Estimate, tf.FixedEstimate, tf.RandomEstimate))
 		} else {
 			h.Reasons = append(h.Reasons, fmt.Sprintf("trim-and-fill (%s) imputes no studies (not used for the hint)", tf.Estimator))
 		}
@@ -131,7 +186,7 @@ func Grade(in GradeInput) GradeHint {
 	default:
 		h.Level = GradeCannotAssess
 		h.Reasons = append(h.Reasons, fmt.Sprintf(
-			"no registry comparison and too few studies (%d) or no test result to judge asymmetry", in.K))
+			"no conclusive registry comparison and too few studies (%d) or no test result to judge asymmetry", in.K))
 	}
 	return h
 }

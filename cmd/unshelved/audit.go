@@ -40,7 +40,8 @@ relative (percent of the published estimate), inflation (percent by which
 the published estimate overstates the augmented one) and in units of the
 published-only standard error, with whether significance, direction or
 the review's minimal important difference changed; the published vs
-registry-only subgroup test; a seeded bootstrap interval of the shift;
+registry-only subgroup test; a confidence interval of the shift and the
+oriented overstatement of the benefit in SD units;
 registered trials without results and a null-imputation what-if; the
 trials published but missed by the review, pooled apart (a search gap, not
 publication bias); and published vs registry values of trials in both. An
@@ -77,8 +78,8 @@ numbers were derived instead (not stored).`,
 }
 
 // defaultAuditOptions are the audit defaults: REML tau² with the HKSJ
-// interval at the 95% level, a 1000-replicate bootstrap with the fixed
-// default seed, one worker per core.
+// interval at the 95% level, the fixed default seed, one worker per core.
+// Bootstrap stays at its old default only to be recorded; nothing uses it.
 func defaultAuditOptions(g *globals) auditOptions {
 	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 1000, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
 		Prefer: compare.PreferAnalysis}
@@ -91,8 +92,8 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval and its p-value: hksj (Hartung-Knapp-Sidik-Jonkman, scale floored at 1), hksj-untruncated or wald; Wald throughout for reviews with fewer than 3 published studies")
 	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
 	cmd.Flags().Float64Var(&opts.Level, "level", d.Level, "confidence level")
-	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "bootstrap replicates of the shift (0 turns it off)")
-	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of the bootstrap (stored with the run)")
+	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "no effect: the shift interval is analytic (kept for older scripts)")
+	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of any random draws (stored with the run)")
 	cmd.Flags().IntVar(&opts.Workers, "workers", d.Workers, "reviews audited in parallel (results stay in review order)")
 	cmd.Flags().StringVar(&opts.Prefer, "prefer", d.Prefer, "for model-adjusted arm means, use the record's posted between-group analysis or the arms: analysis or arms")
 	cmd.Flags().BoolVar(&opts.AllowNonrandomized, "allow-nonrandomized", false, "use accepted links to not-randomized and crossover records (flagged) instead of refusing them")
@@ -120,6 +121,9 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 	}
 	if o.Bootstrap < 0 {
 		return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", o.Bootstrap)
+	}
+	if cmd.Flags().Changed("bootstrap") {
+		o.g.progressf("--bootstrap has no effect: the shift interval is analytic (subgroup model, Knapp-Hartung)")
 	}
 	return nil
 }
@@ -196,7 +200,7 @@ var auditColumns = []string{
 	"tau2_method", "ci_method",
 	"shift_absolute", "shift_relative", "shift_inflation", "shift_published_se_units", "shift_toward",
 	"significance_changed", "direction_changed",
-	"shift_sd_units", "shift_boot_ci_low", "shift_boot_ci_high", "shift_boot_failed",
+	"shift_sd_units", "shift_overstatement_sd", "shift_ci_low", "shift_ci_high", "shift_ci_method",
 	"subgroup_difference", "subgroup_se", "subgroup_ci_low", "subgroup_ci_high", "subgroup_q_between", "subgroup_p",
 	"mid", "mid_crossed", "conclusion_changed", "tau2_change", "pi_width_change",
 	"missing_k", "missing_enrollment", "missing_share", "what_if_estimate", "what_if_significance_changed",
@@ -304,7 +308,7 @@ func auditExtraCSV(a compare.ReviewAudit) []string {
 		m, mk = *a.WithMissedPublications, a.WithMissedPublications.K
 	}
 	return []string{
-		fullPtr(a.Shift.SDUnits), fullPtr(a.Shift.BootCILow), fullPtr(a.Shift.BootCIHigh), fmt.Sprint(a.Shift.BootFailed),
+		fullPtr(a.Shift.SDUnits), fullPtr(a.Shift.OverstatementSD), fullPtr(a.Shift.CILow), fullPtr(a.Shift.CIHigh), a.Shift.CIMethod,
 		fullPtr(sg.Difference), fullPtr(sg.SE), fullPtr(sg.CILow), fullPtr(sg.CIHigh), fullPtr(sg.QBetween), fullPtr(sg.P),
 		fullPtr(a.MID), midCrossed, boolPtr(a.ConclusionChanged), fullPtr(a.Tau2Change), fullPtr(piWidth),
 		fmt.Sprint(a.Missing.K), fmt.Sprint(a.Missing.Enrollment), fullPtr(a.Missing.Share), fullPtr(wiEst), wiChanged,
@@ -318,14 +322,11 @@ func auditExtraCSV(a compare.ReviewAudit) []string {
 // uncertainty, conclusion changes and what is missing.
 func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
 	t := titled{Title: "Shift uncertainty, conclusions and missing evidence",
-		Header: []string{"review", "shift [bootstrap CI]", "registry - published [CI]", "Q-between p", "MID crossed", "conclusion changed", "tau² change", "missing trials (enrolment, share)", "null what-if", "with missed publications [CI]", "discrepancies"}}
+		Header: []string{"review", "shift [CI]", "registry - published [CI]", "Q-between p", "MID crossed", "conclusion changed", "tau² change", "missing trials (enrolment, share)", "null what-if", "with missed publications [CI]", "discrepancies"}}
 	for _, a := range audits {
 		boot := roundPtr(a.Shift.Absolute, 2)
-		if a.Shift.BootCILow != nil {
-			boot += fmt.Sprintf(" [%s, %s]", roundPtr(a.Shift.BootCILow, 2), roundPtr(a.Shift.BootCIHigh, 2))
-		}
-		if a.Shift.BootFailed > 0 {
-			boot += fmt.Sprintf(" (%d failed)", a.Shift.BootFailed)
+		if a.Shift.CILow != nil {
+			boot += fmt.Sprintf(" [%s, %s]", roundPtr(a.Shift.CILow, 2), roundPtr(a.Shift.CIHigh, 2))
 		}
 		sub, subP := "-", "-"
 		if sg := a.Subgroup; sg != nil && sg.Difference != nil {
@@ -369,7 +370,7 @@ func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
 			missing, whatIf, missed, fmt.Sprintf("%d of %d flagged", flagged, len(a.Discrepancies))})
 	}
 	t.Notes = []string{
-		fmt.Sprintf("Bootstrap: percentile %g%% interval, studies resampled within the published and registry subgroups.", 100*level),
+		fmt.Sprintf("Shift CI: %g%% interval from the subgroup model (tau² pooled within subgroups, Knapp-Hartung factor floored at 1, t on k - 2 df); none with fewer than 3 studies.", 100*level),
 		"Registry - published: each subgroup pooled with its own tau²; Q-between with 1 df. Same sign as the shift.",
 		"Missing trials: linked as eligible with no results posted; share of all randomized participants counted. Null what-if: each imputed as effect 0.",
 		"With missed publications: published studies plus accepted trials published but not in the review (a search gap, not publication bias), pooled apart from the registry-only trials.",

@@ -25,14 +25,17 @@ func newCmdSummary(g *globals) *cobra.Command {
 	opts := &summaryOptions{audit: auditOptions{g: g}}
 	cmd := &cobra.Command{
 		Use:   "summary",
-		Short: "Across reviews: distribution of shifts, changed conclusions, pooled difference and how well bias tests detected it",
+		Short: "Across reviews: overstatement of the benefit, changed conclusions, pooled overstatement and how well bias tests detected it",
 		Long: `Audit every review in the workspace afresh (with the audit options below)
-and summarize across them: the distribution of shifts in SD units, the
-share of reviews whose conclusion changes, a random-effects meta-analysis of
-the per-review registry-minus-published difference in SD units, and, for
-each publication-bias diagnostic run on the published studies, its 2x2
-table against the registry truth with sensitivity and specificity, and the
-error of each bias-adjusted estimate against the augmented estimate.
+and summarize across them, every number oriented so that positive means
+the published-only analysis overstates the benefit: the distribution of the
+overstatement in SD units, the share of reviews whose conclusion changes, a
+random-effects meta-analysis of the per-review published-minus-registry
+difference in SD units, and, for each publication-bias diagnostic run on the
+published studies, its 2x2 table against the registry truth with
+sensitivity and specificity (all reviews, and reviews with at least 10
+published studies), and the error of each bias-adjusted estimate against the
+augmented estimate.
 
 The summary is stored as a run (kind summary) with its options, version
 and seed. --run N shows a stored summary instead of computing one;
@@ -64,8 +67,8 @@ and seed. --run N shows a stored summary instead of computing one;
 		},
 	}
 	addAuditFlags(cmd, &opts.audit)
-	cmd.Flags().StringVar(&opts.Truth, "truth", compare.TruthThreshold, "what counts as a real shift: threshold (|shift| in SD units above --truth-threshold) or q-between (subgroup test p < 0.05)")
-	cmd.Flags().Float64Var(&opts.Threshold, "truth-threshold", compare.DefaultTruthThreshold, "shift in SD units above which a review counts as shifted")
+	cmd.Flags().StringVar(&opts.Truth, "truth", compare.TruthThreshold, "what counts as overstatement: threshold (oriented overstatement in SD units above --truth-threshold) or q-between (subgroup test p < 0.05, published more favourable)")
+	cmd.Flags().Float64Var(&opts.Threshold, "truth-threshold", compare.DefaultTruthThreshold, "overstatement of the benefit in SD units above which a review counts as overstated")
 	cmd.Flags().Int64Var(&opts.Run, "run", 0, "show the stored summary run N instead of computing one")
 	cmd.Flags().Int64Var(&opts.Compare, "compare", 0, "with --run: put stored summary run M beside it")
 	cmd.Flags().StringVar(&opts.PlotDir, "plot", "", "write the batch figures (shift-histogram.svg, shift-vs-published.svg) to this folder")
@@ -136,16 +139,31 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 	return nil
 }
 
+// detectionTests are the diagnostics of the detection tables, in order.
+var detectionTests = []string{"egger", "egger_sample_size", "begg", "trim_fill", "selection"}
+
+// detectionPrefix names the CSV columns of the detection table with the
+// given min_k: detection_<test>_... for all reviews, detection_k10_<test>_...
+// for reviews with at least 10 published studies.
+func detectionPrefix(minK int) string {
+	if minK == 0 {
+		return "detection_"
+	}
+	return fmt.Sprintf("detection_k%d_", minK)
+}
+
 // summaryColumns are the CSV columns: one row per summary, one column per
 // figure; detection and adjusted-error figures are named by test.
 func summaryColumns() []string {
-	cols := []string{"run_id", "reviews", "reviews_with_additions", "shift_smd_n", "shift_smd_median", "shift_smd_q1", "shift_smd_q3",
-		"shift_smd_toward_benefit_share", "conclusion_changed_share", "significance_changed_share", "direction_changed_share", "mid_crossed_share",
-		"pooled_difference_smd_k", "pooled_difference_smd_estimate", "pooled_difference_smd_se", "pooled_difference_smd_ci_low",
-		"pooled_difference_smd_ci_high", "pooled_difference_smd_tau2", "pooled_difference_smd_i2", "truth", "truth_threshold"}
-	for _, t := range []string{"egger", "egger_sample_size", "begg", "trim_fill", "selection"} {
-		for _, f := range []string{"tp", "fp", "fn", "tn", "sensitivity", "sensitivity_ci_low", "sensitivity_ci_high", "specificity", "specificity_ci_low", "specificity_ci_high"} {
-			cols = append(cols, "detection_"+t+"_"+f)
+	cols := []string{"run_id", "reviews", "reviews_with_additions", "overstatement_sd_n", "overstatement_sd_median", "overstatement_sd_q1", "overstatement_sd_q3",
+		"overstatement_sd_mean", "overstatement_sd_share_positive", "conclusion_changed_share", "significance_changed_share", "direction_changed_share", "mid_crossed_share",
+		"pooled_overstatement_sd_k", "pooled_overstatement_sd_estimate", "pooled_overstatement_sd_se", "pooled_overstatement_sd_ci_low",
+		"pooled_overstatement_sd_ci_high", "pooled_overstatement_sd_tau2", "pooled_overstatement_sd_i2", "truth", "truth_threshold"}
+	for _, k := range []int{0, 10} {
+		for _, t := range detectionTests {
+			for _, f := range []string{"tp", "fp", "fn", "tn", "unknown", "sensitivity", "sensitivity_ci_low", "sensitivity_ci_high", "specificity", "specificity_ci_low", "specificity_ci_high"} {
+				cols = append(cols, detectionPrefix(k)+t+"_"+f)
+			}
 		}
 	}
 	for _, m := range []string{"published", "trim_fill", "pet_peese", "selection"} {
@@ -171,20 +189,21 @@ func summaryGrid(runs []storedSummary) grid {
 	}
 	rows := []row{
 		{"reviews (with registry additions)", func(s compare.Summary) string { return fmt.Sprintf("%d (%d)", s.Reviews, s.ReviewsWithAdditions) }},
-		{"shift in SD units: median [IQR]", func(s compare.Summary) string {
-			return fmt.Sprintf("%s [%s, %s]", roundPtr(s.ShiftSMD.Median, 3), roundPtr(s.ShiftSMD.Q1, 3), roundPtr(s.ShiftSMD.Q3, 3))
+		{"overstatement of the benefit, SD: median [IQR]", func(s compare.Summary) string {
+			o := s.OverstatementSD
+			return fmt.Sprintf("%s [%s, %s]", roundPtr(o.Median, 3), roundPtr(o.Q1, 3), roundPtr(o.Q3, 3))
 		}},
-		{"shifts toward benefit", func(s compare.Summary) string { return pct(s.ShiftSMD.TowardBenefitShare) }},
+		{"published overstates (share of reviews)", func(s compare.Summary) string { return pct(s.OverstatementSD.SharePositive) }},
 		{"conclusion changed (any)", func(s compare.Summary) string { return pct(s.ConclusionChangedShare) }},
 		{"  significance / direction / MID", func(s compare.Summary) string {
 			return fmt.Sprintf("%s / %s / %s", pct(s.SignificanceChangedShare), pct(s.DirectionChangedShare), pct(s.MIDCrossedShare))
 		}},
-		{"registry - published, pooled (SD units) [CI]", func(s compare.Summary) string {
-			p := s.PooledDifferenceSMD
-			return fmt.Sprintf("%s [%s, %s], k %d", roundPtr(p.Estimate, 3), roundPtr(p.CILow, 3), roundPtr(p.CIHigh, 3), p.K)
+		{"published - registry, oriented, pooled (SD) [CI]", func(s compare.Summary) string {
+			p := s.PooledOverstatementSD
+			return fmt.Sprintf("%s [%s, %s], %d reviews", roundPtr(p.Estimate, 3), roundPtr(p.CILow, 3), roundPtr(p.CIHigh, 3), p.K)
 		}},
 		{"  across-review tau², I²", func(s compare.Summary) string {
-			return fmt.Sprintf("%s, %s%%", roundPtr(s.PooledDifferenceSMD.Tau2, 4), roundPtr(s.PooledDifferenceSMD.I2, 1))
+			return fmt.Sprintf("%s, %s%%", roundPtr(s.PooledOverstatementSD.Tau2, 4), roundPtr(s.PooledOverstatementSD.I2, 1))
 		}},
 	}
 	for _, r := range rows {
@@ -196,21 +215,27 @@ func summaryGrid(runs []storedSummary) grid {
 	}
 	for _, r := range runs {
 		s := r.Summary
-		csv := []string{fmt.Sprint(r.RunID), fmt.Sprint(s.Reviews), fmt.Sprint(s.ReviewsWithAdditions), fmt.Sprint(s.ShiftSMD.N),
-			fullPtr(s.ShiftSMD.Median), fullPtr(s.ShiftSMD.Q1), fullPtr(s.ShiftSMD.Q3), fullPtr(s.ShiftSMD.TowardBenefitShare),
+		o, p := s.OverstatementSD, s.PooledOverstatementSD
+		csv := []string{fmt.Sprint(r.RunID), fmt.Sprint(s.Reviews), fmt.Sprint(s.ReviewsWithAdditions), fmt.Sprint(o.N),
+			fullPtr(o.Median), fullPtr(o.Q1), fullPtr(o.Q3), fullPtr(o.Mean), fullPtr(o.SharePositive),
 			fullPtr(s.ConclusionChangedShare), fullPtr(s.SignificanceChangedShare), fullPtr(s.DirectionChangedShare), fullPtr(s.MIDCrossedShare),
-			fmt.Sprint(s.PooledDifferenceSMD.K), fullPtr(s.PooledDifferenceSMD.Estimate), fullPtr(s.PooledDifferenceSMD.SE),
-			fullPtr(s.PooledDifferenceSMD.CILow), fullPtr(s.PooledDifferenceSMD.CIHigh), fullPtr(s.PooledDifferenceSMD.Tau2),
-			fullPtr(s.PooledDifferenceSMD.I2), s.Truth, full(s.TruthThreshold)}
-		det := map[string]compare.Detection{}
-		for _, d := range s.Detection {
-			det[d.Test] = d
+			fmt.Sprint(p.K), fullPtr(p.Estimate), fullPtr(p.SE), fullPtr(p.CILow), fullPtr(p.CIHigh), fullPtr(p.Tau2),
+			fullPtr(p.I2), s.Truth, full(s.TruthThreshold)}
+		type key struct {
+			test string
+			minK int
 		}
-		for _, t := range []string{"egger", "egger_sample_size", "begg", "trim_fill", "selection"} {
-			d := det[t]
-			csv = append(csv, fmt.Sprint(d.TP), fmt.Sprint(d.FP), fmt.Sprint(d.FN), fmt.Sprint(d.TN),
-				fullPtr(d.Sensitivity), fullPtr(d.SensitivityCILow), fullPtr(d.SensitivityCIHigh),
-				fullPtr(d.Specificity), fullPtr(d.SpecificityCILow), fullPtr(d.SpecificityCIHigh))
+		det := map[key]compare.Detection{}
+		for _, d := range s.Detection {
+			det[key{d.Test, d.MinK}] = d
+		}
+		for _, k := range []int{0, 10} {
+			for _, t := range detectionTests {
+				d := det[key{t, k}]
+				csv = append(csv, fmt.Sprint(d.TP), fmt.Sprint(d.FP), fmt.Sprint(d.FN), fmt.Sprint(d.TN), fmt.Sprint(d.Unknown),
+					fullPtr(d.Sensitivity), fullPtr(d.SensitivityCILow), fullPtr(d.SensitivityCIHigh),
+					fullPtr(d.Specificity), fullPtr(d.SpecificityCILow), fullPtr(d.SpecificityCIHigh))
+			}
 		}
 		adj := map[string]compare.AdjustedError{}
 		for _, e := range s.AdjustedError {
@@ -221,30 +246,44 @@ func summaryGrid(runs []storedSummary) grid {
 		}
 		g.CSV = append(g.CSV, csv)
 
-		title := "Detection of the registry shift by each diagnostic on the published studies"
-		if len(runs) > 1 {
-			title += fmt.Sprintf(" (run %d)", r.RunID)
-		}
-		t := titled{Title: title, Header: []string{"test", "rule", "TP", "FP", "FN", "TN", "not run", "sensitivity [95% CI]", "specificity [95% CI]"}}
-		for _, d := range s.Detection {
-			t.Rows = append(t.Rows, []string{d.Test, d.Rule, fmt.Sprint(d.TP), fmt.Sprint(d.FP), fmt.Sprint(d.FN), fmt.Sprint(d.TN), fmt.Sprint(d.Skipped),
-				propCell(d.Sensitivity, d.SensitivityCILow, d.SensitivityCIHigh), propCell(d.Specificity, d.SpecificityCILow, d.SpecificityCIHigh)})
-		}
-		truth := fmt.Sprintf("|shift| > %g SD units", s.TruthThreshold)
+		truth := fmt.Sprintf("overstatement of the benefit > %g SD", s.TruthThreshold)
 		if s.Truth == compare.TruthQBetween {
-			truth = "subgroup Q-between p < 0.05"
+			truth = "subgroup Q-between p < 0.05 with the published studies more favourable"
 		}
-		t.Notes = []string{"Truth: " + truth + "; reviews with nothing added count as not shifted. Intervals: Wilson score."}
-		e := titled{Title: "Bias-adjusted estimates against the augmented estimate (SD units)", Header: []string{"method", "reviews", "mean error", "RMSE"}}
+		for _, k := range []int{0, 10} {
+			title := "Detection of overstatement by each diagnostic on the published studies"
+			if k > 0 {
+				title += fmt.Sprintf(" (reviews with at least %d published studies)", k)
+			} else {
+				title += " (all reviews)"
+			}
+			if len(runs) > 1 {
+				title += fmt.Sprintf(" (run %d)", r.RunID)
+			}
+			t := titled{Title: title, Header: []string{"test", "rule", "TP", "FP", "FN", "TN", "unknown", "not run", "sensitivity [95% CI]", "specificity [95% CI]"}}
+			for _, d := range s.Detection {
+				if d.MinK != k {
+					continue
+				}
+				t.Rows = append(t.Rows, []string{d.Test, d.Rule, fmt.Sprint(d.TP), fmt.Sprint(d.FP), fmt.Sprint(d.FN), fmt.Sprint(d.TN), fmt.Sprint(d.Unknown), fmt.Sprint(d.Skipped),
+					propCell(d.Sensitivity, d.SensitivityCILow, d.SensitivityCIHigh), propCell(d.Specificity, d.SpecificityCILow, d.SpecificityCIHigh)})
+			}
+			t.Notes = []string{"Truth: " + truth + "; reviews with nothing added count as not overstated when no eligible registered trial lacks results, and as unknown (left out) otherwise. A test counts only when its asymmetry points to missing unfavourable small studies. Intervals: Wilson score."}
+			if k > 0 {
+				t.Notes = append(t.Notes, fmt.Sprintf("Asymmetry tests are not advised with fewer than %d studies (Sterne et al. 2011, BMJ 343:d4002).", k))
+			}
+			g.Extra = append(g.Extra, t)
+		}
+		e := titled{Title: "Bias-adjusted estimates against the augmented estimate (oriented, SD units)", Header: []string{"method", "reviews", "mean error", "RMSE"}}
 		for _, a := range s.AdjustedError {
 			e.Rows = append(e.Rows, []string{a.Method, fmt.Sprint(a.N), roundPtr(a.MeanError, 3), roundPtr(a.RMSE, 3)})
 		}
-		e.Notes = []string{"Error = (estimate from the published studies - augmented random-effects estimate) / SD; \"published\" is unadjusted."}
-		g.Extra = append(g.Extra, t, e)
+		e.Notes = []string{"Error = favourable x (estimate from the published studies - augmented random-effects estimate) / SD, over reviews with registry additions: positive still overstates the benefit; \"published\" is unadjusted."}
+		g.Extra = append(g.Extra, e)
 	}
 	g.Notes = append([]string{
-		"Shift distribution and pooled difference: reviews with at least one registry trial added; conclusion shares: all reviews.",
-		"Pooled difference: random effects over reviews of (registry - published) / SD, where SD is each MD review's pooled SD (1 for SMD).",
+		"Overstatement, pooled overstatement and adjusted errors: reviews with at least one registry trial added, oriented so that positive means the published-only analysis overstates the benefit; conclusion shares: all reviews.",
+		"Pooled overstatement: random effects over reviews of favourable x (published - registry) / SD, where SD is each MD review's pooled SD (1 for SMD).",
 	}, cautions...)
 	return g
 }
@@ -256,17 +295,18 @@ func propCell(p, lo, hi *float64) string {
 	return fmt.Sprintf("%s [%s, %s]", round(*p, 2), roundPtr(lo, 2), roundPtr(hi, 2))
 }
 
-// writeBatchFigures writes the distribution of shifts across reviews and
-// shift against the published-only estimate, both in SD units.
+// writeBatchFigures writes the distribution of the oriented overstatement
+// across reviews and overstatement against the oriented published-only
+// estimate, both in SD units.
 func writeBatchFigures(dir string, audits []compare.ReviewAudit) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("figures folder: %w", err)
 	}
-	published, shifts, labels := compare.ShiftPoints(audits)
-	if err := plotrender.WritePlot(filepath.Join(dir, "shift-histogram.svg"), plotrender.ShiftHistogram{ShiftsSD: shifts}); err != nil {
+	published, over, labels := compare.ShiftPoints(audits)
+	if err := plotrender.WritePlot(filepath.Join(dir, "shift-histogram.svg"), plotrender.ShiftHistogram{ShiftsSD: over}); err != nil {
 		return fmt.Errorf("shift histogram: %w", err)
 	}
-	if err := plotrender.WritePlot(filepath.Join(dir, "shift-vs-published.svg"), plotrender.ShiftScatter{Published: published, ShiftSD: shifts, Labels: labels}); err != nil {
+	if err := plotrender.WritePlot(filepath.Join(dir, "shift-vs-published.svg"), plotrender.ShiftScatter{Published: published, ShiftSD: over, Labels: labels}); err != nil {
 		return fmt.Errorf("shift scatter: %w", err)
 	}
 	return nil

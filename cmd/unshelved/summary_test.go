@@ -28,14 +28,22 @@ func TestAuditStoresRunsAndExplains(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("audit exit %d: %s", code, stderr)
 	}
+	if !strings.Contains(stderr, "--bootstrap has no effect") {
+		t.Errorf("stderr does not say --bootstrap has no effect: %s", stderr)
+	}
 	var audits []map[string]any
 	if err := json.Unmarshal([]byte(out), &audits); err != nil {
 		t.Fatal(err)
 	}
 	for _, a := range audits {
 		shift := a["shift"].(map[string]any)
-		if shift["boot_ci_low"] == nil || shift["boot_replicates"].(float64) != 200 {
-			t.Errorf("%v: bootstrap %v", a["review_id"], shift)
+		if shift["ci_low"] == nil || shift["ci_high"] == nil || shift["ci_method"] != "subgroup-model-kh" || shift["overstatement_sd"] == nil {
+			t.Errorf("%v: shift interval %v", a["review_id"], shift)
+		}
+		// Every demo review's registry trials are less favourable: the
+		// published-only analysis overstates the benefit.
+		if o, _ := shift["overstatement_sd"].(float64); !(o > 0) {
+			t.Errorf("%v: overstatement %v, want positive", a["review_id"], shift["overstatement_sd"])
 		}
 		sg, ok := a["subgroup"].(map[string]any)
 		if !ok {
@@ -149,23 +157,39 @@ func TestSummaryCommand(t *testing.T) {
 	if s["reviews"].(float64) != 3 {
 		t.Errorf("reviews %v", s["reviews"])
 	}
-	for _, k := range []string{"shift_smd", "conclusion_changed_share", "pooled_difference_smd", "detection", "adjusted_error"} {
+	for _, k := range []string{"overstatement_sd", "conclusion_changed_share", "pooled_overstatement_sd", "detection", "adjusted_error"} {
 		if _, ok := s[k]; !ok {
 			t.Errorf("summary lacks %s", k)
 		}
 	}
-	for _, k := range []string{"median", "q1", "q3", "toward_benefit_share"} {
-		if _, ok := s["shift_smd"].(map[string]any)[k]; !ok {
-			t.Errorf("shift_smd lacks %s", k)
+	for _, k := range []string{"shift_smd", "pooled_difference_smd"} {
+		if _, ok := s[k]; ok {
+			t.Errorf("summary still has the renamed key %s", k)
+		}
+	}
+	for _, k := range []string{"n", "median", "q1", "q3", "mean", "share_positive"} {
+		if _, ok := s["overstatement_sd"].(map[string]any)[k]; !ok {
+			t.Errorf("overstatement_sd lacks %s", k)
 		}
 	}
 	for _, k := range []string{"estimate", "se", "ci_low", "ci_high", "tau2", "i2"} {
-		if _, ok := s["pooled_difference_smd"].(map[string]any)[k]; !ok {
-			t.Errorf("pooled_difference_smd lacks %s", k)
+		if _, ok := s["pooled_overstatement_sd"].(map[string]any)[k]; !ok {
+			t.Errorf("pooled_overstatement_sd lacks %s", k)
 		}
 	}
+	// The demo's reviews all have lower is better and registry trials less
+	// favourable than the published ones: the oriented figures are positive.
+	if e, _ := s["pooled_overstatement_sd"].(map[string]any)["estimate"].(float64); !(e > 0) {
+		t.Errorf("pooled overstatement %v, want positive", s["pooled_overstatement_sd"])
+	}
+	if sp, _ := s["overstatement_sd"].(map[string]any)["share_positive"].(float64); sp != 1 {
+		t.Errorf("overstatement %v, want share_positive 1", s["overstatement_sd"])
+	}
+	if n := len(s["detection"].([]any)); n != 10 {
+		t.Errorf("%d detection tables, want 10 (5 tests, min_k 0 and 10)", n)
+	}
 	d := s["detection"].([]any)[0].(map[string]any)
-	for _, k := range []string{"test", "tp", "fp", "fn", "tn", "sensitivity", "sensitivity_ci_low", "sensitivity_ci_high", "specificity", "specificity_ci_low", "specificity_ci_high"} {
+	for _, k := range []string{"test", "min_k", "unknown", "tp", "fp", "fn", "tn", "sensitivity", "sensitivity_ci_low", "sensitivity_ci_high", "specificity", "specificity_ci_low", "specificity_ci_high"} {
 		if _, ok := d[k]; !ok {
 			t.Errorf("detection lacks %s", k)
 		}
@@ -194,7 +218,7 @@ func TestSummaryCommand(t *testing.T) {
 	if err := json.Unmarshal([]byte(back), &st); err != nil || code != exitOK || st.Status != "complete" {
 		t.Fatalf("stored summary: %v %d %s", err, code, back)
 	}
-	if st.Summary["pooled_difference_smd"].(map[string]any)["estimate"] != s["pooled_difference_smd"].(map[string]any)["estimate"] {
+	if st.Summary["pooled_overstatement_sd"].(map[string]any)["estimate"] != s["pooled_overstatement_sd"].(map[string]any)["estimate"] {
 		t.Errorf("stored estimate differs from the computed one")
 	}
 	code, csv, _ := runCLI(t, "", "--db", db, "summary", "--run", first, "--format", "csv")

@@ -6,19 +6,24 @@ import (
 	"math"
 )
 
-// ShiftHistogram is the distribution of shifts across reviews, in SD units
-// (augmented minus published, see compare.Shift.SDUnits).
+// ShiftHistogram is the distribution across reviews of the oriented
+// overstatement of the benefit in SD units (compare.Shift.OverstatementSD:
+// favourable · (published - augmented) / SD, positive when the
+// published-only analysis overstates the benefit).
 type ShiftHistogram struct {
 	Title    string
 	ShiftsSD []float64 // NaN and infinite values are skipped
 }
 
-// ShiftScatter is each review's shift against its published-only
-// estimate. Published should be on a common scale across reviews (SD
-// units, as SMD or MD / pooled SD) for the picture to compare reviews.
+// ShiftScatter is each review's oriented overstatement against its
+// published-only estimate. Published should be on a common oriented scale
+// across reviews (favourable · estimate in SD units, as SMD or MD / pooled
+// SD, positive favouring the intervention) for the picture to compare
+// reviews; ShiftSD holds the overstatements (positive: published
+// overstates).
 type ShiftScatter struct {
 	Title     string
-	XLabel    string // zero means "Published-only estimate (SD units)"
+	XLabel    string // zero means the oriented published-only estimate in SD units
 	Published []float64
 	ShiftSD   []float64
 	Labels    []string // optional, one per point
@@ -63,7 +68,7 @@ func (h ShiftHistogram) title() string {
 	if h.Title != "" {
 		return h.Title
 	}
-	return "Shift of the pooled estimate across reviews"
+	return "Overstatement of the benefit across reviews"
 }
 
 // histogramBins chooses bins with edges at multiples of a nice width,
@@ -124,20 +129,20 @@ func (h ShiftHistogram) draw(p painter) {
 			continue
 		}
 		x0, x1 := x.at(lo+float64(i)*width)+1, x.at(lo+float64(i+1)*width)-1
-		// Bars toward benefit and harm are not known here; one colour,
-		// hatched by an outline so that greyscale keeps the edges.
+		// One colour, with an outline so that greyscale keeps the edges;
+		// the side of 0 says which way the published evidence errs.
 		p.poly([]pt{{x0, y.at(0)}, {x1, y.at(0)}, {x1, y.at(float64(c))}, {x0, y.at(float64(c))}}, true,
 			style{Fill: colSky, FillOpacity: 1, Stroke: colBlue, Width: 1.2})
 	}
 	p.end()
-	drawBatchXAxis(p, x, width, "Shift of the pooled estimate (SD units, augmented \u2212 published)")
+	drawBatchXAxis(p, x, width, "Overstatement, SD: \u2190 published understates | published overstates the benefit \u2192")
 	p.begin("null")
 	p.line(pt{x.at(0), batchTop}, pt{x.at(0), batchBottom}, style{Stroke: colInk, Width: 1.2, Dash: []float64{5, 3}})
 	p.end()
 	p.text(pt{18, (batchTop + batchBottom) / 2}, "Reviews", textStyle{Size: 12, Anchor: anchorMiddle, Color: colInk, Up: true})
 	note := fmt.Sprintf("%d reviews", len(xs))
 	if len(xs) == 0 {
-		note = "No review has a shift in SD units"
+		note = "No review has an overstatement in SD units"
 	}
 	p.text(pt{batchRight, 28}, note, textStyle{Size: 11.5, Anchor: anchorEnd, Color: colMuted})
 }
@@ -159,7 +164,7 @@ func (s ShiftScatter) title() string {
 	if s.Title != "" {
 		return s.Title
 	}
-	return "Shift against the published-only estimate"
+	return "Overstatement against the published-only estimate"
 }
 
 func (s ShiftScatter) draw(p painter) {
@@ -190,14 +195,14 @@ func (s ShiftScatter) draw(p painter) {
 	p.end()
 	xl := s.XLabel
 	if xl == "" {
-		xl = "Published-only estimate (SD units)"
+		xl = "Published-only estimate (SD units, positive favours the intervention)"
 	}
 	drawBatchXAxis(p, x, xstep, xl)
 	p.begin("null")
 	p.line(pt{batchLeft, y.at(0)}, pt{batchRight, y.at(0)}, style{Stroke: colInk, Width: 1.2, Dash: []float64{5, 3}})
 	p.line(pt{x.at(0), batchTop}, pt{x.at(0), batchBottom}, style{Stroke: colInk, Width: 0.9})
 	p.end()
-	p.text(pt{18, (batchTop + batchBottom) / 2}, "Shift (SD units)", textStyle{Size: 12, Anchor: anchorMiddle, Color: colInk, Up: true})
+	p.text(pt{18, (batchTop + batchBottom) / 2}, "Overstatement (SD; up: published overstates)", textStyle{Size: 12, Anchor: anchorMiddle, Color: colInk, Up: true})
 	drawn := 0
 	for i := 0; i < n; i++ {
 		if len(finite([]float64{s.Published[i], s.ShiftSD[i]})) < 2 {

@@ -350,7 +350,7 @@ func TestPlotEdges(t *testing.T) {
 		{"forest k=1 no registry", ForestInput{Published: []ForestRow{{Label: "only", Effect: 1, CILow: 0.5, CIHigh: 1.5, Weights: []*float64{ptr(100)}}},
 			WeightHeaders: []string{"Weight"}, Pooled: []ForestPooled{{Label: "Pooled", Estimate: ptr(1), CILow: ptr(0.5), CIHigh: ptr(1.5)}}}, 1, "Pooled"},
 		{"forest pooled missing", ForestInput{Published: []ForestRow{{Label: "a", Effect: 1, CILow: 0, CIHigh: 2}}, Pooled: []ForestPooled{{Label: "Pooled"}}}, 1, "not estimable"},
-		{"histogram empty", ShiftHistogram{}, 0, "No review has a shift"},
+		{"histogram empty", ShiftHistogram{}, 0, "No review has an overstatement"},
 		{"histogram one", ShiftHistogram{ShiftsSD: []float64{0.2, math.NaN()}}, 0, "1 reviews"},
 		{"scatter empty", ShiftScatter{}, 0, "No review to draw"},
 		{"scatter two", ShiftScatter{Published: []float64{-0.5, 0.3}, ShiftSD: []float64{0.1, math.Inf(1)}, Labels: []string{"R<1>", "R2"}}, 1, "R<1>"},

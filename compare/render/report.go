@@ -290,8 +290,18 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 	if s := a.Shift.SDUnits; s != nil {
 		out = append(out, "In standard-deviation units the shift is "+fmtFixed(*s, 2)+" SD.")
 	}
-	if a.Shift.BootCILow != nil && a.Shift.BootCIHigh != nil {
-		out = append(out, "Bootstrap "+lv+" interval of the shift: "+fmtFixed(*a.Shift.BootCILow, 2)+" to "+fmtFixed(*a.Shift.BootCIHigh, 2)+".")
+	if a.Shift.CILow != nil && a.Shift.CIHigh != nil {
+		out = append(out, lv+" interval of the shift: "+fmtFixed(*a.Shift.CILow, 2)+" to "+fmtFixed(*a.Shift.CIHigh, 2)+" (subgroup model, Knapp-Hartung).")
+	}
+	if o := a.Shift.OverstatementSD; o != nil && a.KAdded > 0 {
+		t := "The published-only analysis overstates the benefit by " + fmtFixed(*o, 2) + " SD"
+		if *o < 0 {
+			t = "The published-only analysis understates the benefit by " + fmtFixed(-*o, 2) + " SD"
+		}
+		if a.Shift.OverstatementCILow != nil && a.Shift.OverstatementCIHigh != nil {
+			t += " (overstatement " + lv + " interval " + fmtFixed(*a.Shift.OverstatementCILow, 2) + " to " + fmtFixed(*a.Shift.OverstatementCIHigh, 2) + " SD)"
+		}
+		out = append(out, t+".")
 	}
 	out = append(out, missingSentence(a)...)
 	switch a.Shift.Toward {

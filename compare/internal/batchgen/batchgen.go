@@ -18,6 +18,11 @@
 // trial is published. Each selective review also registers NoResults
 // trials with an enrolment and no posted results.
 //
+// A share LowerShare of reviews has lower is better: their trials are
+// drawn the same way on the favourable scale and every effect is negated
+// (published means and registry arm means alike), so that the oriented
+// truth is the same whichever way is better.
+//
 // Posted arm SDs equal the true SD (a simplification that keeps each
 // study's SE known exactly), so the expected values below hold exactly for
 // MD reviews and up to Hedges' small-sample factor for SMD ones.
@@ -46,14 +51,16 @@ type Settings struct {
 	Selective              float64 // share of selective reviews (negative means none)
 	PublishNonsig          float64 // probability a non-significant trial is published
 	NoResults              int     // trials without results per selective review (negative means none)
+	LowerShare             float64 // share of reviews where lower is better (negative means none)
 	Seed                   uint64
 }
 
 // Defaults: 200 reviews of 8 to 16 trials, 20 to 100 per arm, true effect
 // 0.3 SD, half SMD, 80% selective, non-significant trials published with
-// probability 0.3, one trial without results per selective review.
+// probability 0.3, one trial without results per selective review, half
+// of the reviews with lower is better.
 var Defaults = Settings{Reviews: 200, MinStudies: 8, MaxStudies: 16, MinN: 20, MaxN: 100, Theta: 0.3, SD: 10,
-	SMDShare: 0.5, Selective: 0.8, PublishNonsig: 0.3, NoResults: 1, Seed: 1}
+	SMDShare: 0.5, Selective: 0.8, PublishNonsig: 0.3, NoResults: 1, LowerShare: 0.5, Seed: 1}
 
 func (s Settings) resolve() Settings {
 	d := Defaults
@@ -90,6 +97,9 @@ func (s Settings) resolve() Settings {
 	if s.NoResults == 0 {
 		s.NoResults = d.NoResults
 	}
+	if s.LowerShare == 0 {
+		s.LowerShare = d.LowerShare
+	}
 	return s
 }
 
@@ -97,11 +107,16 @@ func (s Settings) resolve() Settings {
 type Review struct {
 	ReviewID  string
 	Selective bool
+	// Better is the review's better direction, "higher" or "lower".
+	Better string
 	// Published and Unpublished count the trials.
 	Published, Unpublished int
 	// ExpectedDifference is the expected subgroup difference, registry
-	// minus published, in SD units, given the trials' SEs and which were
-	// published, with inverse-variance (fixed-effect) weights:
+	// minus published, in SD units on the favourable scale (positive
+	// favours the intervention, whichever way is better; on the review's
+	// own scale the difference is negated when lower is better), given the
+	// trials' SEs and which were published, with inverse-variance
+	// (fixed-effect) weights:
 	//
 	//	E = sum_U w_i m0(s_i) / sum_U w_i - sum_P w_i m1(s_i) / sum_P w_i
 	//
@@ -152,7 +167,12 @@ func Generate(set Settings) Batch {
 		id := fmt.Sprintf("GEN-%05d", r+1)
 		smd := rng.Float64() < s.SMDShare
 		selective := rng.Float64() < s.Selective
+		lower := rng.Float64() < s.LowerShare
 		rv := ingest.Review{ReviewID: id, Title: "Generated review " + id, Measure: "MD", Outcome: "symptom score", Unit: "points", Better: "higher"}
+		sign := 1.0
+		if lower {
+			rv.Better, sign = "lower", -1
+		}
 		sd := s.SD
 		if smd {
 			rv.Measure, rv.Unit, sd = "SMD", "", 1
@@ -160,7 +180,7 @@ func Generate(set Settings) Batch {
 		var truth Review
 		var in compare.AuditInput
 		for {
-			truth = Review{ReviewID: id, Selective: selective}
+			truth = Review{ReviewID: id, Selective: selective, Better: rv.Better}
 			in = compare.AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
 			k := s.MinStudies + rng.IntN(s.MaxStudies-s.MinStudies+1)
 			var swP, swU, sumP, sumU float64
@@ -177,13 +197,13 @@ func Generate(set Settings) Batch {
 					truth.Published++
 					swP += w
 					sumP += w * m1
-					in.Studies = append(in.Studies, publishedStudy(id, i, trialID, y, se, n, sd, smd))
+					in.Studies = append(in.Studies, publishedStudy(id, i, trialID, sign*y, se, n, sd, smd))
 					continue
 				}
 				truth.Unpublished++
 				swU += w
 				sumU += w * m0
-				t := registryTrial(trialID, y*sd, sd, n)
+				t := registryTrial(trialID, sign*y*sd, sd, n)
 				in.Trials[trialID] = t
 				in.Links = append(in.Links, ingest.Link{ReviewID: id, TrialID: trialID, OutcomeIndex: 0,
 					TreatGroups: []string{"OG001"}, CtrlGroups: []string{"OG000"}, Decision: "accept", Class: compare.ClassRegistryOnly})

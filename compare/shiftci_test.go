@@ -4,10 +4,12 @@ import (
 	"context"
 	"fmt"
 	"reflect"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"unshelved/analysis"
 	"unshelved/ingest"
 )
 
@@ -32,7 +34,7 @@ func constructedInput(id string, pub, reg [][2]float64) AuditInput {
 	return in
 }
 
-func TestBootstrapConstructed(t *testing.T) {
+func TestShiftIntervalConstructed(t *testing.T) {
 	base := [][2]float64{{0.1, 0.2}, {0.5, 0.2}, {0.3, 0.2}, {0.8, 0.2}, {0.2, 0.2}, {0.6, 0.2}}
 	offset := func(c float64) [][2]float64 {
 		out := make([][2]float64, len(base))
@@ -55,7 +57,7 @@ func TestBootstrapConstructed(t *testing.T) {
 		{"registry lower by 1", offset(-1), -1, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			a, err := AuditReview(constructedInput("R", base, tc.reg), Options{Bootstrap: 1000, Seed: 3, SkipBias: true})
+			a, err := AuditReview(constructedInput("R", base, tc.reg), Options{SkipBias: true})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -63,34 +65,68 @@ func TestBootstrapConstructed(t *testing.T) {
 			if a.Shift.Absolute == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.Absolute, tc.c/2, tol, tol) {
 				t.Errorf("shift = %v, want %v", deref(a.Shift.Absolute), tc.c/2)
 			}
-			if a.Subgroup == nil || a.Subgroup.Difference == nil || !scalar.EqualWithinAbsOrRel(*a.Subgroup.Difference, tc.c, tol, tol) {
-				t.Errorf("subgroup difference = %+v, want %v", a.Subgroup, tc.c)
+			// Equal SEs: the subgroup-model estimate equals the plain shift.
+			if a.Shift.CIEstimate == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.CIEstimate, tc.c/2, tol, tol) {
+				t.Errorf("interval centre = %v, want %v", deref(a.Shift.CIEstimate), tc.c/2)
 			}
-			lo, hi := a.Shift.BootCILow, a.Shift.BootCIHigh
-			if lo == nil || hi == nil {
-				t.Fatalf("no bootstrap interval: %+v", a.Shift)
+			lo, hi := a.Shift.CILow, a.Shift.CIHigh
+			if lo == nil || hi == nil || a.Shift.CIMethod != analysis.ShiftCIMethod {
+				t.Fatalf("no interval: %+v", a.Shift)
 			}
-			if !(*lo <= tc.c/2 && tc.c/2 <= *hi) {
-				t.Errorf("bootstrap CI [%v, %v] does not hold the shift %v", *lo, *hi, tc.c/2)
+			if !(*lo < tc.c/2 && tc.c/2 < *hi) {
+				t.Errorf("CI [%v, %v] does not hold the shift %v", *lo, *hi, tc.c/2)
 			}
 			if tc.excludeZero == (*lo <= 0 && 0 <= *hi) {
-				t.Errorf("bootstrap CI [%v, %v]: excludes 0 = %v, want %v", *lo, *hi, !(*lo <= 0 && 0 <= *hi), tc.excludeZero)
+				t.Errorf("CI [%v, %v]: excludes 0 = %v, want %v", *lo, *hi, !(*lo <= 0 && 0 <= *hi), tc.excludeZero)
 			}
-			if a.Shift.BootReplicates != 1000 || a.Shift.BootFailed != 0 {
-				t.Errorf("replicates %d failed %d", a.Shift.BootReplicates, a.Shift.BootFailed)
+			// Higher is better and SD 1: the overstatement interval is the
+			// shift interval negated.
+			if ol, oh := a.Shift.OverstatementCILow, a.Shift.OverstatementCIHigh; ol == nil || oh == nil ||
+				!scalar.EqualWithinAbsOrRel(*ol, -*hi, tol, tol) || !scalar.EqualWithinAbsOrRel(*oh, -*lo, tol, tol) {
+				t.Errorf("overstatement interval [%v, %v], want [%v, %v]", deref(ol), deref(oh), -*hi, -*lo)
 			}
 		})
 	}
 }
 
-func TestBootstrapDeterministic(t *testing.T) {
+// TestShiftIntervalOnePlusOne is the example: one published study
+// and one registry trial gave a zero-width resampling interval. No degree
+// of freedom is left for the between-study variance, so there is no
+// interval, and a warning says why.
+func TestShiftIntervalOnePlusOne(t *testing.T) {
+	a, err := AuditReview(constructedInput("R", [][2]float64{{0.5, 0.1}}, [][2]float64{{0, 0.1}}), Options{SkipBias: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Shift.CILow != nil || a.Shift.CIHigh != nil || a.Shift.CIMethod != "" {
+		t.Errorf("interval %v to %v (%q), want none", deref(a.Shift.CILow), deref(a.Shift.CIHigh), a.Shift.CIMethod)
+	}
+	found := false
+	for _, w := range a.Warnings {
+		found = found || strings.Contains(w, "shift: no confidence interval")
+	}
+	if !found {
+		t.Errorf("no warning about the missing interval: %q", a.Warnings)
+	}
+	// The oriented overstatement itself is there: higher is better, the
+	// registry trial is 0.5 lower, SD 0.5 (SE·5): by hand, equal weights,
+	// shift -0.25, overstatement 0.25/0.5 = 0.5 SD.
+	if a.Shift.OverstatementSD == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.OverstatementSD, 0.5, 1e-9, 1e-9) {
+		t.Errorf("overstatement %v, want 0.5", deref(a.Shift.OverstatementSD))
+	}
+}
+
+// TestShiftIntervalDeterministic: the audit passes the studies' effects and
+// SEs to analysis.ShiftInterval unchanged, and the result does not depend
+// on the number of workers or on the other reviews.
+func TestShiftIntervalDeterministic(t *testing.T) {
 	var inputs []AuditInput
 	for i := range 6 {
 		inputs = append(inputs, constructedInput(fmt.Sprintf("R%d", i),
 			[][2]float64{{0.1, 0.2}, {0.5, 0.25}, {0.3, 0.3}, {0.9, 0.2}},
 			[][2]float64{{-0.2 + 0.1*float64(i), 0.3}, {0.1, 0.2}}))
 	}
-	opts := Options{Bootstrap: 200, Seed: 11, SkipBias: true}
+	opts := Options{SkipBias: true}
 	one, _, err := AuditAll(context.Background(), inputs, opts, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -100,41 +136,24 @@ func TestBootstrapDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i := range one {
-		if one[i].ReviewID != inputs[i].Review.ReviewID {
-			t.Errorf("audit %d is %s, want input order", i, one[i].ReviewID)
-		}
 		if !reflect.DeepEqual(one[i].Shift, two[i].Shift) {
 			t.Errorf("%s: shift differs between 1 and 3 workers: %+v vs %+v", one[i].ReviewID, one[i].Shift, two[i].Shift)
 		}
-	}
-	// A lone review gives the same interval as inside the batch.
-	alone, err := AuditReview(inputs[3], opts)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !reflect.DeepEqual(alone.Shift, one[3].Shift) {
-		t.Errorf("alone %+v, in batch %+v", alone.Shift, one[3].Shift)
-	}
-	other := opts
-	other.Seed = 12
-	b, _ := AuditReview(inputs[3], other)
-	if *b.Shift.BootCILow == *alone.Shift.BootCILow {
-		t.Errorf("another seed gave the same lower limit %v", *b.Shift.BootCILow)
+		var y, seY []float64
+		for _, s := range one[i].Studies {
+			y, seY = append(y, s.Effect), append(seY, s.SE)
+		}
+		want, err := analysis.ShiftInterval(y, seY, one[i].KPublished, 0.95)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if lo, hi := one[i].Shift.CILow, one[i].Shift.CIHigh; lo == nil || *lo != want.Low || *hi != want.High {
+			t.Errorf("%s: interval %v to %v, want %v to %v", one[i].ReviewID, deref(lo), deref(hi), want.Low, want.High)
+		}
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
 	if _, _, err := AuditAll(ctx, inputs, opts, 2); err == nil {
 		t.Errorf("cancelled context: no error")
-	}
-}
-
-func TestQuantile7(t *testing.T) {
-	// R 4.2.2: quantile(c(1, 2, 4, 8, 16), c(0.025, 0.25, 0.5, 0.975), type = 7)
-	// gives 1.1, 2, 4, 15.2 (by hand: h = 4p; h = 0.1 gives 1 + 0.1·1, h = 3.9 gives 8 + 0.9·8).
-	x := []float64{1, 2, 4, 8, 16}
-	for _, c := range []struct{ p, want float64 }{{0.025, 1.1}, {0.25, 2}, {0.5, 4}, {0.975, 15.2}, {0, 1}, {1, 16}} {
-		if got := quantile7(x, c.p); !scalar.EqualWithinAbsOrRel(got, c.want, 1e-12, 1e-12) {
-			t.Errorf("quantile7(%v) = %v, want %v", c.p, got, c.want)
-		}
 	}
 }
