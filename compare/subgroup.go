@@ -75,7 +75,7 @@ func subgroupTest(muP, seP, muR, seR, level float64) (d, se, lo, hi, q, p float6
 }
 
 // reBuffer holds the scratch slices of repeated random-effects fits, so
-// that the bootstrap allocates only what analysis.Tau2 does.
+// that they allocate only what analysis.Tau2 does.
 type reBuffer struct {
 	y, seY []float64
 }
@@ -96,7 +96,7 @@ func (b *reBuffer) poolStudies(studies []StudyEffect, m analysis.Tau2Method) (mu
 //
 // ok is false when the inputs are unusable or tau² did not converge. It
 // skips what analysis.Pool adds (intervals, Q-profile, leave-one-out), so it
-// is cheap enough for bootstrap replicates.
+// is cheap enough to run many times.
 func poolRE(y, seY []float64, m analysis.Tau2Method) (mu, seMu, tau2 float64, ok bool) {
 	if len(y) == 0 {
 		return 0, 0, 0, false

@@ -12,32 +12,25 @@ import (
 // BenchmarkAuditSummary5000 audits 5,000 generated reviews of 10 to 14
 // registered trials (about three registry-only additions each) and
 // summarizes them, on all cores, with the bias battery (selection model
-// included) and with the bootstrap off or at 1,000 replicates. Pure core:
-// no database. Run with -benchtime 1x.
+// included) and the analytic shift interval. Pure core: no database. Run
+// with -benchtime 1x.
 func BenchmarkAuditSummary5000(b *testing.B) {
 	batch := batchgen.Generate(batchgen.Settings{Reviews: 5000, MinStudies: 10, MaxStudies: 14, PublishNonsig: 0.5, Seed: 9})
 	added := 0
 	for _, r := range batch.Reviews {
 		added += r.Unpublished
 	}
-	for _, bc := range []struct {
-		name string
-		boot int
-	}{{"bootstrap=0", 0}, {"bootstrap=1000", 1000}} {
-		b.Run(bc.name, func(b *testing.B) {
-			b.ReportAllocs()
-			for b.Loop() {
-				audits, failed, err := compare.AuditAll(context.Background(), batch.Inputs, compare.Options{Bootstrap: bc.boot, Seed: 1}, runtime.GOMAXPROCS(0))
-				if err != nil || len(failed) > 0 {
-					b.Fatal(err, failed)
-				}
-				s := compare.Summarize(audits, compare.SummaryOptions{})
-				if s.Reviews != 5000 {
-					b.Fatal(s.Reviews)
-				}
-			}
-			b.ReportMetric(float64(added)/5000, "added/review")
-			b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/batch")
-		})
+	b.ReportAllocs()
+	for b.Loop() {
+		audits, failed, err := compare.AuditAll(context.Background(), batch.Inputs, compare.Options{Seed: 1}, runtime.GOMAXPROCS(0))
+		if err != nil || len(failed) > 0 {
+			b.Fatal(err, failed)
+		}
+		s := compare.Summarize(audits, compare.SummaryOptions{})
+		if s.Reviews != 5000 {
+			b.Fatal(s.Reviews)
+		}
 	}
+	b.ReportMetric(float64(added)/5000, "added/review")
+	b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/batch")
 }
