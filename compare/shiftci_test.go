@@ -157,3 +157,79 @@ func TestShiftIntervalDeterministic(t *testing.T) {
 		t.Errorf("cancelled context: no error")
 	}
 }
+
+// TestGradeHintDirection runs the GRADE-style hint through AuditReview on
+// the examples. Hand computation for the first two: every SE 0.2
+// and SD 1 (registry arms SD = 5 SE), 6 published and 6 registry trials, so
+// the pooled estimates are plain means and the registry copies moved by c
+// move the estimate by c/2: c = -0.3 gives an overstatement of +0.15 SD
+// (serious concern), c = +0.3 gives -0.15 SD, an understatement whose
+// interval lies below 0.1 SD (no serious concern: 6 studies, no test
+// counts). Raw signs gave "serious concern" for both.
+func TestGradeHintDirection(t *testing.T) {
+	base := []float64{0.4, 0.45, 0.5, 0.35, 0.55, 0.42}
+	withOffset := func(c float64) AuditInput {
+		var pub, reg [][2]float64
+		for _, b := range base {
+			pub = append(pub, [2]float64{b, 0.2})
+			reg = append(reg, [2]float64{b + c, 0.2})
+		}
+		return constructedInput("R", pub, reg)
+	}
+	opts := Options{SkipSelection: true}
+	for _, tc := range []struct {
+		name string
+		in   AuditInput
+		over float64
+		want string
+	}{
+		{"overstates by 0.15", withOffset(-0.3), 0.15, "serious concern"},
+		{"understates by 0.15", withOffset(0.3), -0.15, "no serious concern"},
+	} {
+		a, err := AuditReview(tc.in, opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if a.Shift.OverstatementSD == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.OverstatementSD, tc.over, 1e-9, 1e-9) {
+			t.Errorf("%s: overstatement %v, want %v", tc.name, deref(a.Shift.OverstatementSD), tc.over)
+		}
+		if a.Bias == nil || a.Bias.GradeHint.Level != tc.want {
+			t.Errorf("%s: hint %+v, want %q", tc.name, a.Bias, tc.want)
+		}
+	}
+
+	// One published study and one registry trial with a 0.05 SD
+	// overstatement (published 0.5, registry 0.45, SE 0.1, SD 0.5: shift
+	// -0.025 = 0.05 SD), first with nothing missing, then with an eligible
+	// trial of 200 participants that posted no results: 200 of 300
+	// randomized (the registry trial's 100 plus 200; the published study
+	// gives no N), a share of 2/3.
+	in := constructedInput("R2", [][2]float64{{0.5, 0.1}}, [][2]float64{{0.45, 0.1}})
+	a, err := AuditReview(in, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Bias == nil || a.Bias.GradeHint.Level != "cannot assess" {
+		t.Errorf("1 + 1 studies, nothing missing: hint %+v, want cannot assess (no interval, no test)", a.Bias)
+	}
+	enrol := 200
+	in.Trials["NCT99990999"] = ingest.Trial{TrialID: "NCT99990999", BriefTitle: "Unposted trial", OverallStatus: "COMPLETED", Enrollment: &enrol}
+	in.Links = append(in.Links, ingest.Link{ReviewID: "R2", TrialID: "NCT99990999", Class: ClassNoResults})
+	a, err = AuditReview(in, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Missing.Share == nil || !scalar.EqualWithinAbsOrRel(*a.Missing.Share, 2.0/3, 1e-12, 1e-12) {
+		t.Fatalf("missing share %v, want 2/3", deref(a.Missing.Share))
+	}
+	if a.Bias == nil || a.Bias.GradeHint.Level != "serious concern" {
+		t.Errorf("2 studies, 0.05 SD, 67%% without results: hint %+v, want serious concern", a.Bias)
+	}
+	found := false
+	for _, r := range a.Bias.GradeHint.Reasons {
+		found = found || strings.Contains(r, "67% of randomized participants")
+	}
+	if !found || len(a.Bias.GradeHint.Cautions) != 3 {
+		t.Errorf("reasons %q, cautions %q", a.Bias.GradeHint.Reasons, a.Bias.GradeHint.Cautions)
+	}
+}
