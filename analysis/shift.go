@@ -73,7 +73,8 @@ type ShiftCI struct {
 //	dShare/dtau² = (W_P dW_R - W_R dW_P) / W²,  dW_g = -sum_g w_i²
 //
 // and the interval is Estimate ± t_{k-2, 1-α/2} SE. The coverage of this
-// interval was checked by simulation (compare/shiftci_test.go).
+// interval is checked by simulation in TestShiftIntervalCoverage
+// (analysis/shift_test.go; figures in the README).
 //
 // Edges: fewer than 3 studies, or kPublished not in [1, k-1], is an error
 // (ErrShiftDF when k - 2 < 1); invalid effects or SEs are errors naming the
