@@ -8,7 +8,8 @@ import (
 )
 
 // samplesDir finds shared/registry-samples beside the repository root (the
-// folder holding go.mod), or skips the test when it is absent.
+// folder holding go.mod). When it is absent the test skips on a developer's
+// machine and fails in CI (CI=true), where the samples are always laid out.
 func samplesDir(tb testing.TB) string {
 	tb.Helper()
 	dir, err := os.Getwd()
@@ -21,15 +22,24 @@ func samplesDir(tb testing.TB) string {
 		}
 		parent := filepath.Dir(dir)
 		if parent == dir {
-			tb.Skipf("registry samples: no go.mod above the package directory")
+			missingSamples(tb, "registry samples: no go.mod above the package directory")
 		}
 		dir = parent
 	}
 	s := filepath.Join(dir, "..", "shared", "registry-samples")
 	if _, err := os.Stat(filepath.Join(s, "NCT02552212.json")); err != nil {
-		tb.Skipf("registry samples not found at %s (shared/ must sit beside the repository): %v", s, err)
+		missingSamples(tb, "registry samples not found at %s (shared/ must sit beside the repository): %v", s, err)
 	}
 	return s
+}
+
+// missingSamples fails the test in CI and skips it elsewhere.
+func missingSamples(tb testing.TB, format string, args ...any) {
+	tb.Helper()
+	if os.Getenv("CI") == "true" {
+		tb.Fatalf(format, args...)
+	}
+	tb.Skipf(format, args...)
 }
 
 func readSample(tb testing.TB, name string) []byte {
