@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -160,6 +161,16 @@ func TestAuditPIntervalInvariantProperty(t *testing.T) {
 			t.Fatalf("case %d: %v", i, err)
 		}
 		checked += checkAuditInvariant(t, fmt.Sprintf("case %d (ci %s, level %v)", i, opts.CI, opts.Level), a, opts.level(), opts.CI)
+		// The JSON output carries the same numbers.
+		b, err := json.Marshal(a)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back ReviewAudit
+		if err := json.Unmarshal(b, &back); err != nil {
+			t.Fatal(err)
+		}
+		checkAuditInvariant(t, fmt.Sprintf("case %d JSON", i), back, opts.level(), opts.CI)
 		if t.Failed() {
 			return
 		}

@@ -3,9 +3,14 @@ package render
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"io"
+	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -241,5 +246,69 @@ func TestReportPFromIntervalTest(t *testing.T) {
 	row = row[:strings.Index(row, "</tr>")]
 	if !strings.Contains(row, "[\u22120.08, 0.41]") || !strings.Contains(row, ">0.124<") || strings.Contains(row, "0.030") {
 		t.Errorf("published row %q: want the HKSJ interval [−0.08, 0.41] with p 0.124", row)
+	}
+}
+
+// Property: on generated review pages, the p printed in the pooled table
+// is below 1 - level exactly when the interval printed beside it excludes
+// 0. Rows where rounding to the printed digits could decide (p within
+// 0.0005 of 0.05, a limit within 0.005 of 0) are skipped and counted; the
+// audits have no links, so each page has its published-only row.
+func TestReportPIntervalProperty(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 4))
+	n := 150
+	if testing.Short() {
+		n = 30
+	}
+	row := regexp.MustCompile(`<td>(Published only|With registry-only trials)</td><td class="n">\d+</td><td class="n">[^<]*</td><td class="n">[^\[]*\[([^,]+), ([^\]]+)\]</td><td class="n">([^<]+)</td>`)
+	num := func(s string) float64 {
+		x, err := strconv.ParseFloat(strings.ReplaceAll(s, "\u2212", "-"), 64)
+		if err != nil {
+			t.Fatalf("unparsable %q", s)
+		}
+		return x
+	}
+	checked, skipped := 0, 0
+	for i := range n {
+		k := 1 + rng.IntN(10)
+		in := compare.AuditInput{Review: ingest.Review{ReviewID: fmt.Sprintf("G%d", i), Measure: "MD", Better: "lower"}}
+		mu := 0.3 * rng.NormFloat64()
+		for j := range k {
+			se := 0.05 + 0.5*rng.Float64()
+			eff := mu + 0.2*rng.NormFloat64() + se*rng.NormFloat64()
+			in.Studies = append(in.Studies, ingest.ReviewStudy{ReviewID: in.Review.ReviewID, Study: fmt.Sprint(j), Effect: &eff, SE: &se})
+		}
+		a, err := compare.AuditReview(in, compare.Options{CI: compare.CIMethods[rng.IntN(3)], SkipBias: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var buf bytes.Buffer
+		if err := ReviewPage(&buf, a, ReportOptions{}, ""); err != nil {
+			t.Fatal(err)
+		}
+		ms := row.FindAllStringSubmatch(buf.String(), -1)
+		if len(ms) == 0 {
+			t.Fatalf("case %d: no pooled row found", i)
+		}
+		for _, m := range ms {
+			lo, hi := num(m[2]), num(m[3])
+			var p float64
+			if strings.HasPrefix(m[4], "&lt;") || strings.HasPrefix(m[4], "<") {
+				p = 0
+			} else {
+				p = num(m[4])
+			}
+			if math.Abs(p-0.05) <= 0.0005 || math.Abs(lo) <= 0.005 || math.Abs(hi) <= 0.005 {
+				skipped++
+				continue
+			}
+			checked++
+			if (p < 0.05) != (lo > 0 || hi < 0) {
+				t.Errorf("case %d %s: printed p %s beside [%s, %s]", i, m[1], m[4], m[2], m[3])
+			}
+		}
+	}
+	if checked < 9*n/10 || skipped > checked/10 {
+		t.Errorf("checked %d rows, skipped %d", checked, skipped)
 	}
 }
