@@ -161,8 +161,9 @@ unit_from stays empty for them; it is set only where a number must be converted 
 
 Outcome index is the 0-based position in the record's ` + "`outcomeMeasures`" + ` array. Group ids are
 per outcome measure (in NCT99000105, OG000 is placebo in outcome 0 and velmorazine in outcome 1).
-Trials already in studies.csv are not listed; the missed publication is (its results belong in
-the fuller evidence).
+Trials already in studies.csv are not listed; the missed publication is (unshelved audit pools
+it apart from the registry-only trials, in with_missed_publications: a gap in the review's search,
+not publication bias).
 
 ## Orientation numbers
 
