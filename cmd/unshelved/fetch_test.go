@@ -175,6 +175,15 @@ func TestFetchGiveUpThenResume(t *testing.T) {
 	if got := dbTrials(t, db); got != float64(len(srv.Studies)) {
 		t.Errorf("%v trials stored, want %d", got, len(srv.Studies))
 	}
+	// The folder ingests cleanly on its own: the state file is not read as
+	// a record, and the pages are known already.
+	code, _, stderr = runCLI(t, "", "--db", db, "ingest", "registry", out)
+	if code != exitOK || strings.Contains(stderr, "rejected:") {
+		t.Errorf("ingest registry %s: exit %d: %s", out, code, stderr)
+	}
+	if got := dbTrials(t, db); got != float64(len(srv.Studies)) {
+		t.Errorf("%v trials stored after re-ingesting the folder, want %d", got, len(srv.Studies))
+	}
 }
 
 func TestFetchUsage(t *testing.T) {

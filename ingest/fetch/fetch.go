@@ -134,9 +134,10 @@ func (e *GiveUpError) Error() string {
 
 func (e *GiveUpError) Unwrap() error { return e.Err }
 
-// StatePath is the state file of q in dir.
+// StatePath is the state file of q in dir. It is JSON, but its name does
+// not end in .json, so that ingesting the folder reads only the pages.
 func StatePath(dir string, q Query) string {
-	return filepath.Join(dir, "fetch-"+q.Key()+".state.json")
+	return filepath.Join(dir, "fetch-"+q.Key()+".state")
 }
 
 // pageName is the file name of page n (1-based) of q.

@@ -453,7 +453,7 @@ func TestFetchNothingMatches(t *testing.T) {
 		t.Errorf("result %+v", res)
 	}
 	ents, _ := os.ReadDir(dir)
-	if len(ents) != 1 || !strings.HasSuffix(ents[0].Name(), ".state.json") {
+	if len(ents) != 1 || !strings.HasSuffix(ents[0].Name(), ".state") {
 		t.Errorf("folder holds %v, want only the state file", ents)
 	}
 	res, err = Run(context.Background(), Query{Condition: "no such condition"}, dir, testOptions(srv, newFakeClock()))
