@@ -2,6 +2,8 @@ package bias
 
 import (
 	"fmt"
+
+	"unshelved/analysis"
 )
 
 // Grade levels.
@@ -141,18 +143,18 @@ func Grade(in GradeInput) GradeHint {
 	test := func(name string, p float64, towardBenefit bool) {
 		if in.K < gradeMinK {
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"%s not counted: %d studies, fewer than %d (p = %.3g)", name, in.K, gradeMinK, p))
+				"%s not counted: %d studies, fewer than %d (%s)", name, in.K, gradeMinK, analysis.PText(p)))
 			return
 		}
 		usable++
 		switch {
 		case p < gradeAlpha && towardBenefit:
 			flagged++
-			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests missing unfavourable small studies (p = %.3g < %.2f, %d studies)", name, p, gradeAlpha, in.K))
+			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests missing unfavourable small studies (%s, below %.2f; %d studies)", name, analysis.PText(p), gradeAlpha, in.K))
 		case p < gradeAlpha:
-			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests asymmetry the other way, not missing unfavourable studies (p = %.3g, %d studies; not counted as a concern)", name, p, in.K))
+			h.Reasons = append(h.Reasons, fmt.Sprintf("%s suggests asymmetry the other way, not missing unfavourable studies (%s; %d studies; not counted as a concern)", name, analysis.PText(p), in.K))
 		default:
-			h.Reasons = append(h.Reasons, fmt.Sprintf("%s does not suggest asymmetry (p = %.3g, %d studies)", name, p, in.K))
+			h.Reasons = append(h.Reasons, fmt.Sprintf("%s does not suggest asymmetry (%s; %d studies)", name, analysis.PText(p), in.K))
 		}
 	}
 	if in.Egger != nil {

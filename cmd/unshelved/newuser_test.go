@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"path/filepath"
+	"regexp"
 	"runtime"
 	"runtime/debug"
 	"strings"
@@ -263,6 +264,44 @@ func TestVersion(t *testing.T) {
 	for _, r := range runs {
 		if r.Version != version {
 			t.Errorf("run %d stored version %q, want %q", r.ID, r.Version, version)
+		}
+	}
+}
+
+// TestTablePValueFormat: p values in tables and notes read "< 0.001" or
+// three decimals, as on the report pages.
+func TestTablePValueFormat(t *testing.T) {
+	path := writeFile(t, t.TempDir(), "studies.csv", poolCSV)
+	code, out, stderr := runCLI(t, "", "pool", path)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	cell := regexp.MustCompile(`^(< 0\.001|[01]\.[0-9]{3}|-|)$`)
+	rows := 0
+	for _, line := range strings.Split(out, "\n") {
+		for _, name := range []string{"Egger's test, regressed on SE", "rank correlation test", "fixed effect", "PET (intercept"} {
+			if !strings.Contains(line, name) || !strings.Contains(line, "│") {
+				continue
+			}
+			cells := strings.Split(strings.Trim(strings.TrimSpace(line), "│"), "│")
+			var p string
+			if name == "fixed effect" {
+				p = strings.TrimSpace(cells[4]) // model, estimate, SE, CI, p, tau²
+			} else {
+				p = strings.TrimSpace(cells[len(cells)-1])
+			}
+			rows++
+			if !cell.MatchString(p) {
+				t.Errorf("%s: p cell %q", name, p)
+			}
+		}
+	}
+	if rows < 4 {
+		t.Errorf("found %d rows with p values:\n%s", rows, out)
+	}
+	for _, m := range regexp.MustCompile(`\bp (=|<) ([^\s,;)]+)`).FindAllStringSubmatch(out, -1) {
+		if !(m[1] == "<" && m[2] == "0.001") && !(m[1] == "=" && regexp.MustCompile(`^[01]\.[0-9]{3}$`).MatchString(m[2])) && m[2] != "0.10" {
+			t.Errorf("p value written %q", m[0])
 		}
 	}
 }

@@ -11,6 +11,8 @@ import (
 
 	"github.com/olekukonko/tablewriter"
 	"github.com/olekukonko/tablewriter/tw"
+
+	"unshelved/analysis"
 )
 
 // This file is the only place that renders results. Commands build report
@@ -214,17 +216,9 @@ func roundPtr(x *float64, d int) string {
 	return round(*x, d)
 }
 
-// pValue formats a p value for people.
-func pValue(p float64) string {
-	switch {
-	case math.IsNaN(p):
-		return "-"
-	case p < 0.0001:
-		return "<0.0001"
-	default:
-		return strconv.FormatFloat(p, 'f', 4, 64)
-	}
-}
+// pValue formats a p value for people, as everywhere ("< 0.001", else
+// three decimals).
+func pValue(p float64) string { return analysis.FormatP(p) }
 
 func yesNo(b bool) string {
 	if b {

@@ -358,7 +358,7 @@ func funnelLegend(in FunnelInput, f funnelFrame) []legendEntry {
 	}
 	out = append(out, legendEntry{name: "No effect", line: ln(style{Stroke: colInk, Width: 0.9})})
 	for _, c := range f.contours {
-		out = append(out, legendEntry{name: "Two-sided p = " + trimZeros(c.Level) + " (effect = \u00b1" + fmtFixed(c.Z, 2) + "\u00b7SE)",
+		out = append(out, legendEntry{name: "Two-sided p = " + fmtFixed(c.Level, 2) + " (effect = \u00b1" + fmtFixed(c.Z, 2) + "\u00b7SE)",
 			line: ln(style{Stroke: colContour, Width: 1, Dash: contourDash(c.Level)})})
 	}
 	return out

@@ -86,25 +86,21 @@ func fmtP(p *float64, d int) string {
 	return fmtFixed(*p, d)
 }
 
-// fmtPValue prints a p value with three significant digits, "< 0.001"
-// below that.
+// fmtPValue prints a p value as everywhere: three decimals, "< 0.001"
+// below that (analysis.FormatP); a dash when missing.
 func fmtPValue(p *float64) string {
 	if p == nil {
 		return "\u2013"
 	}
-	if *p < 0.001 {
-		return "< 0.001"
-	}
-	return strconv.FormatFloat(*p, 'f', 3, 64)
+	return analysis.FormatP(*p)
 }
 
 // pEquals writes "p = 0.038" or "p < 0.001" for running text.
 func pEquals(p *float64) string {
-	v := fmtPValue(p)
-	if strings.HasPrefix(v, "<") {
-		return "p " + v
+	if p == nil {
+		return "p = \u2013"
 	}
-	return "p = " + v
+	return analysis.PText(*p)
 }
 
 var nctID = regexp.MustCompile(`^NCT[0-9]{8}$`)

@@ -3,6 +3,7 @@ package render
 import (
 	"bytes"
 	"html"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -58,3 +59,36 @@ func TestPageOwnWording(t *testing.T) {
 		}
 	}
 }
+
+// pMention finds p values in running text: "p = 0.038", "p < 0.001".
+var pMention = regexp.MustCompile(`\bp (=|<) ([^\s,;)<]+)`)
+
+// TestOnePValueFormat checks every p value on the demo pages (tables,
+// bias battery, GRADE hint reasons): "< 0.001", else three decimals.
+func TestOnePValueFormat(t *testing.T) {
+	for _, a := range loadDemoAudits(t) {
+		var buf bytes.Buffer
+		if err := ReviewPage(&buf, a, ReportOptions{}, ""); err != nil {
+			t.Fatal(err)
+		}
+		s := html.UnescapeString(buf.String())
+		ms := pMention.FindAllStringSubmatch(s, -1)
+		if len(ms) < 3 {
+			t.Fatalf("%s: only %d p values found", a.ReviewID, len(ms))
+		}
+		for _, m := range ms {
+			if thresholds[strings.TrimSuffix(m[2], ".")] {
+				continue // a significance level, not a test's p value
+			}
+			if ok := (m[1] == "<" && m[2] == "0.001") || (m[1] == "=" && threeDecimals.MatchString(m[2])); !ok {
+				t.Errorf("%s: p value written %q", a.ReviewID, m[0])
+			}
+		}
+	}
+}
+
+var threeDecimals = regexp.MustCompile(`^[01]\.[0-9]{3}$`)
+
+// thresholds are the conventional significance levels (contours, the
+// 0.10 rule for asymmetry tests), written with two decimals.
+var thresholds = map[string]bool{"0.01": true, "0.05": true, "0.10": true}
