@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"os"
 	"path/filepath"
 	"regexp"
 	"runtime"
@@ -303,5 +304,64 @@ func TestTablePValueFormat(t *testing.T) {
 		if !(m[1] == "<" && m[2] == "0.001") && !(m[1] == "=" && regexp.MustCompile(`^[01]\.[0-9]{3}$`).MatchString(m[2])) && m[2] != "0.10" {
 			t.Errorf("p value written %q", m[0])
 		}
+	}
+}
+
+// TestFigureFiles: summary --plot writes PNG, PDF or SVG by the file's
+// extension, and report --figures writes each page's plots as files that
+// the page links to.
+func TestFigureFiles(t *testing.T) {
+	db := demoDB(t)
+	dir := t.TempDir()
+	magic := map[string]string{".png": "\x89PNG\r\n\x1a\n", ".pdf": "%PDF-", ".svg": "<svg"}
+	check := func(path string) {
+		t.Helper()
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Error(err)
+			return
+		}
+		if m := magic[filepath.Ext(path)]; !strings.Contains(string(b[:min(len(b), 200)]), m) {
+			t.Errorf("%s does not start like a %s file: %q", path, filepath.Ext(path), b[:min(len(b), 16)])
+		}
+	}
+	files := []string{"shift-histogram.png", "shift-scatter.pdf", "histogram.svg", "shift-vs-published.png"}
+	args := []string{"--db", db, "-q", "summary", "--bootstrap", "0"}
+	for _, f := range files {
+		args = append(args, "--plot", filepath.Join(dir, f))
+	}
+	if code, _, stderr := runCLI(t, "", args...); code != exitOK {
+		t.Fatalf("summary --plot: exit %d: %s", code, stderr)
+	}
+	for _, f := range files {
+		check(filepath.Join(dir, f))
+	}
+	code, _, stderr := runCLI(t, "", "--db", db, "summary", "--plot", filepath.Join(dir, "figure.png"))
+	if code != exitUsage || !strings.Contains(stderr, "histogram or scatter") {
+		t.Errorf("unnamed figure: exit %d, stderr %q", code, stderr)
+	}
+
+	out := filepath.Join(dir, "report")
+	if code, _, stderr := runCLI(t, "", "--db", db, "-q", "report", "--out", out, "--bootstrap", "0", "--figures", "png,pdf", "--figures", "svg"); code != exitOK {
+		t.Fatalf("report --figures: exit %d: %s", code, stderr)
+	}
+	for _, id := range []string{"TINN-01", "GLUC-02", "MOOD-03"} {
+		page, err := os.ReadFile(filepath.Join(out, id+".html"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, kind := range []string{"forest", "funnel"} {
+			for _, ext := range []string{".png", ".pdf", ".svg"} {
+				name := id + "-" + kind + ext
+				check(filepath.Join(out, name))
+				if !strings.Contains(string(page), `href="`+name+`"`) {
+					t.Errorf("%s does not link %s", id, name)
+				}
+			}
+		}
+	}
+	code, _, stderr = runCLI(t, "", "--db", db, "report", "--out", out, "--figures", "gif")
+	if code != exitUsage || !strings.Contains(stderr, "invalid --figures") {
+		t.Errorf("--figures gif: exit %d, stderr %q", code, stderr)
 	}
 }

@@ -16,6 +16,7 @@ type reportOptions struct {
 	g       *globals
 	Out     string
 	Imputed bool
+	Figures []string     // svg, png, pdf
 	Audit   auditOptions // the audit's flags and defaults
 }
 
@@ -43,6 +44,11 @@ printed on stdout.`,
 			if err := opts.Audit.validate(cmd); err != nil {
 				return err
 			}
+			for _, f := range opts.Figures {
+				if !plotrender.ValidFigureFormat(f) {
+					return flagErrorf("invalid --figures %q: valid values are svg, png, pdf", f)
+				}
+			}
 			return reportRun(cmd, opts)
 		},
 	}
@@ -50,6 +56,7 @@ printed on stdout.`,
 	cmd.Flags().StringVar(&opts.Out, "out", "", "folder for the report's pages (created if needed)")
 	addAuditFlags(cmd, &opts.Audit)
 	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plots")
+	cmd.Flags().StringSliceVar(&opts.Figures, "figures", nil, "also write each page's forest and funnel plots as files beside it: svg, png or pdf (repeatable, or comma-separated)")
 	return cmd
 }
 
@@ -95,7 +102,7 @@ func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string,
 		return "", nil, 0, err
 	}
 	index, err := plotrender.WriteReport(opts.Out, run.Audits, plotrender.ReportOptions{
-		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level,
+		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level, Figures: opts.Figures,
 		Generated: g.IO.now().UTC().Format("2006-01-02") + ", unshelved " + version,
 	})
 	return index, run.Audits, len(run.Failed), err

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -18,7 +19,7 @@ type summaryOptions struct {
 	Threshold float64
 	Run       int64
 	Compare   int64
-	PlotDir   string
+	Plots     []string // folders (both figures as SVG) or figure files
 }
 
 func newCmdSummary(g *globals) *cobra.Command {
@@ -51,6 +52,11 @@ and seed. --run N shows a stored summary instead of computing one;
 			if err := checkCI(opts.audit.CI); err != nil {
 				return err
 			}
+			for _, p := range opts.Plots {
+				if _, err := batchFigureKind(p); err != nil {
+					return flagErrorf("%v", err)
+				}
+			}
 			if opts.Truth != compare.TruthThreshold && opts.Truth != compare.TruthQBetween {
 				return flagErrorf("invalid --truth %q: valid values are threshold, q-between", opts.Truth)
 			}
@@ -71,7 +77,7 @@ and seed. --run N shows a stored summary instead of computing one;
 	cmd.Flags().Float64Var(&opts.Threshold, "truth-threshold", compare.DefaultTruthThreshold, "overstatement of the benefit in SD units above which a review counts as overstated")
 	cmd.Flags().Int64Var(&opts.Run, "run", 0, "show the stored summary run N instead of computing one")
 	cmd.Flags().Int64Var(&opts.Compare, "compare", 0, "with --run: put stored summary run M beside it")
-	cmd.Flags().StringVar(&opts.PlotDir, "plot", "", "write the batch figures (shift-histogram.svg, shift-vs-published.svg) to this folder")
+	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write the batch figures: a folder (shift-histogram.svg and shift-vs-published.svg in it), or a file whose name says histogram or scatter, ending .svg, .png or .pdf (repeatable)")
 	return cmd
 }
 
@@ -124,11 +130,11 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		g.progressf("summary: %s", w)
 	}
 	g.progressf("summary: run %d stored (seed %d)", run.RunID, opts.audit.Seed)
-	if opts.PlotDir != "" {
-		if err := writeBatchFigures(opts.PlotDir, run.Audits); err != nil {
+	for _, p := range opts.Plots {
+		if err := writeBatchFigures(p, run.Audits); err != nil {
 			return err
 		}
-		g.progressf("summary: figures in %s", opts.PlotDir)
+		g.progressf("summary: figures in %s", p)
 	}
 	if err := render(g.IO.Out, g.Format, run.Summary, summaryGrid([]storedSummary{{RunID: run.RunID, Summary: run.Summary}})); err != nil {
 		return err
@@ -295,18 +301,52 @@ func propCell(p, lo, hi *float64) string {
 	return fmt.Sprintf("%s [%s, %s]", round(*p, 2), roundPtr(lo, 2), roundPtr(hi, 2))
 }
 
+// batchFigureKind says what a summary --plot value asks for: "dir" (both
+// figures as SVG in that folder), "histogram" or "scatter" (one file, in
+// the format its extension names).
+func batchFigureKind(path string) (string, error) {
+	base := strings.ToLower(filepath.Base(path))
+	switch filepath.Ext(base) {
+	case ".svg", ".png", ".pdf":
+	default:
+		return "dir", nil
+	}
+	hist := strings.Contains(base, "histogram")
+	scatter := strings.Contains(base, "scatter") || strings.Contains(base, "vs-published")
+	switch {
+	case hist && !scatter:
+		return "histogram", nil
+	case scatter && !hist:
+		return "scatter", nil
+	}
+	return "", fmt.Errorf("--plot %s: the file name must say histogram or scatter (e.g. shift-histogram.png, shift-scatter.pdf), or name a folder", path)
+}
+
 // writeBatchFigures writes the distribution of the oriented overstatement
 // across reviews and overstatement against the oriented published-only
-// estimate, both in SD units.
-func writeBatchFigures(dir string, audits []compare.ReviewAudit) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+// estimate, both in SD units: both as SVG into a folder, or one figure to
+// a file.
+func writeBatchFigures(path string, audits []compare.ReviewAudit) error {
+	published, over, labels := compare.ShiftPoints(audits)
+	hist := plotrender.ShiftHistogram{ShiftsSD: over}
+	scatter := plotrender.ShiftScatter{Published: published, ShiftSD: over, Labels: labels}
+	kind, err := batchFigureKind(path)
+	if err != nil {
+		return err
+	}
+	switch kind {
+	case "histogram":
+		return plotrender.WritePlot(path, hist)
+	case "scatter":
+		return plotrender.WritePlot(path, scatter)
+	}
+	if err := os.MkdirAll(path, 0o755); err != nil {
 		return fmt.Errorf("figures folder: %w", err)
 	}
-	published, over, labels := compare.ShiftPoints(audits)
-	if err := plotrender.WritePlot(filepath.Join(dir, "shift-histogram.svg"), plotrender.ShiftHistogram{ShiftsSD: over}); err != nil {
+	if err := plotrender.WritePlot(filepath.Join(path, "shift-histogram.svg"), hist); err != nil {
 		return fmt.Errorf("shift histogram: %w", err)
 	}
-	if err := plotrender.WritePlot(filepath.Join(dir, "shift-vs-published.svg"), plotrender.ShiftScatter{Published: published, ShiftSD: over, Labels: labels}); err != nil {
+	if err := plotrender.WritePlot(filepath.Join(path, "shift-vs-published.svg"), scatter); err != nil {
 		return fmt.Errorf("shift scatter: %w", err)
 	}
 	return nil

@@ -33,6 +33,10 @@ type ReportOptions struct {
 	// Generated is a line such as "2024-05-01, unshelved 0.1.0" shown in
 	// each page footer; empty shows none.
 	Generated string
+	// Figures are file formats ("svg", "png", "pdf") in which each page's
+	// forest and funnel plots are also written as files beside the page
+	// (<page>-forest.png, <page>-funnel.png) and linked from it.
+	Figures []string
 }
 
 //go:embed report.css
@@ -168,7 +172,12 @@ type pageData struct {
 	Cautions  []string
 	Generated string
 	Index     string
+	// ForestFiles and FunnelFiles are the figure files written beside
+	// the page, when asked for.
+	ForestFiles, FunnelFiles []figureFile
 }
+
+type figureFile struct{ Format, Name string }
 
 type studyRow struct {
 	compare.StudyEffect
@@ -398,12 +407,12 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 		d.Review = &rv
 	}
 	var buf bytes.Buffer
-	if err := inlineSVG(&buf, ForestFromAudit(a, PlotOptions{Title: "Forest plot"})); err != nil {
+	if err := inlineSVG(&buf, forestFigure(a)); err != nil {
 		return d, err
 	}
 	d.Forest = template.HTML(buf.String()) // our own SVG; every text node is escaped by esc
 	buf.Reset()
-	if err := inlineSVG(&buf, FunnelFromAudit(a, PlotOptions{Title: "Contour-enhanced funnel plot", Imputed: opts.Imputed})); err != nil {
+	if err := inlineSVG(&buf, funnelFigure(a, opts)); err != nil {
 		return d, err
 	}
 	d.Funnel = template.HTML(buf.String())
@@ -469,13 +478,29 @@ func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (
 	}
 	used := map[string]bool{"index.html": true}
 	idx := indexData{CSS: template.CSS(reportCSS), Cautions: reportCautions, Generated: opts.Generated}
+	for _, f := range opts.Figures {
+		if !ValidFigureFormat(f) {
+			return "", fmt.Errorf("report figures: format %q is not svg, png or pdf", f)
+		}
+	}
 	for _, a := range audits {
 		name := PageName(a.ReviewID)
 		for i := 2; used[strings.ToLower(name)]; i++ {
 			name = strings.TrimSuffix(PageName(a.ReviewID), ".html") + "-" + strconv.Itoa(i) + ".html"
 		}
 		used[strings.ToLower(name)] = true
-		if err := writeFile(filepath.Join(dir, name), func(w io.Writer) error { return ReviewPage(w, a, opts, "index.html") }); err != nil {
+		forest, funnel, err := writeFigureFiles(dir, strings.TrimSuffix(name, ".html"), a, opts)
+		if err != nil {
+			return "", err
+		}
+		if err := writeFile(filepath.Join(dir, name), func(w io.Writer) error {
+			d, err := buildPage(a, opts, "index.html")
+			if err != nil {
+				return err
+			}
+			d.ForestFiles, d.FunnelFiles = forest, funnel
+			return pageTmpl.Execute(w, d)
+		}); err != nil {
 			return "", err
 		}
 		row := indexRow{A: a, Page: name, Shift: ShiftSentence(a), Changes: changes(a)}
@@ -498,6 +523,46 @@ func WriteReport(dir string, audits []compare.ReviewAudit, opts ReportOptions) (
 // conclusion.
 func changes(a compare.ReviewAudit) bool {
 	return a.ConclusionChanged != nil && *a.ConclusionChanged || a.SignificanceChanged || a.DirectionChanged
+}
+
+// ValidFigureFormat reports whether WritePlot and Encode can write the
+// format: "svg", "png" or "pdf" (any case, with or without a dot).
+func ValidFigureFormat(f string) bool {
+	switch strings.ToLower(strings.TrimPrefix(f, ".")) {
+	case "svg", "png", "pdf":
+		return true
+	}
+	return false
+}
+
+// forestFigure and funnelFigure are the two figures of a review page.
+func forestFigure(a compare.ReviewAudit) Figure {
+	return ForestFromAudit(a, PlotOptions{Title: "Forest plot"})
+}
+
+func funnelFigure(a compare.ReviewAudit, opts ReportOptions) Figure {
+	return FunnelFromAudit(a, PlotOptions{Title: "Contour-enhanced funnel plot", Imputed: opts.Imputed})
+}
+
+// writeFigureFiles writes a page's forest and funnel plots as files
+// <base>-forest.<format> and <base>-funnel.<format> in each of
+// opts.Figures, and returns what it wrote for the page's links.
+func writeFigureFiles(dir, base string, a compare.ReviewAudit, opts ReportOptions) (forest, funnel []figureFile, err error) {
+	for _, f := range opts.Figures {
+		f = strings.ToLower(strings.TrimPrefix(f, "."))
+		for _, fig := range []struct {
+			kind string
+			fig  Figure
+			out  *[]figureFile
+		}{{"forest", forestFigure(a), &forest}, {"funnel", funnelFigure(a, opts), &funnel}} {
+			name := base + "-" + fig.kind + "." + f
+			if err := WritePlot(filepath.Join(dir, name), fig.fig); err != nil {
+				return nil, nil, err
+			}
+			*fig.out = append(*fig.out, figureFile{Format: strings.ToUpper(f), Name: name})
+		}
+	}
+	return forest, funnel, nil
 }
 
 func writeFile(path string, fill func(io.Writer) error) (err error) {
