@@ -133,6 +133,14 @@ func (o *auditOptions) compareOptions() compare.Options {
 		Harmonize: compare.HarmonizeOptions{Prefer: o.Prefer, AllowNonrandomized: o.AllowNonrandomized}}
 }
 
+// noteRegistrySearch says on stderr, even under --quiet, when a review
+// had no registry trial linked or none eligible: no search is not no bias.
+func noteRegistrySearch(g *globals, a compare.ReviewAudit) {
+	if a.RegistrySearch.Note != "" {
+		g.reasonf("review %s: %s", a.ReviewID, a.RegistrySearch.Note)
+	}
+}
+
 // checkCI rejects an unknown --ci value, listing the valid ones.
 func checkCI(m string) error {
 	if compare.ValidCI(m) {
@@ -166,9 +174,7 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	}
 	g.progressf("audit: run %d stored (seed %d)", run.RunID, opts.Seed)
 	for _, a := range audits {
-		if a.RegistrySearch.Note != "" {
-			g.progressf("%s: %s", a.ReviewID, a.RegistrySearch.Note)
-		}
+		noteRegistrySearch(g, a)
 		for _, w := range a.Warnings {
 			g.progressf("%s: %s", a.ReviewID, w)
 		}

@@ -79,8 +79,12 @@ func TestAuditNoLinksSaysSo(t *testing.T) {
 	}
 	const note = "no registry trials were linked: run `unshelved match`"
 	code, out, stderr := runCLI(t, "", "--db", db, "audit", "--format", "json", "--bootstrap", "0")
-	if code != exitOK || !strings.Contains(stderr, "NL-1: "+note) {
+	if code != exitOK || !strings.Contains(stderr, "review NL-1: "+note) {
 		t.Fatalf("exit %d, stderr lacks the note:\n%s", code, stderr)
+	}
+	// The note survives --quiet, and report gives it too.
+	if _, _, stderr := runCLI(t, "", "--db", db, "-q", "report", "--out", filepath.Join(dir, "report"), "--bootstrap", "0"); !strings.Contains(stderr, "review NL-1: "+note) {
+		t.Errorf("report -q stderr lacks the note:\n%s", stderr)
 	}
 	var audits []map[string]any
 	if err := json.Unmarshal([]byte(out), &audits); err != nil {

@@ -91,6 +91,9 @@ func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string,
 	if err != nil {
 		return "", nil, 0, err
 	}
+	for _, a := range run.Audits {
+		noteRegistrySearch(g, a)
+	}
 	for _, e := range run.Failed {
 		g.reasonf("report: left out: %v", e)
 	}
