@@ -80,6 +80,7 @@ func FuzzReadStudies(f *testing.F) {
 
 func FuzzReadNeutralCSV(f *testing.F) {
 	addFixtures(f, "neutral.csv")
+	addFixtures(f, "neutral-trials.csv")
 	f.Fuzz(func(t *testing.T, data []byte) {
 		trs, bad, err := ReadNeutralCSV(bytes.NewReader(data), Source{Path: "fuzz.csv"})
 		if err != nil {
