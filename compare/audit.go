@@ -359,6 +359,10 @@ type AuditInput struct {
 	Studies []ingest.ReviewStudy
 	Links   []ingest.Link           // links of this review; only accepted ones are used
 	Trials  map[string]ingest.Trial // registry records by trial id, for the links
+	// PublishedEffects are studies already on the review's measure that
+	// take the place of published studies (the linked trials of a scan);
+	// they come before Studies.
+	PublishedEffects []StudyEffect
 }
 
 // AuditReview pools a review's published studies alone and together with
@@ -371,6 +375,10 @@ func AuditReview(in AuditInput, opts Options) (ReviewAudit, error) {
 		Rejected: []Rejected{}, Warnings: []string{}}
 
 	included := map[string]bool{}
+	for _, e := range in.PublishedEffects {
+		included[strings.ToUpper(e.TrialID)] = true
+		out.Studies = append(out.Studies, e)
+	}
 	for _, s := range in.Studies {
 		for _, id := range RegistryIDs(s.RegistryID) {
 			included[id] = true

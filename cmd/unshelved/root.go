@@ -128,7 +128,7 @@ estimate shifts.`,
 		newCmdDB(g),
 		newCmdReport(g),
 		newCmdSummary(g), newCmdTrials(g), newCmdFetch(g),
-		newCmdVersion(g),
+		newCmdVersion(g), newCmdScan(g),
 	)
 	return root, g
 }

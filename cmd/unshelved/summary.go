@@ -20,10 +20,13 @@ type summaryOptions struct {
 	Run       int64
 	Compare   int64
 	Plots     []string // folders (both figures as SVG) or figure files
+	Scan      bool
+	scan      scanOptions
 }
 
 func newCmdSummary(g *globals) *cobra.Command {
 	opts := &summaryOptions{audit: auditOptions{g: g}}
+	opts.scan.audit.g = g
 	cmd := &cobra.Command{
 		Use:   "summary",
 		Short: "Across reviews: overstatement of the benefit, changed conclusions, pooled overstatement and how well bias tests detected it",
@@ -66,6 +69,9 @@ and seed. --run N shows a stored summary instead of computing one;
 			if opts.audit.Bootstrap < 0 {
 				return flagErrorf("--bootstrap must be 0 (off) or positive, not %d", opts.audit.Bootstrap)
 			}
+			if opts.Scan && !(opts.scan.AcceptAbove > 0 && opts.scan.AcceptAbove < 1) {
+				return flagErrorf("invalid --accept-above %v: give a score between 0 and 1", opts.scan.AcceptAbove)
+			}
 			if opts.Compare != 0 && opts.Run == 0 {
 				return flagErrorf("--compare needs --run")
 			}
@@ -78,6 +84,8 @@ and seed. --run N shows a stored summary instead of computing one;
 	cmd.Flags().Int64Var(&opts.Run, "run", 0, "show the stored summary run N instead of computing one")
 	cmd.Flags().Int64Var(&opts.Compare, "compare", 0, "with --run: put stored summary run M beside it")
 	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write the batch figures: a folder (shift-histogram.svg and shift-vs-published.svg in it), or a file whose name says histogram or scatter, ending .svg, .png or .pdf (repeatable)")
+	cmd.Flags().BoolVar(&opts.Scan, "scan", false, "scan every question afresh (see scan) and summarize the scans: linked trials play the published studies")
+	addScanFlags(cmd, &opts.scan)
 	return cmd
 }
 
@@ -117,9 +125,19 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		}
 		return render(g.IO.Out, g.Format, out, summaryGrid(out))
 	}
-	run, err := compare.RunSummary(ctx, db, opts.audit.compareOptions(), compare.SummaryOptions{
+	so := compare.SummaryOptions{
 		Truth: opts.Truth, Threshold: opts.Threshold, Level: opts.audit.Level, Tau2: analysis.Tau2Method(opts.audit.Tau2), CI: opts.audit.CI,
-	}, version, opts.audit.Workers)
+	}
+	var run compare.SummaryRun
+	if opts.Scan {
+		opts.scan.audit = opts.audit
+		var ro compare.ScanRunOptions
+		if ro, err = opts.scan.runOptions(); err == nil {
+			run, err = compare.RunScanSummary(ctx, db, ro, so)
+		}
+	} else {
+		run, err = compare.RunSummary(ctx, db, opts.audit.compareOptions(), so, version, opts.audit.Workers)
+	}
 	if err != nil {
 		return err
 	}

@@ -37,6 +37,9 @@ type ReportOptions struct {
 	// forest and funnel plots are also written as files beside the page
 	// (<page>-forest.png, <page>-funnel.png) and linked from it.
 	Figures []string
+	// Scan marks the pages as a registry-internal comparison (a scan):
+	// "published" are the trials whose record links a publication.
+	Scan bool
 }
 
 //go:embed report.css
@@ -175,6 +178,9 @@ type pageData struct {
 	// ForestFiles and FunnelFiles are the figure files written beside
 	// the page, when asked for.
 	ForestFiles, FunnelFiles []figureFile
+	// Scan marks a registry-internal comparison (ReportOptions.Scan).
+	Scan        bool
+	ScanCaution string
 }
 
 type figureFile struct{ Format, Name string }
@@ -403,6 +409,9 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a),
 		Verdict: verdict(a, level), Changes: changes(a), WhatIf: WhatIfSentence(a), Bias: a.Bias,
 		Methods: methodsFor(a), Cautions: reportCautions, Generated: opts.Generated, Index: index}
+	if opts.Scan {
+		d.Scan, d.ScanCaution = true, compare.ScanCaution
+	}
 	if rv, ok := opts.Reviews[a.ReviewID]; ok {
 		d.Review = &rv
 	}

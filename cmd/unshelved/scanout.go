@@ -1,0 +1,137 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+
+	"unshelved/compare"
+)
+
+// scanWriter streams scan results: JSON array elements and CSV rows as
+// they come, the table once all are in.
+type scanWriter struct {
+	w      io.Writer
+	format string
+	level  float64
+	n      int
+	cw     *csv.Writer
+	table  [][]string
+}
+
+func newScanWriter(w io.Writer, format string, level float64) *scanWriter {
+	return &scanWriter{w: w, format: format, level: level}
+}
+
+var scanColumns = []string{
+	"question_id", "measure", "unit", "better", "eligible", "accepted",
+	"linked_k", "linked_estimate", "linked_se", "linked_ci_low", "linked_ci_high", "linked_tau2",
+	"all_k", "all_estimate", "all_se", "all_ci_low", "all_ci_high", "all_tau2", "ci_method",
+	"shift_absolute", "shift_sd_units", "shift_toward",
+	"subgroup_difference", "subgroup_se", "subgroup_ci_low", "subgroup_ci_high", "subgroup_p",
+	"unlinked_share", "linked_by_pmid_rate", "missing_k", "missing_enrollment",
+}
+
+func scanCSVRow(r compare.ScanResult) []string {
+	var sh compare.Shift
+	if r.Shift != nil {
+		sh = *r.Shift
+	}
+	var sg compare.Subgroup
+	if r.Subgroup != nil {
+		sg = *r.Subgroup
+	}
+	l, a := r.Linked, r.All
+	return []string{r.QuestionID, r.Measure, r.Unit, r.Better, fmt.Sprint(r.Flow.Eligible), fmt.Sprint(r.Flow.Accepted),
+		fmt.Sprint(l.K), fullPtr(l.Estimate), fullPtr(l.SE), fullPtr(l.CILow), fullPtr(l.CIHigh), fullPtr(l.Tau2),
+		fmt.Sprint(a.K), fullPtr(a.Estimate), fullPtr(a.SE), fullPtr(a.CILow), fullPtr(a.CIHigh), fullPtr(a.Tau2), a.CIMethod,
+		fullPtr(sh.Absolute), fullPtr(sh.SDUnits), sh.Toward,
+		fullPtr(sg.Difference), fullPtr(sg.SE), fullPtr(sg.CILow), fullPtr(sg.CIHigh), fullPtr(sg.P),
+		fullPtr(r.UnlinkedShare), fullPtr(r.LinkedByPMIDRate), fmt.Sprint(r.Missing.K), fmt.Sprint(r.Missing.Enrollment)}
+}
+
+func poolCell(p compare.ScanPool) string {
+	if p.K == 0 {
+		return "-"
+	}
+	return fmt.Sprintf("%d: %s", p.K, estimateCell(compare.Estimate{Estimate: p.Estimate, CILow: p.CILow, CIHigh: p.CIHigh}))
+}
+
+func (s *scanWriter) add(r compare.ScanResult) error {
+	defer func() { s.n++ }()
+	switch s.format {
+	case "json":
+		b, err := json.MarshalIndent(r, "  ", "  ")
+		if err != nil {
+			return err
+		}
+		sep := ",\n  "
+		if s.n == 0 {
+			sep = "[\n  "
+		}
+		_, err = fmt.Fprintf(s.w, "%s%s", sep, bytes.ReplaceAll(b, []byte(`\u003c`), []byte("<")))
+		return err
+	case "csv":
+		if s.cw == nil {
+			s.cw = csv.NewWriter(s.w)
+			if err := s.cw.Write(scanColumns); err != nil {
+				return err
+			}
+		}
+		row := scanCSVRow(r)
+		for i := range row {
+			row[i] = csvSafe(row[i])
+		}
+		if err := s.cw.Write(row); err != nil {
+			return err
+		}
+		s.cw.Flush()
+		return s.cw.Error()
+	}
+	var shift, sd *float64
+	if r.Shift != nil {
+		shift, sd = r.Shift.Absolute, r.Shift.SDUnits
+	}
+	var p *float64
+	if r.Subgroup != nil {
+		p = r.Subgroup.P
+	}
+	pct := func(x *float64) string {
+		if x == nil {
+			return "-"
+		}
+		return round(100**x, 0) + "%"
+	}
+	s.table = append(s.table, []string{r.QuestionID + " (" + r.Measure + ")", poolCell(r.Linked), poolCell(r.All),
+		roundPtr(shift, 2), roundPtr(sd, 2), roundPtr(p, 3), pct(r.UnlinkedShare), pct(r.LinkedByPMIDRate), fmt.Sprint(r.Missing.K)})
+	return nil
+}
+
+func (s *scanWriter) finish() error {
+	switch s.format {
+	case "json":
+		if s.n == 0 {
+			_, err := io.WriteString(s.w, "[]\n")
+			return err
+		}
+		_, err := io.WriteString(s.w, "\n]\n")
+		return err
+	case "csv":
+		if s.cw == nil {
+			return writeCSV(s.w, scanColumns, nil)
+		}
+		return nil
+	}
+	header := []string{"question", "linked k: estimate [CI]", "all k: estimate [CI]", "shift", "shift SD", "subgroup p",
+		"unlinked share", "PMID rate", "no results"}
+	if err := writeTable(s.w, header, s.table); err != nil {
+		return err
+	}
+	return writeLines(s.w, append([]string{
+		fmt.Sprintf("Registry-internal comparison: posted results of trials whose record links a publication (linked) vs all accepted trials, %g%% intervals.", 100*s.level),
+		"Shift = all - linked random-effects estimate; subgroup p tests unlinked - linked; unlinked share is of randomized participants.",
+		"A missing RESULT reference does not prove non-publication: registry links to publications are incomplete.",
+	}, cautions...))
+}
