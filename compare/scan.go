@@ -206,6 +206,7 @@ func ScanQuestion(q ingest.Review, candidates []ingest.Trial, links []ingest.Lin
 			in.PublishedEffects = append(in.PublishedEffects, e)
 			return
 		}
+		l.Class = ClassRegistryOnly // unlinked: pooled as a registry-only addition
 		unlinked = append(unlinked, l)
 	}
 	for _, tp := range rp.Trials {
