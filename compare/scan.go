@@ -302,7 +302,14 @@ func finishScan(res ScanResult, in AuditInput, chosen map[string]string, opts Sc
 	if err != nil {
 		return res, err
 	}
-	res.Missing, res.Warnings = a.Missing, append(res.Warnings, a.Warnings...)
+	res.Missing = a.Missing
+	for _, w := range a.Warnings {
+		// The audit's analyses are named for reviews; here they are the
+		// linked trials and all trials.
+		w = strings.Replace(w, "published-only: ", "linked: ", 1)
+		w = strings.Replace(w, "augmented: ", "all: ", 1)
+		res.Warnings = append(res.Warnings, w)
+	}
 	res.Rejected = append(res.Rejected, a.Rejected...)
 	if kLinked == 0 {
 		res.All = scanPool(a.Published)

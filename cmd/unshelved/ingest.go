@@ -356,7 +356,9 @@ func newCmdIngestReviews(g *globals) *cobra.Command {
 
 reviews.csv columns: review_id, title, measure (MD|SMD), outcome, unit,
 better (lower|higher), timepoint_weeks, search_date, conditions,
-interventions, comparator, mid (lists separated by ';').
+interventions, comparator, mid (lists separated by ';'). A review with no
+studies is a question for 'unshelved scan'; a questions.csv with the same
+columns is loaded the same way.
 
 studies.csv columns: review_id, study, registry_id, year, and either
 effect, se or treat_mean, treat_sd, treat_n, ctrl_mean, ctrl_sd, ctrl_n;
@@ -488,7 +490,7 @@ func saveReviews(ctx context.Context, g *globals, db *store.DB, reviews []ingest
 		known[s.ReviewID] = true
 		reviews = append(reviews, rv)
 	}
-	hasStudies := map[string]bool{}
+	hasStudies, hasOld := map[string]bool{}, map[string]bool{}
 	for _, s := range studies {
 		hasStudies[s.ReviewID] = true
 	}
@@ -500,12 +502,22 @@ func saveReviews(ctx context.Context, g *globals, db *store.DB, reviews []ingest
 		if err != nil && !errors.Is(err, store.ErrNotFound) {
 			return fmt.Errorf("load studies of %s: %w", r.ReviewID, err)
 		}
+		hasOld[r.ReviewID] = len(old) > 0
 		studies = append(studies, old...)
 	}
 	if err := db.SaveReviews(ctx, reviews, studies); err != nil {
 		return fmt.Errorf("save reviews: %w", err)
 	}
+	questions := 0
+	for _, r := range reviews {
+		if !hasStudies[r.ReviewID] && !hasOld[r.ReviewID] {
+			questions++
+		}
+	}
 	g.progressf("loaded %s and %s", countOf(len(reviews), "review", "reviews"), countOf(len(studies), "published study", "published studies"))
+	if questions > 0 {
+		g.progressf("%s without studies: questions for 'unshelved scan'", countOf(questions, "review", "reviews"))
+	}
 	return nil
 }
 

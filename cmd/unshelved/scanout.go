@@ -29,7 +29,8 @@ var scanColumns = []string{
 	"question_id", "measure", "unit", "better", "eligible", "accepted",
 	"linked_k", "linked_estimate", "linked_se", "linked_ci_low", "linked_ci_high", "linked_tau2",
 	"all_k", "all_estimate", "all_se", "all_ci_low", "all_ci_high", "all_tau2", "ci_method",
-	"shift_absolute", "shift_sd_units", "shift_toward",
+	"shift_absolute", "shift_ci_low", "shift_ci_high", "shift_ci_method", "shift_sd_units", "shift_toward",
+	"overstatement_sd", "overstatement_ci_low", "overstatement_ci_high",
 	"subgroup_difference", "subgroup_se", "subgroup_ci_low", "subgroup_ci_high", "subgroup_p",
 	"unlinked_share", "linked_by_pmid_rate", "missing_k", "missing_enrollment",
 }
@@ -47,7 +48,8 @@ func scanCSVRow(r compare.ScanResult) []string {
 	return []string{r.QuestionID, r.Measure, r.Unit, r.Better, fmt.Sprint(r.Flow.Eligible), fmt.Sprint(r.Flow.Accepted),
 		fmt.Sprint(l.K), fullPtr(l.Estimate), fullPtr(l.SE), fullPtr(l.CILow), fullPtr(l.CIHigh), fullPtr(l.Tau2),
 		fmt.Sprint(a.K), fullPtr(a.Estimate), fullPtr(a.SE), fullPtr(a.CILow), fullPtr(a.CIHigh), fullPtr(a.Tau2), a.CIMethod,
-		fullPtr(sh.Absolute), fullPtr(sh.SDUnits), sh.Toward,
+		fullPtr(sh.Absolute), fullPtr(sh.CILow), fullPtr(sh.CIHigh), sh.CIMethod, fullPtr(sh.SDUnits), sh.Toward,
+		fullPtr(sh.OverstatementSD), fullPtr(sh.OverstatementCILow), fullPtr(sh.OverstatementCIHigh),
 		fullPtr(sg.Difference), fullPtr(sg.SE), fullPtr(sg.CILow), fullPtr(sg.CIHigh), fullPtr(sg.P),
 		fullPtr(r.UnlinkedShare), fullPtr(r.LinkedByPMIDRate), fmt.Sprint(r.Missing.K), fmt.Sprint(r.Missing.Enrollment)}
 }
@@ -90,9 +92,10 @@ func (s *scanWriter) add(r compare.ScanResult) error {
 		s.cw.Flush()
 		return s.cw.Error()
 	}
-	var shift, sd *float64
-	if r.Shift != nil {
-		shift, sd = r.Shift.Absolute, r.Shift.SDUnits
+	shift, over := "-", "-"
+	if sh := r.Shift; sh != nil {
+		shift = estimateCell(compare.Estimate{Estimate: sh.Absolute, CILow: sh.CILow, CIHigh: sh.CIHigh})
+		over = estimateCell(compare.Estimate{Estimate: sh.OverstatementSD, CILow: sh.OverstatementCILow, CIHigh: sh.OverstatementCIHigh})
 	}
 	var p *float64
 	if r.Subgroup != nil {
@@ -105,7 +108,7 @@ func (s *scanWriter) add(r compare.ScanResult) error {
 		return round(100**x, 0) + "%"
 	}
 	s.table = append(s.table, []string{r.QuestionID + " (" + r.Measure + ")", poolCell(r.Linked), poolCell(r.All),
-		roundPtr(shift, 2), roundPtr(sd, 2), roundPtr(p, 3), pct(r.UnlinkedShare), pct(r.LinkedByPMIDRate), fmt.Sprint(r.Missing.K)})
+		shift, over, roundPtr(p, 3), pct(r.UnlinkedShare), pct(r.LinkedByPMIDRate), fmt.Sprint(r.Missing.K)})
 	return nil
 }
 
@@ -124,14 +127,15 @@ func (s *scanWriter) finish() error {
 		}
 		return nil
 	}
-	header := []string{"question", "linked k: estimate [CI]", "all k: estimate [CI]", "shift", "shift SD", "subgroup p",
+	header := []string{"question", "linked k: estimate [CI]", "all k: estimate [CI]", "shift [CI]", "overstatement SD [CI]", "subgroup p",
 		"unlinked share", "PMID rate", "no results"}
 	if err := writeTable(s.w, header, s.table); err != nil {
 		return err
 	}
 	return writeLines(s.w, append([]string{
 		fmt.Sprintf("Registry-internal comparison: posted results of trials whose record links a publication (linked) vs all accepted trials, %g%% intervals.", 100*s.level),
-		"Shift = all - linked random-effects estimate; subgroup p tests unlinked - linked; unlinked share is of randomized participants.",
+		"Shift = all - linked random-effects estimate; overstatement SD > 0: the linked trials overstate the benefit (in pooled SDs).",
+		"Subgroup p tests unlinked - linked; unlinked share is of randomized participants; PMID rate: pooled trials whose record gives a PMID.",
 		"A missing RESULT reference does not prove non-publication: registry links to publications are incomplete.",
 	}, cautions...))
 }
