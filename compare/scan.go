@@ -73,13 +73,17 @@ func scanPool(p Pooled) ScanPool {
 
 // ScanTrial is one pooled trial of a scan.
 type ScanTrial struct {
-	TrialID      string  `json:"trial_id"`
-	Linked       bool    `json:"linked"`
-	PMID         string  `json:"pmid,omitempty"`
-	OutcomeIndex int     `json:"outcome_index"`
-	Effect       float64 `json:"effect"`
-	SE           float64 `json:"se"`
-	N            int     `json:"n"`
+	TrialID      string `json:"trial_id"`
+	Linked       bool   `json:"linked"`
+	PMID         string `json:"pmid,omitempty"`
+	OutcomeIndex int    `json:"outcome_index"`
+	// TreatGroups and CtrlGroups are the record's group ids pooled into
+	// the experimental and comparator arms.
+	TreatGroups []string `json:"treat_groups"`
+	CtrlGroups  []string `json:"ctrl_groups"`
+	Effect      float64  `json:"effect"`
+	SE          float64  `json:"se"`
+	N           int      `json:"n"`
 	// Chosen is "auto" (best outcome above the threshold) or "links-file".
 	Chosen string `json:"chosen"`
 }
@@ -182,7 +186,7 @@ func ScanQuestion(q ingest.Review, candidates []ingest.Trial, links []ingest.Lin
 	}
 	in := AuditInput{Review: q, Trials: map[string]ingest.Trial{}}
 	var unlinked []ingest.Link
-	chosen := map[string]string{}
+	chosen := map[string]ingest.Link{}
 	proposed := map[string]bool{}
 	take := func(t ingest.Trial, l ingest.Link, how string) {
 		l.ReviewID, l.TrialID, l.Decision = q.ReviewID, t.TrialID, "accept"
@@ -198,7 +202,8 @@ func ScanQuestion(q ingest.Review, candidates []ingest.Trial, links []ingest.Lin
 			return
 		}
 		res.Flow.Accepted++
-		chosen[t.TrialID] = how
+		l.Reasons = how
+		chosen[t.TrialID] = l
 		in.Trials[t.TrialID] = t
 		if ok, _ := PublicationLink(t); ok {
 			e.Origin = OriginPublished
@@ -271,7 +276,7 @@ func useOverride(t ingest.Trial, rows []ingest.Link, take func(ingest.Trial, ing
 
 // finishScan audits the question (linked trials as published studies) and
 // copies the figures into the result.
-func finishScan(res ScanResult, in AuditInput, chosen map[string]string, opts ScanOptions) (ScanResult, error) {
+func finishScan(res ScanResult, in AuditInput, chosen map[string]ingest.Link, opts ScanOptions) (ScanResult, error) {
 	kLinked := len(in.PublishedEffects)
 	if res.Flow.Accepted == 0 {
 		res.Warnings = append(res.Warnings, "no trial with results was accepted: nothing to pool")
@@ -340,8 +345,9 @@ func finishScan(res ScanResult, in AuditInput, chosen map[string]string, opts Sc
 		if !linked {
 			nUnlinked += n
 		}
+		l := chosen[s.TrialID]
 		res.Trials = append(res.Trials, ScanTrial{TrialID: s.TrialID, Linked: linked, PMID: pmid, OutcomeIndex: idx,
-			Effect: s.Effect, SE: s.SE, N: n, Chosen: chosen[s.TrialID]})
+			TreatGroups: l.TreatGroups, CtrlGroups: l.CtrlGroups, Effect: s.Effect, SE: s.SE, N: n, Chosen: l.Reasons})
 	}
 	if nAll > 0 {
 		res.UnlinkedShare = opt(float64(nUnlinked) / float64(nAll))
