@@ -163,20 +163,43 @@ func ShiftSentence(a compare.ReviewAudit) string {
 	if p == nil || g == nil {
 		return fmt.Sprintf("Adding %d registry-only %s: the pooled %s could not be estimated in both analyses.", a.KAdded, trials, noun)
 	}
-	d := *g - *p
-	var how string
-	switch {
-	case d == 0:
-		how = "no change"
-	case (*p > 0) != (*g > 0) && *p != 0 && *g != 0:
-		how = "across no effect, by " + fmtFixed(math.Abs(d), 2)
-	case math.Abs(*g) < math.Abs(*p):
-		how = "toward no effect by " + fmtFixed(math.Abs(d), 2)
-	default:
-		how = "away from no effect by " + fmtFixed(math.Abs(d), 2)
+	how := shiftDirection(a)
+	if d := math.Abs(*g - *p); d != 0 {
+		how = strings.Replace(how, "no effect", "no effect by "+fmtFixed(d, 2), 1)
 	}
 	return fmt.Sprintf("Adding %d registry-only %s moves the pooled %s from %s to %s%s (%s).",
 		a.KAdded, trials, noun, fmtFixed(*p, 2), fmtFixed(*g, 2), unit, how)
+}
+
+// shiftDirection names the direction of the shift in the words every
+// part of a page uses: relative to no effect ("toward no effect", "away
+// from no effect", "across no effect") and, when the review says which
+// direction is better, relative to the intervention ("less favourable to
+// the intervention"). "no change" when the estimates are equal, "" when
+// one is missing.
+func shiftDirection(a compare.ReviewAudit) string {
+	p, g := a.Published.Random.Estimate, a.Augmented.Random.Estimate
+	if p == nil || g == nil {
+		return ""
+	}
+	var how string
+	switch {
+	case *g == *p:
+		return "no change"
+	case (*p > 0) != (*g > 0) && *p != 0 && *g != 0:
+		how = "across no effect"
+	case math.Abs(*g) < math.Abs(*p):
+		how = "toward no effect"
+	default:
+		how = "away from no effect"
+	}
+	switch a.Shift.Toward {
+	case "benefit":
+		how += "; more favourable to the intervention"
+	case "harm":
+		how += "; less favourable to the intervention"
+	}
+	return how
 }
 
 // Forest plot geometry, in layout units.

@@ -192,6 +192,45 @@ func (f funnelFrame) contourEnd(z, sign float64) (effect, se float64) {
 	return sign * z * se, se
 }
 
+// Extent of an 11-unit contour label around its baseline, with a little
+// air (the glyphs' ascent is about 0.75 of the size, descent 0.25).
+const (
+	contourLabelAscent  = 10.0
+	contourLabelDescent = 4.0
+	contourLabelGap     = 4.0 // between a label and the axis or another label
+)
+
+// contourLabelAt places a contour's label (anchored at its right end)
+// beside the right-hand line's end, inside the plot area and clear of
+// the axes and of the labels placed before: above the end when the line
+// reaches the bottom axis, below it when it leaves at the right side with
+// room to spare, and otherwise moved up until nothing is in the way.
+func contourLabelAt(f funnelFrame, z, width float64, placed []rect) pt {
+	e, se := f.contourEnd(z, 1)
+	at := pt{f.x.at(e) - 4, f.y.at(se) - 6}
+	if se < f.seTop-1e-12 {
+		at = pt{funnelRight - 4, f.y.at(se) + 14}
+	}
+	lowest := funnelBottom - contourLabelGap - contourLabelDescent // baseline clear of the x axis
+	if at.Y > lowest {
+		at.Y = lowest
+	}
+	if at.X-width < funnelLeft+contourLabelGap {
+		at.X = funnelLeft + contourLabelGap + width // clear of the y axis
+	}
+	for moved := true; moved; {
+		moved = false
+		box := rect{at.X - width, at.Y - contourLabelAscent, at.X, at.Y + contourLabelDescent}
+		for _, q := range placed {
+			if box.X0 < q.X1 && q.X0 < box.X1 && box.Y0 < q.Y1 && q.Y0 < box.Y1 {
+				at.Y = q.Y0 - contourLabelGap - contourLabelDescent
+				moved = true
+			}
+		}
+	}
+	return at
+}
+
 func contourDash(level float64) []float64 {
 	switch {
 	case level >= 0.095:
@@ -242,6 +281,7 @@ func drawFunnel(p painter, in FunnelInput) {
 
 	// Contours, labelled at their lower right end.
 	p.begin("contours")
+	var placed []rect
 	for _, c := range f.contours {
 		if !(c.Z > 0) {
 			continue
@@ -251,13 +291,10 @@ func drawFunnel(p painter, in FunnelInput) {
 			e, se := f.contourEnd(c.Z, sign)
 			p.line(pt{f.x.at(0), f.y.at(0)}, pt{f.x.at(e), f.y.at(se)}, st)
 		}
-		// Label beside the right-hand line's end, just inside the plot.
-		e, se := f.contourEnd(c.Z, 1)
-		lx, ly := f.x.at(e)-4, f.y.at(se)-6
-		if se < f.seTop-1e-12 {
-			lx, ly = funnelRight-4, f.y.at(se)+14
-		}
-		p.text(pt{lx, ly}, pctLabel(c.Level), textStyle{Size: 11, Anchor: anchorEnd, Color: colMuted})
+		label := pctLabel(c.Level)
+		at := contourLabelAt(f, c.Z, textWidth(label, 11), placed)
+		placed = append(placed, rect{at.X - textWidth(label, 11), at.Y - contourLabelAscent, at.X, at.Y + contourLabelDescent})
+		p.text(at, label, textStyle{Size: 11, Anchor: anchorEnd, Color: colMuted})
 	}
 	p.end()
 	p.begin("null")

@@ -67,6 +67,17 @@ var tmplFuncs = template.FuncMap{
 		return "no"
 	},
 	"trialURL": trialURL,
+	// measureUnit names a review's measure and unit for the overview:
+	// "MD (mmol/L)", "SMD (Hedges' g)".
+	"measureUnit": func(measure, unit string) string {
+		if strings.EqualFold(measure, "SMD") {
+			return "SMD (Hedges' g)"
+		}
+		if u := strings.TrimSpace(unit); u != "" {
+			return strings.ToUpper(measure) + " (" + u + ")"
+		}
+		return strings.ToUpper(measure) + " (no unit given)"
+	},
 	"pmidURL":  pmidURL,
 	"ciName":   ciName,
 	"inputs":   derivationInputs,
@@ -181,6 +192,8 @@ type pageData struct {
 	// Scan marks a registry-internal comparison (ReportOptions.Scan).
 	Scan        bool
 	ScanCaution string
+	// Direction is the shift's direction in the headline's words.
+	Direction string
 }
 
 type figureFile struct{ Format, Name string }
@@ -406,7 +419,7 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 	if level == 0 {
 		level = 0.95
 	}
-	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a),
+	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a), Direction: shiftDirection(a),
 		Verdict: verdict(a, level), Changes: changes(a), WhatIf: WhatIfSentence(a), Bias: a.Bias,
 		Methods: methodsFor(a), Cautions: reportCautions, Generated: opts.Generated, Index: index}
 	if opts.Scan {

@@ -3,6 +3,8 @@ package render
 import (
 	"bytes"
 	"html"
+	"os"
+	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
@@ -92,3 +94,51 @@ var threeDecimals = regexp.MustCompile(`^[01]\.[0-9]{3}$`)
 // thresholds are the conventional significance levels (contours, the
 // 0.10 rule for asymmetry tests), written with two decimals.
 var thresholds = map[string]bool{"0.01": true, "0.05": true, "0.10": true}
+
+// TestOneDirectionVocabulary: the headline and the shift table name the
+// direction of the shift in the same words, and the overview names each
+// review's measure and unit.
+func TestOneDirectionVocabulary(t *testing.T) {
+	audits := loadDemoAudits(t)
+	dir := t.TempDir()
+	index, err := WriteReport(dir, audits, ReportOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	idx, err := os.ReadFile(index)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cell := regexp.MustCompile(`<td class="n direction">([^<]*)</td>`)
+	for _, a := range audits {
+		page, err := os.ReadFile(filepath.Join(dir, PageName(a.ReviewID)))
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := html.UnescapeString(string(page))
+		m := cell.FindStringSubmatch(s)
+		if m == nil || m[1] == "" {
+			t.Fatalf("%s: no direction in the shift table", a.ReviewID)
+		}
+		words := m[1]
+		if !strings.Contains(words, "no effect") || !strings.Contains(words, "favourable to the intervention") {
+			t.Errorf("%s: direction %q does not say both where the estimate went and for whom", a.ReviewID, words)
+		}
+		// The headline uses the same phrases (with the size of the move).
+		head := ShiftSentence(a)
+		for _, part := range strings.Split(words, "; ") {
+			if !strings.Contains(head, strings.Replace(part, "no effect", "no effect by", 1)) && !strings.Contains(head, part) {
+				t.Errorf("%s: headline %q lacks the table's %q", a.ReviewID, head, part)
+			}
+		}
+		for _, old := range []string{">harm<", ">benefit<", "<td>Toward</td>"} {
+			if strings.Contains(s, old) {
+				t.Errorf("%s: page still shows %q", a.ReviewID, old)
+			}
+		}
+		want := map[string]string{"MD": "MD (" + a.Unit + ")", "SMD": "SMD (Hedges' g)"}[a.Measure]
+		if !strings.Contains(html.UnescapeString(string(idx)), `<td class="measure">`+want+`</td>`) {
+			t.Errorf("overview lacks %q for %s", want, a.ReviewID)
+		}
+	}
+}
