@@ -26,6 +26,7 @@ type matchOptions struct {
 	HighestDose bool
 	Fetch       bool
 	BaseURL     string
+	Delimiter   string // of the --apply file
 }
 
 func newCmdMatch(g *globals) *cobra.Command {
@@ -92,6 +93,7 @@ does, into registry/ beside the workspace), ingests them, then matches.`,
 	cmd.Flags().BoolVar(&opts.HighestDose, "highest-dose", false, "keep only the highest dose instead of combining experimental groups")
 	cmd.Flags().BoolVar(&opts.Fetch, "fetch", false, "fetch registry records for reviews that have no candidate trial in the workspace (see fetch)")
 	cmd.Flags().StringVar(&opts.BaseURL, "base-url", fetch.DefaultBaseURL, "API base URL for --fetch")
+	cmd.Flags().StringVar(&opts.Delimiter, "delimiter", ",", `field separator of the --apply file: ',', ';', '\t' (tab) or '|'`)
 	return cmd
 }
 
@@ -103,7 +105,11 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 	}
 	defer db.Close()
 	if opts.Apply != "" {
-		return applyLinksFile(cmd.Context(), g, db, opts.Apply)
+		comma, err := parseDelimiter(opts.Delimiter)
+		if err != nil {
+			return err
+		}
+		return applyLinksFile(cmd.Context(), g, db, opts.Apply, comma)
 	}
 	if opts.Fetch {
 		if err := fetchForEmptyReviews(cmd, g, db, opts); err != nil {
@@ -242,12 +248,12 @@ func matchGrid(rep compare.MatchReport) grid {
 
 // applyLinksFile loads a links CSV into the workspace, rejecting rows that
 // do not fit it.
-func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string) error {
+func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string, comma rune) error {
 	data, src, err := readWhole(g, path)
 	if err != nil {
 		return err
 	}
-	links, bad, err := ingest.ReadLinks(bytes.NewReader(data), src)
+	links, bad, err := ingest.ReadLinks(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
 	if err != nil {
 		return fmt.Errorf("read %s: %w", path, err)
 	}

@@ -365,3 +365,30 @@ func TestFigureFiles(t *testing.T) {
 		t.Errorf("--figures gif: exit %d, stderr %q", code, stderr)
 	}
 }
+
+// TestDelimiterOnPoolAndLinks: pool and match --apply read ';'-separated
+// files with --delimiter and name the separator without it.
+func TestDelimiterOnPoolAndLinks(t *testing.T) {
+	dir := t.TempDir()
+	semi := writeFile(t, dir, "studies.csv", strings.ReplaceAll(poolCSV, ",", ";"))
+	code, _, stderr := runCLI(t, "", "pool", semi)
+	if code == exitOK || !strings.Contains(stderr, "this file uses ';' as separator") {
+		t.Errorf("pool without --delimiter: exit %d, stderr %q", code, stderr)
+	}
+	_, want, _ := runCLI(t, "", "pool", writeFile(t, dir, "comma.csv", poolCSV), "--format", "json")
+	code, got, stderr := runCLI(t, "", "pool", semi, "--delimiter", ";", "--format", "json")
+	if code != exitOK || got != want {
+		t.Errorf("pool --delimiter ';': exit %d (%s); output differs from the comma file: %v", code, stderr, got != want)
+	}
+
+	db, _ := demoWorkspace(t)
+	links := writeFile(t, dir, "links.csv", "review_id;trial_id;outcome_index;treat_groups;ctrl_groups;flip;unit_from;decision\nTINN-01;NCT99000105;0;OG001;OG000;no;;accept\n")
+	code, _, stderr = runCLI(t, "", "--db", db, "match", "--apply", links)
+	if code == exitOK || !strings.Contains(stderr, "this file uses ';' as separator") {
+		t.Errorf("match --apply without --delimiter: exit %d, stderr %q", code, stderr)
+	}
+	code, _, stderr = runCLI(t, "", "--db", db, "match", "--apply", links, "--delimiter", ";")
+	if code != exitOK || !strings.Contains(stderr, "loaded 1 link from") {
+		t.Errorf("match --apply --delimiter ';': exit %d, stderr %q", code, stderr)
+	}
+}

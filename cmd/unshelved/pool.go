@@ -26,6 +26,7 @@ type poolOptions struct {
 	Plots        []string
 	Unit         string
 	Imputed      bool
+	Delimiter    string
 }
 
 func newCmdPool(g *globals) *cobra.Command {
@@ -83,16 +84,21 @@ draws the headline interval.`,
 	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write a plot: a file name containing funnel or forest, ending .svg, .png or .pdf (repeatable)")
 	cmd.Flags().StringVar(&opts.Unit, "unit", "", "unit of the measure, for plot axis labels (e.g. points)")
 	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plot")
+	cmd.Flags().StringVar(&opts.Delimiter, "delimiter", ",", `field separator of the file: ',', ';', '\t' (tab) or '|'`)
 	return cmd
 }
 
 func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 	g := opts.g
+	comma, err := parseDelimiter(opts.Delimiter)
+	if err != nil {
+		return err
+	}
 	data, src, err := readWhole(g, opts.File)
 	if err != nil {
 		return err
 	}
-	studies, bad, err := ingest.ReadMetaAnalysis(bytes.NewReader(data), src)
+	studies, bad, err := ingest.ReadMetaAnalysis(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
 	if err != nil {
 		return fmt.Errorf("read %s: %w", opts.File, err)
 	}
