@@ -392,3 +392,23 @@ func TestDelimiterOnPoolAndLinks(t *testing.T) {
 		t.Errorf("match --apply --delimiter ';': exit %d, stderr %q", code, stderr)
 	}
 }
+
+// TestPoolOneReview: a studies file of several reviews is not pooled as
+// one; --review picks one.
+func TestPoolOneReview(t *testing.T) {
+	dir := t.TempDir()
+	two := writeFile(t, dir, "studies.csv", nuStudies+"NU-02,Cole 2021,,2021,0.4,0.2\nNU-02,Dorn 2022,,2022,0.1,0.3\n")
+	code, _, stderr := runCLI(t, "", "pool", two)
+	if want := "holds studies of 2 reviews (NU-01, NU-02): pool takes one meta-analysis; pick one with --review ID"; code != exitError || !strings.Contains(stderr, want) {
+		t.Errorf("exit %d, stderr %q; want exit 1 and %q", code, stderr, want)
+	}
+	code, out, stderr := runCLI(t, "", "pool", two, "--review", "nu-02", "--format", "json")
+	var rep struct{ K int }
+	if err := json.Unmarshal([]byte(out), &rep); code != exitOK || err != nil || rep.K != 2 {
+		t.Errorf("--review nu-02: exit %d, k %d, %v %s", code, rep.K, err, stderr)
+	}
+	code, _, stderr = runCLI(t, "", "pool", two, "--review", "NU-09")
+	if code != exitError || !strings.Contains(stderr, `no rows of review "NU-09"; its reviews are NU-01, NU-02`) {
+		t.Errorf("--review NU-09: exit %d, stderr %q", code, stderr)
+	}
+}

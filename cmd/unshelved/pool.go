@@ -27,6 +27,7 @@ type poolOptions struct {
 	Unit         string
 	Imputed      bool
 	Delimiter    string
+	Review       string // pool only this review's rows
 }
 
 func newCmdPool(g *globals) *cobra.Command {
@@ -84,6 +85,7 @@ draws the headline interval.`,
 	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write a plot: a file name containing funnel or forest, ending .svg, .png or .pdf (repeatable)")
 	cmd.Flags().StringVar(&opts.Unit, "unit", "", "unit of the measure, for plot axis labels (e.g. points)")
 	cmd.Flags().BoolVar(&opts.Imputed, "imputed", false, "draw trim-and-fill's imputed studies in the funnel plot")
+	cmd.Flags().StringVar(&opts.Review, "review", "", "pool only the rows of this review_id (a file may hold several reviews)")
 	cmd.Flags().StringVar(&opts.Delimiter, "delimiter", ",", `field separator of the file: ',', ';', '\t' (tab) or '|'`)
 	return cmd
 }
@@ -107,6 +109,9 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 			fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
 		}
 		return fmt.Errorf("%s of %s rejected; nothing pooled", countOf(len(bad), "row", "rows"), opts.File)
+	}
+	if studies, err = oneReview(studies, opts.Review, opts.File); err != nil {
+		return err
 	}
 	rep, err := compare.PoolStudies(studies, compare.PoolOptions{
 		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), CI: opts.CI,
@@ -134,6 +139,34 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 
 // plotKind tells the plot a --plot file name asks for, by its name
 // (funnel or forest) and its extension (.svg, .png or .pdf).
+// oneReview keeps the rows of one meta-analysis: those of review (any
+// case) when given, else all rows, which must then name at most one
+// review: pooling the studies of different reviews together would mix
+// questions and units.
+func oneReview(studies []ingest.ReviewStudy, review, file string) ([]ingest.ReviewStudy, error) {
+	var ids []string
+	seen := map[string]bool{}
+	var kept []ingest.ReviewStudy
+	for _, s := range studies {
+		if s.ReviewID != "" && !seen[s.ReviewID] {
+			seen[s.ReviewID] = true
+			ids = append(ids, s.ReviewID)
+		}
+		if review != "" && strings.EqualFold(s.ReviewID, review) {
+			kept = append(kept, s)
+		}
+	}
+	switch {
+	case review != "" && len(kept) == 0:
+		return nil, fmt.Errorf("%s has no rows of review %q; its reviews are %s", file, review, strings.Join(ids, ", "))
+	case review != "":
+		return kept, nil
+	case len(ids) > 1:
+		return nil, fmt.Errorf("%s holds studies of %d reviews (%s): pool takes one meta-analysis; pick one with --review ID", file, len(ids), strings.Join(ids, ", "))
+	}
+	return studies, nil
+}
+
 func plotKind(path string) (string, error) {
 	base := strings.ToLower(filepath.Base(path))
 	ext := filepath.Ext(base)
