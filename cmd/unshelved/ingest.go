@@ -482,7 +482,7 @@ func saveReviews(ctx context.Context, g *globals, db *store.DB, reviews []ingest
 		}
 		rv, err := db.Review(ctx, s.ReviewID)
 		if errors.Is(err, store.ErrNotFound) {
-			return fmt.Errorf("%s:%s: study %q: review %q is neither in the files given nor in the workspace", s.Source.Path, lineOf(s.Source), s.Study, s.ReviewID)
+			return fmt.Errorf("%s:%s: study %q: review %q is neither in the files given nor in the workspace; nothing was loaded from any file: give its reviews.csv too", s.Source.Path, lineOf(s.Source), s.Study, s.ReviewID)
 		}
 		if err != nil {
 			return fmt.Errorf("load review %s: %w", s.ReviewID, err)
