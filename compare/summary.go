@@ -279,13 +279,15 @@ const (
 
 // truthOf is a review's directional truth under the summary's rule.
 // Reviews with nothing added are negative when no eligible registered
-// trial lacks results, and unknown otherwise. With additions: threshold,
+// trial lacks results, and unknown otherwise, or when no registry trial
+// was linked at all (the registry was not searched: no search is not no
+// bias). With additions: threshold,
 // Shift.OverstatementSD > Threshold; q-between, the subgroup test p < 0.05
 // with the published subgroup more favourable (favourable · (published -
 // registry) > 0).
 func truthOf(a ReviewAudit, o SummaryOptions) int {
 	if a.KAdded == 0 {
-		if a.Missing.K > 0 {
+		if a.Missing.K > 0 || a.RegistrySearch.Status == SearchNotLinked {
 			return truthUnknown
 		}
 		return truthNegative
