@@ -667,6 +667,9 @@ func pool(studies []StudyEffect, opts Options, method string) (Pooled, error) {
 	if err != nil {
 		return Pooled{}, err
 	}
+	if method == CIWald {
+		res.Warnings = withoutHKSJWarnings(res.Warnings)
+	}
 	p := Pooled{K: len(studies), result: &res}
 	f := res.Fixed
 	p.Fixed = Estimate{Model: "fixed", Estimate: opt(f.Estimate), SE: opt(f.SE), CILow: opt(f.CILow), CIHigh: opt(f.CIHigh), P: opt(f.P),
@@ -678,6 +681,21 @@ func pool(studies []StudyEffect, opts Options, method string) (Pooled, error) {
 	p.I2, p.Q = opt(res.Het.I2), opt(res.Het.Q)
 	p.PILow, p.PIHigh = opt(r.PILow), opt(r.PIHigh)
 	return p, nil
+}
+
+// withoutHKSJWarnings drops the pooling warnings about the HKSJ interval
+// (its scale factor below 1, its t on 1 df), which mislead where the
+// review's analyses use the Wald interval.
+func withoutHKSJWarnings(ws []string) []string {
+	out := ws[:0:0]
+	for _, w := range ws {
+		if strings.HasPrefix(w, "The Hartung-Knapp-Sidik-Jonkman scale factor") ||
+			strings.HasPrefix(w, "Only two studies: the Hartung-Knapp-Sidik-Jonkman") {
+			continue
+		}
+		out = append(out, w)
+	}
+	return out
 }
 
 // interval is a random-effects SE, interval and p from one test.
