@@ -2,6 +2,7 @@ package compare
 
 import (
 	"errors"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -181,6 +182,9 @@ func TestSEFromPostedCIUsesTForSmallGroups(t *testing.T) {
 			tr.Outcomes[0].Denoms[0].Counts = []ingest.Count{{GroupID: "OG000", Value: num(tc.n1)}, {GroupID: "OG001", Value: num(tc.n2)}}
 			a := &tr.Outcomes[0].Analyses[0]
 			a.CIPct, a.CILower, a.CIUpper = num(tc.level), num(tc.lo), num(tc.hi)
+			// The estimate at the interval's centre: a difference off the
+			// centre of its interval is refused (ciOffCentre).
+			a.ParamValue = num(strconv.FormatFloat((a.CILower.Value+a.CIUpper.Value)/2, 'f', -1, 64))
 			got, err := RegistryEffect(mdReview, tr, link)
 			if err != nil {
 				t.Fatal(err)

@@ -3,6 +3,7 @@ package compare
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"unshelved/analysis"
@@ -170,6 +171,10 @@ func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, cla
 		Source:  "registry analysis " + fmt.Sprint(ai) + ": " + strings.TrimSpace(a.ParamType+"; "+a.Method),
 	}
 	r.derivs = append(r.derivs, posted)
+	if why := ciOffCentre(a); why != "" {
+		r.refused = why
+		return r
+	}
 
 	var seEst float64
 	switch {
@@ -234,6 +239,28 @@ func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, cla
 	r.effect, r.seEffect = est, seEst
 	r.cmp.Effect, r.cmp.SE = opt(est), opt(seEst)
 	return r
+}
+
+// ciOffCentre says why a posted two-sided confidence interval does not
+// fit its mean-difference estimate, or "" when it does. A difference's
+// interval is symmetric about it, so its centre is the estimate up to the
+// rounding of the three numbers as posted, plus 5% of the half-width
+// (common practice, no source). One that is not (an estimate outside its
+// interval, or an interval about the estimate with the other sign) cannot
+// be read in either direction.
+func ciOffCentre(a ingest.Analysis) string {
+	if !a.CILower.OK || !a.CIUpper.OK || strings.EqualFold(a.CISides, "ONE_SIDED") || a.CIUpper.Value < a.CILower.Value {
+		return ""
+	}
+	half := func(n ingest.Num) float64 { return 0.5 * math.Pow(10, -float64(textDecimals(n.Text))) }
+	centre := (a.CILower.Value + a.CIUpper.Value) / 2
+	halfWidth := (a.CIUpper.Value - a.CILower.Value) / 2
+	tol := (half(a.CILower)+half(a.CIUpper))/2 + half(a.ParamValue) + 0.05*halfWidth + 1e-9
+	if math.Abs(centre-a.ParamValue.Value) <= tol {
+		return ""
+	}
+	return fmt.Sprintf("its estimate %s is not at the centre of its confidence interval %s to %s (centre %s): estimate and interval may be oriented differently; check the record",
+		a.ParamValue.Text, a.CILower.Text, a.CIUpper.Text, strconv.FormatFloat(centre, 'g', 6, 64))
 }
 
 // postedInputs lists the posted numbers of an analysis that are present

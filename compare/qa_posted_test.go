@@ -1,0 +1,47 @@
+package compare
+
+import (
+	"errors"
+	"strings"
+	"testing"
+
+	"unshelved/ingest"
+)
+
+// A posted mean difference sits at the centre of its two-sided confidence
+// interval (up to rounding). One that does not (an estimate outside its
+// interval, or an interval centred on the estimate with the other sign, as
+// when the estimate is "drug minus placebo" and the interval "placebo
+// minus drug") cannot be read in either direction: the analysis is refused
+// with the reason, never used as posted. Hand check: the intervals below
+// are centred at +1.0, +3.0 and +2.1 while the estimate is -2.1.
+func TestPostedAnalysisCIMustBeCentred(t *testing.T) {
+	link := ingest.Link{TreatGroups: []string{"OG000"}, CtrlGroups: []string{"OG001"}}
+	for _, c := range []struct {
+		name   string
+		lo, hi string
+		used   bool
+	}{
+		{"asymmetric", "-3.0", "5.0", false},
+		{"excludes the estimate", "1.0", "5.0", false},
+		{"mirrored: centred on +2.1", "-2.4", "6.6", false},
+		{"centred within rounding", "-6.6", "2.4", true},
+		{"centred, one decimal less", "-6.6", "2.5", true}, // centre -2.05: within the half-steps 0.05 + 0.05 of the limits and 0.05 of the estimate
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			tr := analysisTrial([]string{"OG000", "OG001"}, [2]string{"NA", "NA"}, "Velmorazine 10 mg minus Placebo")
+			tr.Outcomes[0].Analyses[0].CILower, tr.Outcomes[0].Analyses[0].CIUpper = num(c.lo), num(c.hi)
+			got, err := RegistryEffect(mdReview, tr, link)
+			if c.used {
+				if err != nil || got.ConvertedFrom != "between_group_analysis" || got.Effect != -2.1 {
+					t.Fatalf("got %+v, %v: want the posted analysis used", got.Effect, err)
+				}
+				return
+			}
+			var re *RejectError
+			if !errors.As(err, &re) || !strings.Contains(err.Error(), "centre of its confidence interval") {
+				t.Fatalf("effect %v, err %v: want the analysis refused as not centred", got.Effect, err)
+			}
+		})
+	}
+}
