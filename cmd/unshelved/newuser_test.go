@@ -170,6 +170,10 @@ func TestLinksAnyCaseAndGroupIDs(t *testing.T) {
 	if !found {
 		t.Errorf("link not stored as NCT99000105 OG001/OG000: %+v", links)
 	}
+	code, out, stderr := runCLI(t, "", "--db", db, "audit", "--explain", "nct99000105", "--format", "json")
+	if code != exitOK || !strings.Contains(out, `"trial_id": "NCT99000105"`) {
+		t.Errorf("audit --explain with a lowercase id: exit %d, stderr %q", code, stderr)
+	}
 	bad := writeFile(t, dir, "bad.csv", header+"TINN-01,NCT99000105,0,OG009,OG000,no,,accept\n")
 	code, _, stderr = runCLI(t, "", "--db", db, "-q", "match", "--apply", bad)
 	if want := "has no group OG009; its groups are OG000, OG001"; code != exitRejected || !strings.Contains(stderr, want) {
