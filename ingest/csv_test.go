@@ -251,6 +251,7 @@ func TestReadNeutralCSVErrors(t *testing.T) {
 		{"n", "doc,T1,Title,Sp,2019,,no,Pain,Week 4,mm,mean,sd,A,experimental,0,3.0,1.0,,\n", `n.csv:2: record T1: field "n": bad value: must be at least 1: "0"`},
 		{"value", "doc,T1,Title,Sp,2019,,no,Pain,Week 4,mm,mean,sd,A,experimental,20,NA,1.0,,\n", `n.csv:2: record T1: field "value": bad value: not a number: "NA"`},
 		{"spread", "doc,T1,Title,Sp,2019,,no,Pain,Week 4,mm,mean,sd,A,experimental,20,3,1;0,,\n", `n.csv:2: record T1: field "spread": bad value: not a number: "1;0"`},
+		{"decimal comma", "doc,T1,Title,Sp,2019,,no,Pain,Week 4,mm,mean,sd,A,experimental,20,\"3,5\",1,,\n", `n.csv:2: record T1: field "value": bad value: "3,5" has a comma: write numbers with a decimal point and no thousands separator (1.5, not 1,5)`},
 		{"publication", "doc,T1,Title,Sp,2019,,maybe,Pain,Week 4,mm,mean,sd,A,experimental,20,3,1,,\n", `n.csv:2: record T1: field "publication": bad value: "maybe" is not one of yes, no, unknown`},
 		{"date", "doc,T1,Title,Sp,2019-6,,no,Pain,Week 4,mm,mean,sd,A,experimental,20,3,1,,\n", `n.csv:2: record T1: field "completion_date": bad value: not a yyyy, yyyy-MM or yyyy-MM-dd date: "2019-6"`},
 		{"trial inconsistent", good + "doc,T1,Title,Other sponsor,2019,,no,Pain,Week 4,mm,mean,sd,B,comparator,20,3,1,,\n", `n.csv:3: record T1: field "sponsor": bad value: "Other sponsor" differs from "Sp" on line 2 for the same trial`},

@@ -333,7 +333,7 @@ func (e *rowErrors) neutralNum(field string, required bool) Num {
 	}
 	missing := s == "" || strings.EqualFold(s, "NA") || strings.HasPrefix(strings.ToUpper(s), "NA ")
 	if !missing || required {
-		e.fail(field, ErrBadValue, "not a number: %q", s)
+		e.notNumber(field, s, "not a number: %q")
 	}
 	return n
 }
