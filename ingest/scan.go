@@ -63,6 +63,9 @@ type ScanOptions struct {
 	// DefaultMaxInFlightBytes. A single record larger than this (at most
 	// MaxRecordBytes) still passes, alone.
 	MaxInFlightBytes int64
+	// Delimiter separates the fields of neutral CSV files (see
+	// WithDelimiter); 0 means ','.
+	Delimiter rune
 }
 
 // DefaultMaxSpoolBytes is the default ScanOptions.MaxSpoolBytes: 16 GiB,
@@ -173,7 +176,7 @@ func ScanRegistry(ctx context.Context, paths []string, opts ScanOptions, emit fu
 		defer wg.Done()
 		defer close(order)
 		defer close(work)
-		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, known: opts.KnownContent, knownEntry: opts.KnownEntry, budget: budget, spool: spool}
+		p := producer{ctx: ctx, order: order, work: work, skip: opts.SkipFile, known: opts.KnownContent, knownEntry: opts.KnownEntry, budget: budget, spool: spool, comma: opts.Delimiter}
 		for _, pe := range listErrs {
 			if !p.send(&item{kind: itemFileError, err: pe, file: pe.File}) {
 				return
@@ -388,6 +391,7 @@ type producer struct {
 	kind       string // the container: json, page, jsonl, zip, csv
 	count      *countingReader
 	items      sync.WaitGroup // the current file's records not yet parsed
+	comma      rune           // ScanOptions.Delimiter
 }
 
 func (p *producer) send(it *item) bool {
@@ -708,7 +712,7 @@ func (p *producer) stream(r io.Reader, lowerName string) bool {
 	switch {
 	case strings.HasSuffix(lowerName, ".csv"):
 		p.kind = "csv"
-		trs, bad, err := ReadNeutralCSV(r, Source{Path: p.cur.path, SHA256: p.hash})
+		trs, bad, err := ReadNeutralCSV(WithDelimiter(r, p.comma), Source{Path: p.cur.path, SHA256: p.hash})
 		if err != nil {
 			return p.fail("", 0, ErrUnreadable, "%v", err)
 		}

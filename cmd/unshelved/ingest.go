@@ -35,6 +35,7 @@ type ingestRegistryOptions struct {
 	Workers   int
 	BatchSize int
 	Force     bool
+	Delimiter string // of neutral CSV files
 }
 
 func newCmdIngestRegistry(g *globals) *cobra.Command {
@@ -54,6 +55,9 @@ func newCmdIngestRegistry(g *globals) *cobra.Command {
 			if opts.BatchSize < 1 {
 				return flagErrorf("--batch must be at least 1, not %d", opts.BatchSize)
 			}
+			if _, err := parseDelimiter(opts.Delimiter); err != nil {
+				return err
+			}
 			return ingestRegistryRun(cmd, opts)
 		},
 	}
@@ -61,6 +65,7 @@ func newCmdIngestRegistry(g *globals) *cobra.Command {
 	cmd.Flags().IntVar(&opts.Workers, "workers", 0, "parsing goroutines (0 = one per core)")
 	cmd.Flags().IntVar(&opts.BatchSize, "batch", 2000, "trials per database transaction")
 	cmd.Flags().BoolVar(&opts.Force, "force", false, "re-read files already ingested with the same content")
+	cmd.Flags().StringVar(&opts.Delimiter, "delimiter", ",", `field separator of neutral CSV files: ',', ';', '\t' (tab) or '|'`)
 	return cmd
 }
 
@@ -165,11 +170,13 @@ func loadRegistry(ctx context.Context, g *globals, db *store.DB, opts *ingestReg
 		return sum, err
 	}
 	bar := newProgress(g, "ingest")
+	comma, _ := parseDelimiter(opts.Delimiter) // checked by the command
 	scanOpts := ingest.ScanOptions{
-		Workers:  opts.Workers,
-		Strict:   opts.Strict,
-		Stdin:    g.IO.In,
-		Progress: bar.update,
+		Delimiter: comma,
+		Workers:   opts.Workers,
+		Strict:    opts.Strict,
+		Stdin:     g.IO.In,
+		Progress:  bar.update,
 	}
 	if !opts.Force {
 		// An unchanged file (same SHA-256 as one fully ingested before,
@@ -392,6 +399,8 @@ commas are rejected in any case.`,
 // parseDelimiter reads a --delimiter value.
 func parseDelimiter(s string) (rune, error) {
 	switch s {
+	case "":
+		return ',', nil
 	case `\t`, "tab", "\t":
 		return '\t', nil
 	}

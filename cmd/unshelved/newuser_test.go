@@ -416,3 +416,27 @@ func TestPoolOneReview(t *testing.T) {
 		t.Errorf("--review NU-09: exit %d, stderr %q", code, stderr)
 	}
 }
+
+// TestIngestRegistryDelimiter: a tab-separated neutral CSV is named as
+// such, and --delimiter reads it into the same trials as the comma file.
+func TestIngestRegistryDelimiter(t *testing.T) {
+	dir := t.TempDir()
+	tabs := writeFile(t, dir, "other-tabs.csv", strings.ReplaceAll(neutralRoundTrip, ",", "\t"))
+	db := filepath.Join(dir, "w.db")
+	code, _, stderr := runCLI(t, "", "--db", db, "-q", "ingest", "registry", tabs)
+	if want := "this file uses tab as separator: save it comma-separated or pass `--delimiter '\\t'`"; code != exitRejected || !strings.Contains(stderr, want) {
+		t.Errorf("exit %d, stderr %q; want exit 3 and %q", code, stderr, want)
+	}
+	if code, _, stderr := runCLI(t, "", "--db", db, "-q", "ingest", "registry", "--delimiter", `\t`, tabs); code != exitOK {
+		t.Fatalf("--delimiter tab: exit %d: %s", code, stderr)
+	}
+	commaDB := filepath.Join(dir, "c.db")
+	if code, _, stderr := runCLI(t, "", "--db", commaDB, "-q", "ingest", "registry", writeFile(t, dir, "other.csv", neutralRoundTrip)); code != exitOK {
+		t.Fatalf("comma file: exit %d: %s", code, stderr)
+	}
+	_, a, _ := runCLI(t, "", "--db", db, "trials", "--format", "json", "--as-of", "2026-12-01")
+	_, b, _ := runCLI(t, "", "--db", commaDB, "trials", "--format", "json", "--as-of", "2026-12-01")
+	if a != b || !strings.Contains(a, "ISRCTN99990002") {
+		t.Errorf("tab file and comma file give different trials:\n%s\n%s", a, b)
+	}
+}
