@@ -23,6 +23,10 @@ type auditOptions struct {
 	Seed      uint64
 	Workers   int
 	Explain   string
+	// Methods prints the methods paragraph of each audited review instead
+	// of the audit table; Studies writes the per-study CSV to this path.
+	Methods bool
+	Studies string
 	// Prefer and AllowNonrandomized choose how registry records are read.
 	Prefer             string
 	AllowNonrandomized bool
@@ -74,6 +78,8 @@ numbers were derived instead (not stored).`,
 	addAuditFlags(cmd, opts)
 	cmd.Flags().StringSliceVar(&opts.Reviews, "review", nil, "review id to audit (repeatable; default all)")
 	cmd.Flags().StringVar(&opts.Explain, "explain", "", "show the registry record, outcome, arms and every conversion behind one trial's numbers")
+	cmd.Flags().BoolVar(&opts.Methods, "methods", false, "print a methods paragraph with its references for each audited review instead of the table")
+	cmd.Flags().StringVar(&opts.Studies, "studies", "", "also write one row per study or registry trial per review to this CSV file")
 	return cmd
 }
 
@@ -185,7 +191,17 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	for _, e := range run.Failed {
 		g.reasonf("not audited: %v", e)
 	}
-	if err := render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level)); err != nil {
+	if opts.Studies != "" {
+		if err := writeStudiesFile(opts.Studies, audits, opts.Level); err != nil {
+			return err
+		}
+	}
+	if opts.Methods {
+		err = writeMethods(g.IO.Out, g.Format, audits, opts.compareOptions())
+	} else {
+		err = render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level))
+	}
+	if err != nil {
 		return err
 	}
 	if len(run.Failed) > 0 {

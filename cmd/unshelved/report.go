@@ -30,8 +30,11 @@ DIR/index.html, one row per review with its shift and whether the conclusion
 changes, and one page per review (DIR/<review id>.html) with the question,
 the data-flow counts, the shift in words, the forest and contour-enhanced
 funnel plots, the included and added trials with their registry pages and
-conversions, the publication-bias battery, the GRADE-style hint, the methods
-with citations and the cautions.
+conversions, the publication-bias battery, the GRADE-style hint, a methods
+paragraph written from the options used with its references, the methods
+with citations, a provenance block (workspace, run, seed, options, version,
+registry files with snapshot and ingest dates, search date, flow counts and
+the excluded trials) and the cautions.
 
 Pages are self-contained (inline CSS and SVG, no scripts, no external fonts
 or images) and print on A4 or Letter. The path of the overview page is
@@ -104,9 +107,16 @@ func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string,
 	if err != nil {
 		return "", nil, 0, err
 	}
+	aopts := opts.Audit.compareOptions()
+	prov, err := compare.LoadProvenance(cmd.Context(), db, run.Audits,
+		compare.RunInfo{Workspace: g.dbPath(cmd), RunID: run.RunID, Version: version, Options: aopts}, true)
+	if err != nil {
+		return "", nil, 0, fmt.Errorf("provenance of the report pages: %w", err)
+	}
 	index, err := plotrender.WriteReport(opts.Out, run.Audits, plotrender.ReportOptions{
 		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level, Figures: opts.Figures,
 		Generated: g.IO.now().UTC().Format("2006-01-02") + ", unshelved " + version,
+		Audit:     aopts, Version: version, Provenance: prov,
 	})
 	return index, run.Audits, len(run.Failed), err
 }

@@ -40,6 +40,14 @@ type ReportOptions struct {
 	// Scan marks the pages as a registry-internal comparison (a scan):
 	// "published" are the trials whose record links a publication.
 	Scan bool
+	// Audit are the options the audits were run with, for each page's
+	// methods paragraph; Version is the tool version it names ("" for
+	// none).
+	Audit   compare.Options
+	Version string
+	// Provenance is each page's provenance block, by review id; a review
+	// without one gets none.
+	Provenance map[string]compare.Provenance
 }
 
 //go:embed report.css
@@ -183,6 +191,10 @@ type pageData struct {
 	EggerNote string
 	Bias      *compare.BiasReport
 	Methods   []method
+	// Paragraph is the ready-to-paste methods paragraph with its
+	// references; Prov the provenance block (nil for none).
+	Paragraph compare.Methods
+	Prov      *compare.Provenance
 	Cautions  []string
 	Generated string
 	Index     string
@@ -256,7 +268,7 @@ func methodsFor(a compare.ReviewAudit) []method {
 	}
 	return []method{
 		{"Random-effects pooling (tau² estimator " + strings.ToUpper(a.Published.Random.Tau2Method) + "), fixed effect by inverse variance", tau},
-		{"Confidence interval and p-value of the pooled estimate", ci + " The audit offers --ci hksj (the default), hksj-untruncated and wald."},
+		{"Confidence interval and p-value of the pooled estimate", ci},
 		{"Prediction interval for the effect in a new study", "Higgins JPT, Thompson SG, Spiegelhalter DJ. A re-evaluation of random-effects meta-analysis. J R Stat Soc A 2009;172:137-59."},
 		{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."},
 		{"Rank correlation test (Begg & Mazumdar 1994)", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
@@ -427,6 +439,14 @@ func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageDat
 	}
 	if rv, ok := opts.Reviews[a.ReviewID]; ok {
 		d.Review = &rv
+	}
+	if !opts.Scan { // a scan's comparison is not the audit the paragraph describes
+		audit := opts.Audit
+		audit.Level = level
+		d.Paragraph = compare.MethodsFor(a, audit, opts.Version)
+	}
+	if p, ok := opts.Provenance[a.ReviewID]; ok {
+		d.Prov = &p
 	}
 	var buf bytes.Buffer
 	if err := inlineSVG(&buf, forestFigure(a)); err != nil {

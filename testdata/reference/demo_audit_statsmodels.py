@@ -7,6 +7,9 @@ into effects, and pools them (published alone, with the registry-only
 trials, and with the trials published but not in the review: those whose
 record has a RESULT reference) with Debian's python3-statsmodels 0.13.5
 (statsmodels.stats.meta_analysis.combine_effects, method_re="dl").
+Under each analysis it prints every study's share of the weights in
+percent (weights_rel_re and weights_rel_fe), the check values of
+`audit --studies` (cmd/unshelved/audit_exports_test.go).
 
 Formulas (Cochrane Handbook ch. 6; Borenstein et al. 2009 ch. 4):
   SD from SE: SD = SE * sqrt(n)
@@ -132,17 +135,18 @@ def main():
     links = list(csv.DictReader(open(os.path.join(ROOT, "links.csv"))))
     print(f"# statsmodels {statsmodels.__version__}, scipy {scipy.__version__}, numpy {np.__version__}")
     for rid, rv in reviews.items():
-        pub = []
+        pub, pub_names = [], []
         for s in studies:
             if s["review_id"] != rid:
                 continue
+            pub_names.append(s["study"])
             if s["effect"]:
                 pub.append((float(s["effect"]), float(s["se"])))
             else:
                 t = (int(s["treat_n"]), float(s["treat_mean"]), float(s["treat_sd"]))
                 c = (int(s["ctrl_n"]), float(s["ctrl_mean"]), float(s["ctrl_sd"]))
                 pub.append(effect(rv["measure"], t, c))
-        added, missed = [], []
+        added, missed, added_names, missed_names = [], [], [], []
         for l in links:
             if l["review_id"] != rid or l["decision"] != "accept":
                 continue
@@ -154,6 +158,7 @@ def main():
                 if l["flip"] == "yes":
                     e = -e
                 added.append((e, se))
+                added_names.append(l["trial_id"])
                 continue
             t = combine([arm(o, g, l["unit_from"]) for g in l["treat_groups"].split(";")])
             c = combine([arm(o, g, l["unit_from"]) for g in l["ctrl_groups"].split(";")])
@@ -166,12 +171,14 @@ def main():
             refs = rec["protocolSection"].get("referencesModule", {}).get("references", [])
             if any(r.get("type") == "RESULT" for r in refs):
                 missed.append((e, se))
+                missed_names.append(l["trial_id"])
             else:
                 added.append((e, se))
-        sets = [("published", pub), ("augmented", pub + added)]
+                added_names.append(l["trial_id"])
+        sets = [("published", pub, pub_names), ("augmented", pub + added, pub_names + added_names)]
         if missed:
-            sets.append(("with_missed_publications", pub + missed))
-        for name, data in sets:
+            sets.append(("with_missed_publications", pub + missed, pub_names + missed_names))
+        for name, data, names in sets:
             eff = np.array([x[0] for x in data])
             var = np.array([x[1] ** 2 for x in data])
             res = combine_effects(eff, var, method_re="dl")
@@ -179,6 +186,11 @@ def main():
             fe, re_ = sf.loc["fixed effect"], sf.loc["random effect"]
             print(f"{rid} {name} k={len(data)} fixed={fe['eff']!r} fixed_se={fe['sd_eff']!r} "
                   f"random={re_['eff']!r} random_se={re_['sd_eff']!r} tau2={res.tau2!r}")
+            # Each study's share of the weights, in percent: random effects
+            # (weights_rel_re) and, for a negative DL tau2 (which the audit
+            # floors at 0), fixed effect (weights_rel_fe).
+            for label, w_re, w_fe in zip(names, res.weights_rel_re, res.weights_rel_fe):
+                print(f"  weight {rid} {name} {label.replace(' ', '_')} re={100 * w_re!r} fe={100 * w_fe!r}")
 
 
 main()
