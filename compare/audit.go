@@ -2,13 +2,11 @@ package compare
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
-	"sync"
 
 	"unshelved/analysis"
 	"unshelved/ingest"
@@ -807,140 +805,6 @@ func (e *ReviewError) Error() string {
 	return "review " + e.ReviewID + ": " + msg
 }
 func (e *ReviewError) Unwrap() error { return e.Err }
-
-// AuditAll audits every input with up to workers goroutines (zero or less
-// means 1) and returns the audits in input order, leaving out reviews that
-// failed; their errors come back as *ReviewError, also in input order. The
-// context is checked before each review; when it is cancelled AuditAll
-// returns its error and no audits.
-func AuditAll(ctx context.Context, inputs []AuditInput, opts Options, workers int) ([]ReviewAudit, []error, error) {
-	workers = max(1, min(workers, len(inputs)))
-	results := make([]ReviewAudit, len(inputs))
-	errs := make([]error, len(inputs))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				results[i], errs[i] = AuditReview(inputs[i], opts)
-			}
-		}()
-	}
-	var cancelled error
-	for i := range inputs {
-		if err := ctx.Err(); err != nil {
-			cancelled = err
-			break
-		}
-		next <- i
-	}
-	close(next)
-	wg.Wait()
-	if cancelled != nil {
-		return nil, nil, cancelled
-	}
-	var out []ReviewAudit
-	var failed []error
-	for i := range inputs {
-		if errs[i] != nil {
-			failed = append(failed, &ReviewError{ReviewID: inputs[i].Review.ReviewID, Err: errs[i]})
-			continue
-		}
-		out = append(out, results[i])
-	}
-	return out, failed, nil
-}
-
-// LoadAuditInputs reads the named reviews (all when ids is empty) with
-// their studies, links and the linked registry records: the records of
-// accepted links, and of links classed included or no-results that were
-// not rejected (for Discrepancies and Missing).
-func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditInput, error) {
-	reviews, err := selectReviews(ctx, db, ids)
-	if err != nil {
-		return nil, err
-	}
-	out := make([]AuditInput, 0, len(reviews))
-	for _, rv := range reviews {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		in, err := loadInput(ctx, db, rv)
-		if err != nil {
-			return nil, err
-		}
-		for _, l := range in.Links {
-			if strings.EqualFold(l.Decision, "reject") || (l.Class != ClassIncluded && l.Class != ClassNoResults) {
-				continue
-			}
-			if _, ok := in.Trials[l.TrialID]; ok {
-				continue
-			}
-			t, err := db.Trial(ctx, l.TrialID)
-			if errors.Is(err, store.ErrNotFound) {
-				continue
-			}
-			if err != nil {
-				return nil, fmt.Errorf("load trial %s: %w", l.TrialID, err)
-			}
-			in.Trials[l.TrialID] = t
-		}
-		out = append(out, in)
-	}
-	return out, nil
-}
-
-// AuditRun is a stored audit run and what it produced.
-type AuditRun struct {
-	RunID  int64
-	Audits []ReviewAudit
-	Failed []error // *ReviewError per review that could not be audited
-}
-
-// RunAudit audits the named reviews (all when ids is empty) and records
-// the run in the store: StartRun with kind "audit", opts as JSON, version
-// and opts.Seed; each review's audit JSON with SaveRunResult; FinishRun
-// with "complete", "cancelled" when ctx was cancelled (the error is then
-// ctx's), or "failed" on any other error. A run cut short is never marked
-// complete. Reviews that fail on their own (no usable study) do not fail
-// the run; they are listed in Failed.
-func RunAudit(ctx context.Context, db *store.DB, ids []string, opts Options, version string, workers int) (AuditRun, error) {
-	optJSON, err := json.Marshal(opts.record())
-	if err != nil {
-		return AuditRun{}, fmt.Errorf("encode options: %w", err)
-	}
-	runID, err := db.StartRun(ctx, "audit", string(optJSON), version, opts.Seed)
-	if err != nil {
-		return AuditRun{}, err
-	}
-	run := AuditRun{RunID: runID}
-	err = func() error {
-		inputs, err := LoadAuditInputs(ctx, db, ids)
-		if err != nil {
-			return err
-		}
-		run.Audits, run.Failed, err = AuditAll(ctx, inputs, opts, workers)
-		if err != nil {
-			return err
-		}
-		for _, a := range run.Audits {
-			if err := ctx.Err(); err != nil {
-				return err
-			}
-			b, err := json.Marshal(a)
-			if err != nil {
-				return fmt.Errorf("encode audit of %s: %w", a.ReviewID, err)
-			}
-			if err := db.SaveRunResult(ctx, runID, a.ReviewID, string(b)); err != nil {
-				return err
-			}
-		}
-		return nil
-	}()
-	return run, finishRun(db, runID, ctx, err)
-}
 
 // finishRun records the final status of a run and returns err (or the
 // error of recording it). It uses a fresh context so that a cancelled run

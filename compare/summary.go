@@ -524,34 +524,55 @@ func ShiftPoints(audits []ReviewAudit) (publishedSD, overstatementSD []float64, 
 // auditOpts.Seed; the summary JSON is saved as the run's single result
 // under the empty review id. Status as for RunAudit.
 func RunSummary(ctx context.Context, db *store.DB, auditOpts Options, opts SummaryOptions, version string, workers int) (SummaryRun, error) {
+	return RunSummaryOpts(ctx, db, auditOpts, opts, version, RunOptions{Workers: workers})
+}
+
+// RunSummaryOpts is RunSummary with the run options; with NoStore the
+// workspace is left untouched and RunID is zero.
+func RunSummaryOpts(ctx context.Context, db *store.DB, auditOpts Options, opts SummaryOptions, version string, ro RunOptions) (SummaryRun, error) {
 	o := opts.resolve()
-	optJSON, err := json.Marshal(map[string]any{"audit": auditOpts.record(), "summary": summaryRecord(o)})
-	if err != nil {
-		return SummaryRun{}, fmt.Errorf("encode options: %w", err)
+	var run SummaryRun
+	if !ro.NoStore {
+		optJSON, err := json.Marshal(map[string]any{"audit": auditOpts.record(), "summary": summaryRecord(o)})
+		if err != nil {
+			return SummaryRun{}, fmt.Errorf("encode options: %w", err)
+		}
+		if run.RunID, err = db.StartRun(ctx, "summary", string(optJSON), version, auditOpts.Seed); err != nil {
+			return SummaryRun{}, err
+		}
 	}
-	runID, err := db.StartRun(ctx, "summary", string(optJSON), version, auditOpts.Seed)
-	if err != nil {
-		return SummaryRun{}, err
-	}
-	run := SummaryRun{RunID: runID}
-	err = func() error {
-		inputs, err := LoadAuditInputs(ctx, db, nil)
+	err := func() error {
+		reviews, err := selectReviews(ctx, db, nil)
 		if err != nil {
 			return err
 		}
-		audits, failed, err := AuditAll(ctx, inputs, auditOpts, workers)
+		err = AuditEach(ctx, len(reviews), func(ctx context.Context, i int) (AuditInput, error) {
+			return loadAuditInput(ctx, db, reviews[i])
+		}, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
+			if r.Err != nil {
+				run.Failed = append(run.Failed, r.Err)
+			} else {
+				run.Audits = append(run.Audits, r.Audit)
+			}
+			return nil
+		})
 		if err != nil {
 			return err
 		}
-		run.Failed, run.Audits = failed, audits
-		run.Summary = Summarize(audits, o)
-		b, err := json.Marshal(run.Summary)
+		run.Summary = Summarize(run.Audits, o)
+		if ro.NoStore {
+			return nil
+		}
+		b, err := CompactJSON(run.Summary)
 		if err != nil {
 			return fmt.Errorf("encode summary: %w", err)
 		}
-		return db.SaveRunResult(ctx, runID, "", string(b))
+		return db.SaveRunResult(ctx, run.RunID, "", string(b))
 	}()
-	return run, finishRun(db, runID, ctx, err)
+	if ro.NoStore {
+		return run, err
+	}
+	return run, finishRun(db, run.RunID, ctx, err)
 }
 
 func summaryRecord(o SummaryOptions) map[string]any {

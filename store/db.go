@@ -9,6 +9,7 @@ import (
 	"io/fs"
 	"os"
 	"path"
+	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -25,10 +26,11 @@ var ErrNotFound = errors.New("not found")
 
 // DB is an open workspace database.
 type DB struct {
-	path  string
-	write *sql.DB // one connection; transactions begin IMMEDIATE
-	read  *sql.DB // read-only pool; transactions begin DEFERRED
-	now   func() time.Time
+	path     string
+	readOnly bool    // opened read-only: the file or its folder may not be written
+	write    *sql.DB // one connection; transactions begin IMMEDIATE
+	read     *sql.DB // read-only pool; transactions begin DEFERRED
+	now      func() time.Time
 }
 
 // Open opens (creating if needed) the workspace database at path and
@@ -44,6 +46,9 @@ func Open(ctx context.Context, path string) (_ *DB, err error) {
 			_ = db.Close()
 		}
 	}()
+	if notWritable(path) {
+		return db, db.openReadOnly(ctx)
+	}
 	if err := createFile(ctx, path); err != nil {
 		return nil, fmt.Errorf("open %s: %w", path, err)
 	}
@@ -72,6 +77,68 @@ func Open(ctx context.Context, path string) (_ *DB, err error) {
 	return db, nil
 }
 
+// ReadOnlyError is returned by the methods that write when the workspace
+// was opened read-only.
+type ReadOnlyError struct{ Path string }
+
+func (e *ReadOnlyError) Error() string {
+	return fmt.Sprintf("workspace %s is read-only (the file or its folder may not be written)", e.Path)
+}
+
+// ReadOnly reports whether the workspace was opened read-only because the
+// file or its folder may not be written.
+func (db *DB) ReadOnly() bool { return db.readOnly }
+
+// writable returns a *ReadOnlyError when the workspace is read-only.
+func (db *DB) writable() error {
+	if db.readOnly {
+		return &ReadOnlyError{Path: db.path}
+	}
+	return nil
+}
+
+// notWritable reports whether an existing database file, or the folder
+// that must hold its write-ahead log, may not be written by this process.
+func notWritable(path string) bool {
+	if _, err := os.Stat(path); err != nil {
+		return false // a missing file is created (or fails) as usual
+	}
+	return !canWrite(path) || !canWrite(filepath.Dir(path))
+}
+
+// openReadOnly opens a workspace that may not be written: both pools read
+// only, no migration. SQLite needs the write-ahead log's index file; when
+// it cannot be created (a read-only folder) the file is opened as
+// immutable, which is safe because nobody with these permissions can be
+// writing it.
+func (db *DB) openReadOnly(ctx context.Context) error {
+	db.readOnly = true
+	var err error
+	for _, extra := range []string{"", "&immutable=1"} {
+		if db.read != nil {
+			_ = db.read.Close()
+		}
+		if db.read, err = sql.Open("sqlite3", "file:"+db.path+"?mode=ro&_busy_timeout=5000&_txlock=deferred&_query_only=1&_foreign_keys=on"+extra); err != nil {
+			return fmt.Errorf("open %s: %w", db.path, err)
+		}
+		var v int
+		if err = db.read.QueryRowContext(ctx, "PRAGMA user_version").Scan(&v); err != nil {
+			continue
+		}
+		latest := LatestSchemaVersion()
+		switch {
+		case v > latest:
+			return fmt.Errorf("open %s: database schema version %d is newer than this binary's version %d", db.path, v, latest)
+		case v < latest:
+			return fmt.Errorf("open %s: the workspace is read-only and has schema version %d, older than this binary's %d; "+
+				"make it writable and run any command once to upgrade it", db.path, v, latest)
+		}
+		db.write = db.read
+		return nil
+	}
+	return fmt.Errorf("open %s read-only: %w", db.path, err)
+}
+
 // PageSize is the page size of a database file Open creates. Larger pages
 // than SQLite's default of 4096 make shallower B-trees and fewer WAL frames
 // per stored row; a file created with another page size keeps it.
@@ -94,6 +161,11 @@ func createFile(ctx context.Context, path string) error {
 	// PRAGMA takes no placeholders; the size is our own constant.
 	if _, err := c.ExecContext(ctx, "PRAGMA page_size = "+strconv.Itoa(PageSize)); err != nil {
 		return fmt.Errorf("set page size: %w", err)
+	}
+	// Incremental vacuum lets deleting runs give their pages back to the
+	// file system (store.DeleteRuns); it too must precede the first table.
+	if _, err := c.ExecContext(ctx, "PRAGMA auto_vacuum = INCREMENTAL"); err != nil {
+		return fmt.Errorf("set auto_vacuum: %w", err)
 	}
 	var mode string
 	if err := c.QueryRowContext(ctx, "PRAGMA journal_mode = WAL").Scan(&mode); err != nil {
@@ -127,6 +199,9 @@ func dsn(file string, readOnly bool) string {
 // Close closes both connection pools.
 func (db *DB) Close() error {
 	var errs []error
+	if db.write == db.read {
+		db.write = nil
+	}
 	if db.read != nil {
 		errs = append(errs, db.read.Close())
 		db.read = nil

@@ -28,6 +28,9 @@ type LinkRecord struct {
 // (AutoAccepted true). Otherwise the new link replaces the stored one.
 // DecidedAt is set when a decision is first stored or changes.
 func (db *DB) SaveLinks(ctx context.Context, links []ingest.Link) error {
+	if err := db.writable(); err != nil {
+		return err
+	}
 	for _, l := range links {
 		if err := checkFloatPtr("score", l.Score); err != nil {
 			return fmt.Errorf("save links: %s/%s/%d: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)

@@ -15,6 +15,9 @@ import (
 // one of the given reviews. Links to a replaced review are kept. Studies
 // keep their order within each review.
 func (db *DB) SaveReviews(ctx context.Context, reviews []ingest.Review, studies []ingest.ReviewStudy) error {
+	if err := db.writable(); err != nil {
+		return err
+	}
 	given := make(map[string]bool, len(reviews))
 	for _, r := range reviews {
 		if r.ReviewID == "" {

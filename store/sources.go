@@ -39,6 +39,9 @@ func (db *DB) SourceKnown(ctx context.Context, sha256 string) (bool, error) {
 // trials were committed (TrialWriter.Flush). Recording the same path and
 // hash again replaces the earlier row.
 func (db *DB) RecordSource(ctx context.Context, s SourceFile) error {
+	if err := db.writable(); err != nil {
+		return err
+	}
 	if s.SHA256 == "" {
 		return fmt.Errorf("record source %s: empty sha256", s.Path)
 	}

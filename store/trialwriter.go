@@ -122,6 +122,9 @@ type TrialWriter struct {
 // (DefaultBatchSize when batchSize <= 0). No transaction is open until the
 // first Write.
 func (db *DB) NewTrialWriter(ctx context.Context, batchSize int) (*TrialWriter, error) {
+	if err := db.writable(); err != nil {
+		return nil, err
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

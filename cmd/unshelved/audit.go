@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"io"
 	"runtime"
 	"strconv"
 	"strings"
@@ -10,6 +11,7 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/compare"
+	"unshelved/store"
 )
 
 type auditOptions struct {
@@ -30,6 +32,9 @@ type auditOptions struct {
 	// Prefer and AllowNonrandomized choose how registry records are read.
 	Prefer             string
 	AllowNonrandomized bool
+	NoStore            bool
+	Indent             bool
+	Run                int64
 }
 
 func newCmdAudit(g *globals) *cobra.Command {
@@ -59,8 +64,15 @@ that test is Wald. A review with no registry trial linked is reported on
 stderr and its conclusion change is unknown (null).
 
 Every run is stored in the workspace (kind audit) with its options, the
-tool version and the seed. --explain TRIAL shows how one registry trial's
-numbers were derived instead (not stored).`,
+tool version and the seed, unless --no-store is given; --run N re-prints a
+stored audit run (as 'unshelved runs show N'). --explain TRIAL shows how
+one registry trial's numbers were derived instead (not stored).
+
+Results are written review by review, in review order, as they are ready
+(the table format, whose column widths depend on every row, is printed at
+the end). --format json writes one array, indented when stdout is a
+terminal or with --indent; --format jsonl writes one compact JSON object
+per review per line.`,
 		Args: exactArgs(0),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if err := opts.validate(cmd); err != nil {
@@ -72,6 +84,9 @@ numbers were derived instead (not stored).`,
 				}
 				return explainRun(cmd, opts)
 			}
+			if opts.Run != 0 {
+				return showRun(cmd, opts.g, opts.Run, "audit", opts.Indent)
+			}
 			return auditRun(cmd, opts)
 		},
 	}
@@ -80,6 +95,8 @@ numbers were derived instead (not stored).`,
 	cmd.Flags().StringVar(&opts.Explain, "explain", "", "show the registry record, outcome, arms and every conversion behind one trial's numbers")
 	cmd.Flags().BoolVar(&opts.Methods, "methods", false, "print a methods paragraph with its references for each audited review instead of the table")
 	cmd.Flags().StringVar(&opts.Studies, "studies", "", "also write one row per study or registry trial per review to this CSV file")
+	cmd.Flags().BoolVar(&opts.Indent, "indent", false, "indent --format json even when stdout is not a terminal")
+	cmd.Flags().Int64Var(&opts.Run, "run", 0, "re-print the stored audit run N instead of auditing (as 'runs show N')")
 	return cmd
 }
 
@@ -103,6 +120,16 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	cmd.Flags().IntVar(&opts.Workers, "workers", d.Workers, "reviews audited in parallel (results stay in review order)")
 	cmd.Flags().StringVar(&opts.Prefer, "prefer", d.Prefer, "for model-adjusted arm means, use the record's posted between-group analysis or the arms: analysis or arms")
 	cmd.Flags().BoolVar(&opts.AllowNonrandomized, "allow-nonrandomized", false, "use accepted links to not-randomized and crossover records (flagged) instead of refusing them")
+	cmd.Flags().BoolVar(&opts.NoStore, "no-store", false, "do not record the run in the workspace (which is then not written at all)")
+}
+
+// openDB opens the workspace for a command that stores a run unless
+// --no-store was given.
+func (o *auditOptions) openDB(cmd *cobra.Command) (*store.DB, error) {
+	if o.NoStore {
+		return o.g.openDB(cmd)
+	}
+	return o.g.openDBToWrite(cmd, true)
 }
 
 // validate checks the shared audit flags.
@@ -165,31 +192,46 @@ func checkTau2(m string) error {
 
 func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	g := opts.g
-	db, err := g.openDB(cmd)
+	db, err := opts.openDB(cmd)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	run, err := compare.RunAudit(cmd.Context(), db, opts.Reviews, opts.compareOptions(), version, opts.Workers)
+	// --methods and --studies need every audit at the end; otherwise the
+	// audits stream out as they come.
+	keep := opts.Methods || opts.Studies != ""
+	var audits []compare.ReviewAudit
+	var out *auditOutput
+	if !opts.Methods {
+		out = newAuditOutput(g, opts.Level, opts.Indent)
+	}
+	run, err := compare.RunAuditEach(cmd.Context(), db, opts.Reviews, opts.compareOptions(), version,
+		compare.RunOptions{Workers: opts.Workers, NoStore: opts.NoStore, JSON: out != nil && out.wantsJSON()}, func(r compare.AuditResult) error {
+			if r.Err != nil {
+				g.reasonf("not audited: %v", r.Err)
+				return nil
+			}
+			a := &r.Audit
+			noteRegistrySearch(g, *a)
+			for _, w := range a.Warnings {
+				g.progressf("%s: %s", a.ReviewID, w)
+			}
+			for _, r := range a.Rejected {
+				g.reasonf("review %s: link %s outcome %d not used (%s): %s", a.ReviewID, r.TrialID, r.OutcomeIndex, r.Reason, r.Detail)
+			}
+			if keep {
+				audits = append(audits, *a)
+			}
+			if out != nil {
+				return out.add(a, r.JSON)
+			}
+			return nil
+		})
 	if err != nil {
 		return err
 	}
-	audits := run.Audits
 	if audits == nil {
 		audits = []compare.ReviewAudit{}
-	}
-	g.progressf("audit: run %d stored (seed %d)", run.RunID, opts.Seed)
-	for _, a := range audits {
-		noteRegistrySearch(g, a)
-		for _, w := range a.Warnings {
-			g.progressf("%s: %s", a.ReviewID, w)
-		}
-		for _, r := range a.Rejected {
-			g.reasonf("review %s: link %s outcome %d not used (%s): %s", a.ReviewID, r.TrialID, r.OutcomeIndex, r.Reason, r.Detail)
-		}
-	}
-	for _, e := range run.Failed {
-		g.reasonf("not audited: %v", e)
 	}
 	if opts.Studies != "" {
 		if err := writeStudiesFile(opts.Studies, audits, opts.Level); err != nil {
@@ -199,10 +241,13 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	if opts.Methods {
 		err = writeMethods(g.IO.Out, g.Format, audits, opts.compareOptions())
 	} else {
-		err = render(g.IO.Out, g.Format, audits, auditGrid(audits, opts.Level))
+		err = out.close()
 	}
 	if err != nil {
 		return err
+	}
+	if !opts.NoStore {
+		g.progressf("audit: run %d stored (seed %d, %d reviews, %d bytes)", run.RunID, opts.Seed, run.Reviews, run.Bytes)
 	}
 	if len(run.Failed) > 0 {
 		return &rejectedError{n: len(run.Failed), what: notAudited}
@@ -212,6 +257,58 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 
 // notAudited counts reviews that could not be audited.
 var notAudited = [2]string{"review could not be audited", "reviews could not be audited"}
+
+// auditOutput writes audits as they come: JSON and JSON lines from each
+// audit's compact JSON text, CSV row by row; the table, whose column
+// widths depend on every row, at the end.
+type auditOutput struct {
+	w      io.Writer
+	format string
+	level  float64
+	json   *jsonStream
+	csv    *csvStream
+	table  []compare.ReviewAudit
+}
+
+func newAuditOutput(g *globals, level float64, indent bool) *auditOutput {
+	o := &auditOutput{w: g.IO.Out, format: g.Format, level: level}
+	switch g.Format {
+	case "json", "jsonl":
+		o.json = &jsonStream{w: g.IO.Out, lines: g.Format == "jsonl", indent: indent || g.IO.OutIsTerminal}
+	case "csv":
+		o.csv = newCSVStream(g.IO.Out, auditColumns)
+	}
+	return o
+}
+
+// wantsJSON reports whether add needs the audit's JSON text.
+func (o *auditOutput) wantsJSON() bool { return o.json != nil }
+
+// wantsAudit reports whether add needs the audit itself.
+func (o *auditOutput) wantsAudit() bool { return o.json == nil }
+
+func (o *auditOutput) add(a *compare.ReviewAudit, js []byte) error {
+	switch {
+	case o.json != nil:
+		return o.json.add(js)
+	case o.csv != nil:
+		return o.csv.add(auditGrid([]compare.ReviewAudit{*a}, o.level).CSV)
+	default:
+		o.table = append(o.table, *a)
+		return nil
+	}
+}
+
+func (o *auditOutput) close() error {
+	switch {
+	case o.json != nil:
+		return o.json.close()
+	case o.csv != nil:
+		return o.csv.close()
+	default:
+		return render(o.w, "table", nil, auditGrid(o.table, o.level))
+	}
+}
 
 var auditColumns = []string{
 	"review_id", "measure", "unit", "k_published", "k_added",

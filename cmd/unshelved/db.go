@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"os"
 
 	"github.com/spf13/cobra"
 )
@@ -11,7 +12,7 @@ func newCmdDB(g *globals) *cobra.Command {
 		Use:   "db",
 		Short: "Inspect and check the workspace database",
 	}
-	cmd.AddCommand(newCmdDBInfo(g), newCmdDBCheck(g))
+	cmd.AddCommand(newCmdDBInfo(g), newCmdDBCheck(g), newCmdDBVacuum(g))
 	return cmd
 }
 
@@ -134,4 +135,37 @@ func newCmdDBCheck(g *globals) *cobra.Command {
 			return nil
 		},
 	}
+}
+
+func newCmdDBVacuum(g *globals) *cobra.Command {
+	return &cobra.Command{
+		Use:   "vacuum",
+		Short: "Rewrite the database without its free pages and make later deletions free their space at once",
+		Args:  exactArgs(0),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			db, err := g.openDBToWrite(cmd, false)
+			if err != nil {
+				return err
+			}
+			defer db.Close()
+			before := fileSize(db.Path())
+			if err := db.Vacuum(cmd.Context()); err != nil {
+				return err
+			}
+			after := fileSize(db.Path())
+			fmt.Fprintf(g.IO.Out, "%s: %s before, %s after\n", db.Path(), byteSize(before), byteSize(after))
+			return nil
+		},
+	}
+}
+
+// fileSize is the size of a database file with its write-ahead log.
+func fileSize(path string) int64 {
+	var n int64
+	for _, suffix := range []string{"", "-wal"} {
+		if fi, err := os.Stat(path + suffix); err == nil {
+			n += fi.Size()
+		}
+	}
+	return n
 }

@@ -56,7 +56,7 @@ func demoRun(cmd *cobra.Command, opts *demoOptions) error {
 		}
 	}
 	g.DBPath = dbPath
-	db, err := g.openDB(cmd)
+	db, err := g.createDB(cmd)
 	if err != nil {
 		return err
 	}

@@ -143,11 +143,14 @@ type ingestSummary struct {
 func ingestRegistryRun(cmd *cobra.Command, opts *ingestRegistryOptions) error {
 	g := opts.g
 	defer ingestMemorySettings()()
-	db, err := g.openDB(cmd)
+	db, err := g.createDB(cmd)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
+	if db.ReadOnly() {
+		return readOnlyError(db.Path(), false)
+	}
 	sum, err := loadRegistry(cmd.Context(), g, db, opts)
 	if err != nil {
 		return err
@@ -419,11 +422,14 @@ func ingestReviewsRun(cmd *cobra.Command, opts *ingestReviewsOptions) error {
 	if err != nil {
 		return err
 	}
-	db, err := g.openDB(cmd)
+	db, err := g.createDB(cmd)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
+	if db.ReadOnly() {
+		return readOnlyError(db.Path(), false)
+	}
 	return saveReviews(cmd.Context(), g, db, reviews, studies)
 }
 

@@ -99,7 +99,7 @@ does, into registry/ beside the workspace), ingests them, then matches.`,
 
 func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 	g := opts.g
-	db, err := g.openDB(cmd)
+	db, err := g.openDBToWrite(cmd, false)
 	if err != nil {
 		return err
 	}

@@ -1,11 +1,13 @@
 package main
 
 import (
+	"bytes"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
 	"math"
+	"reflect"
 	"strconv"
 	"strings"
 
@@ -44,6 +46,8 @@ func render(w io.Writer, format string, v any, g grid) error {
 	switch format {
 	case "json":
 		return writeJSON(w, v)
+	case "jsonl":
+		return writeJSONLines(w, v)
 	case "csv":
 		return writeCSV(w, g.Columns, g.CSV)
 	default:
@@ -88,6 +92,137 @@ func writeJSON(w io.Writer, v any) error {
 	enc.SetIndent("", "  ")
 	enc.SetEscapeHTML(false)
 	return enc.Encode(v)
+}
+
+// writeJSONLines writes v as compact JSON: each element of a slice on a
+// line of its own, anything else on one line.
+func writeJSONLines(w io.Writer, v any) error {
+	rv := reflect.ValueOf(v)
+	if rv.Kind() != reflect.Slice && rv.Kind() != reflect.Array {
+		return writeCompactLine(w, v)
+	}
+	for i := range rv.Len() {
+		if err := writeCompactLine(w, rv.Index(i).Interface()); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func writeCompactLine(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetEscapeHTML(false)
+	return enc.Encode(v)
+}
+
+// jsonStream writes the items of a JSON array one at a time, as they
+// come, from each item's compact JSON text: the same bytes as
+// writeJSON of the whole array when indent is set, or of json.Marshal
+// plus a newline when not (for "jsonl", one item per line and no
+// brackets). The writer is flushed after each item when it can be.
+type jsonStream struct {
+	w      io.Writer
+	lines  bool // jsonl
+	indent bool
+	n      int
+	buf    []byte
+}
+
+func (s *jsonStream) add(js []byte) error {
+	b := s.buf[:0]
+	switch {
+	case s.lines:
+	case s.n == 0 && s.indent:
+		b = append(b, "[\n  "...)
+	case s.n == 0:
+		b = append(b, '[')
+	case s.indent:
+		b = append(b, ",\n  "...)
+	default:
+		b = append(b, ',')
+	}
+	if s.indent && !s.lines {
+		var out bytes.Buffer
+		if err := json.Indent(&out, js, "  ", "  "); err != nil {
+			return err
+		}
+		b = append(b, out.Bytes()...)
+	} else {
+		b = append(b, js...)
+	}
+	if s.lines {
+		b = append(b, '\n')
+	}
+	s.n++
+	s.buf = b
+	if _, err := s.w.Write(b); err != nil {
+		return err
+	}
+	return flush(s.w)
+}
+
+func (s *jsonStream) close() error {
+	var end string
+	switch {
+	case s.lines:
+		return nil
+	case s.n == 0:
+		end = "[]\n"
+	case s.indent:
+		end = "\n]\n"
+	default:
+		end = "]\n"
+	}
+	if _, err := io.WriteString(s.w, end); err != nil {
+		return err
+	}
+	return flush(s.w)
+}
+
+// flush flushes w when it buffers.
+func flush(w io.Writer) error {
+	if f, ok := w.(interface{ Flush() error }); ok {
+		return f.Flush()
+	}
+	return nil
+}
+
+// csvStream writes CSV rows as they come, after the header.
+type csvStream struct {
+	cw     *csv.Writer
+	header []string
+	n      int
+}
+
+func newCSVStream(w io.Writer, header []string) *csvStream {
+	return &csvStream{cw: csv.NewWriter(w), header: header}
+}
+
+func (s *csvStream) add(rows [][]string) error {
+	if s.n == 0 {
+		if err := s.cw.Write(s.header); err != nil {
+			return err
+		}
+	}
+	s.n++
+	for _, r := range rows {
+		safe := make([]string, len(r))
+		for i, c := range r {
+			safe[i] = csvSafe(c)
+		}
+		if err := s.cw.Write(safe); err != nil {
+			return err
+		}
+	}
+	s.cw.Flush()
+	return s.cw.Error()
+}
+
+func (s *csvStream) close() error {
+	if s.n == 0 {
+		return s.add(nil)
+	}
+	return nil
 }
 
 // writeTable prints a bordered table with the column names as given.
@@ -145,21 +280,7 @@ func anySlice(s []string) []any {
 // writeCSV writes RFC 4180 CSV. Cells that a spreadsheet would run as a
 // formula are neutralised with a leading apostrophe.
 func writeCSV(w io.Writer, header []string, rows [][]string) error {
-	cw := csv.NewWriter(w)
-	if err := cw.Write(header); err != nil {
-		return err
-	}
-	for _, r := range rows {
-		safe := make([]string, len(r))
-		for i, c := range r {
-			safe[i] = csvSafe(c)
-		}
-		if err := cw.Write(safe); err != nil {
-			return err
-		}
-	}
-	cw.Flush()
-	return cw.Error()
+	return newCSVStream(w, header).add(rows)
 }
 
 // csvSafe guards against spreadsheet formula injection: a cell starting

@@ -65,7 +65,7 @@ printed on stdout.`,
 
 func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 	g := opts.g
-	db, err := g.openDB(cmd)
+	db, err := opts.Audit.openDB(cmd)
 	if err != nil {
 		return err
 	}
@@ -90,7 +90,8 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 // --quiet). A workspace without reviews is an error.
 func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, int, error) {
 	g := opts.g
-	run, err := compare.RunAudit(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version, opts.Audit.Workers)
+	run, err := compare.RunAuditOpts(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version,
+		compare.RunOptions{Workers: opts.Audit.Workers, NoStore: opts.Audit.NoStore})
 	if err != nil {
 		return "", nil, 0, err
 	}

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"os/signal"
 	"strings"
@@ -25,6 +26,7 @@ type IO struct {
 	Out           io.Writer
 	ErrOut        io.Writer
 	ErrIsTerminal bool // progress bars only when stderr is a terminal
+	OutIsTerminal bool // JSON is indented by default only on a terminal
 	Getenv        func(string) string
 	Now           func() time.Time
 }
@@ -35,6 +37,7 @@ func defaultIO() *IO {
 		Out:           os.Stdout,
 		ErrOut:        os.Stderr,
 		ErrIsTerminal: isTerminal(os.Stderr),
+		OutIsTerminal: isTerminal(os.Stdout),
 		Getenv:        os.Getenv,
 		Now:           time.Now,
 	}
@@ -59,8 +62,19 @@ func (g *globals) dbPath(cmd *cobra.Command) string {
 	return g.DBPath
 }
 
-// openDB opens the workspace database named by the global flags.
+// openDB opens the existing workspace database named by the global flags.
+// A missing file is an error: only ingest (and demo, in its own folder)
+// create a workspace, so a mistyped --db never reads as an empty one.
 func (g *globals) openDB(cmd *cobra.Command) (*store.DB, error) {
+	path := g.dbPath(cmd)
+	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
+		return nil, fmt.Errorf("workspace %s does not exist: check --db (or UNSHELVED_DB), or create it with 'unshelved ingest'", path)
+	}
+	return g.createDB(cmd)
+}
+
+// createDB opens the workspace database, creating it when missing.
+func (g *globals) createDB(cmd *cobra.Command) (*store.DB, error) {
 	path := g.dbPath(cmd)
 	db, err := store.Open(cmd.Context(), path)
 	if err != nil {
@@ -83,7 +97,31 @@ func (g *globals) progressf(format string, args ...any) {
 	fmt.Fprintf(g.IO.ErrOut, format+"\n", args...)
 }
 
-var formats = []string{"table", "json", "csv"}
+var formats = []string{"table", "json", "jsonl", "csv"}
+
+// openDBToWrite opens the workspace for a command that writes to it. A
+// read-only workspace is an error naming the file; noStore, when the
+// command has a --no-store flag, is suggested.
+func (g *globals) openDBToWrite(cmd *cobra.Command, hasNoStore bool) (*store.DB, error) {
+	db, err := g.openDB(cmd)
+	if err != nil {
+		return nil, err
+	}
+	if db.ReadOnly() {
+		db.Close()
+		return nil, readOnlyError(db.Path(), hasNoStore)
+	}
+	return db, nil
+}
+
+// readOnlyError explains a read-only workspace to someone whose command
+// would write to it.
+func readOnlyError(path string, hasNoStore bool) error {
+	if hasNoStore {
+		return fmt.Errorf("workspace %s is read-only, so this run cannot be stored: add --no-store to run without storing it, or make the file and its folder writable", path)
+	}
+	return fmt.Errorf("workspace %s is read-only: this command writes to it; make the file and its folder writable", path)
+}
 
 func newRootCmd(io *IO) (*cobra.Command, *globals) {
 	g := &globals{IO: io}
@@ -116,7 +154,7 @@ estimate shifts.`,
 	})
 	pf := root.PersistentFlags()
 	pf.StringVar(&g.DBPath, "db", defaultDBPath, "workspace database file (or set UNSHELVED_DB)")
-	pf.StringVar(&g.Format, "format", "table", "output format: table, json or csv")
+	pf.StringVar(&g.Format, "format", "table", "output format: table, json, jsonl (one compact JSON value per line) or csv")
 	pf.BoolVarP(&g.Quiet, "quiet", "q", false, "no progress or status messages on stderr")
 
 	root.AddCommand(
@@ -129,6 +167,7 @@ estimate shifts.`,
 		newCmdReport(g),
 		newCmdSummary(g), newCmdTrials(g), newCmdFetch(g),
 		newCmdVersion(g), newCmdScan(g),
+		newCmdRuns(g),
 	)
 	return root, g
 }

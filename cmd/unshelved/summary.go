@@ -11,6 +11,7 @@ import (
 	"unshelved/analysis"
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
+	"unshelved/store"
 )
 
 type summaryOptions struct {
@@ -101,7 +102,13 @@ type storedSummary struct {
 
 func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 	g := opts.audit.g
-	db, err := g.openDB(cmd)
+	var db *store.DB
+	var err error
+	if opts.Run != 0 {
+		db, err = g.openDB(cmd)
+	} else {
+		db, err = opts.audit.openDB(cmd)
+	}
 	if err != nil {
 		return err
 	}
@@ -136,7 +143,8 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 			run, err = compare.RunScanSummary(ctx, db, ro, so)
 		}
 	} else {
-		run, err = compare.RunSummary(ctx, db, opts.audit.compareOptions(), so, version, opts.audit.Workers)
+		run, err = compare.RunSummaryOpts(ctx, db, opts.audit.compareOptions(), so, version,
+			compare.RunOptions{Workers: opts.audit.Workers, NoStore: opts.audit.NoStore})
 	}
 	if err != nil {
 		return err
@@ -147,7 +155,9 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 	for _, w := range run.Summary.Warnings {
 		g.progressf("summary: %s", w)
 	}
-	g.progressf("summary: run %d stored (seed %d)", run.RunID, opts.audit.Seed)
+	if run.RunID != 0 {
+		g.progressf("summary: run %d stored (seed %d)", run.RunID, opts.audit.Seed)
+	}
 	for _, p := range opts.Plots {
 		if err := writeBatchFigures(p, run.Audits); err != nil {
 			return err

@@ -1,0 +1,348 @@
+package compare
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"strings"
+	"sync"
+
+	"unshelved/ingest"
+	"unshelved/store"
+)
+
+// AuditResult is one review's audit as AuditEach hands it on.
+type AuditResult struct {
+	Index int // position in the input order
+	Audit ReviewAudit
+	// JSON is the compact JSON text of Audit (HTML characters unescaped),
+	// filled when StreamOptions.JSON or a packer asks for it.
+	JSON []byte
+	// Err is a *ReviewError when the review could not be audited; Audit
+	// and JSON are then empty.
+	Err error
+
+	packed store.PackedResult
+}
+
+// StreamOptions control AuditEach.
+type StreamOptions struct {
+	// Workers is the number of reviews audited in parallel (zero or less
+	// means 1).
+	Workers int
+	// JSON asks for each audit's compact JSON text.
+	JSON bool
+	// Packer, when set, packs each audit's JSON for storage on the worker
+	// goroutines; the first review's JSON becomes its dictionary.
+	Packer *store.ResultPacker
+}
+
+// AuditEach audits n reviews, input(i) giving the i-th, on up to
+// opts.Workers goroutines, and calls emit with each result in input order
+// as soon as it and all before it are done. At most a few results per
+// worker are held at any time, so memory does not grow with n. Inputs are
+// read on the worker goroutines. A review that cannot be audited is
+// emitted with its Err set; an error from input or emit, or the context's
+// when it is cancelled, stops the audit and is returned.
+func AuditEach(ctx context.Context, n int, input func(ctx context.Context, i int) (AuditInput, error), opts Options, so StreamOptions, emit func(AuditResult) error) error {
+	if n == 0 {
+		return ctx.Err()
+	}
+	workers := max(1, min(so.Workers, n))
+	ctx, cancel := context.WithCancelCause(ctx)
+	defer cancel(nil)
+	window := make(chan struct{}, 4*workers) // results dispatched but not yet emitted
+	next := make(chan int)
+	results := make(chan workerResult, workers)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				r := auditOne(ctx, i, input, opts, so)
+				select {
+				case results <- r:
+				case <-ctx.Done():
+				}
+			}
+		}()
+	}
+	go func() {
+		defer close(next)
+		for i := range n {
+			select {
+			case window <- struct{}{}:
+			case <-ctx.Done():
+				return
+			}
+			select {
+			case next <- i:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	go func() {
+		wg.Wait()
+		close(results)
+	}()
+
+	pending := make(map[int]AuditResult, cap(window))
+	want := 0
+	for r := range results {
+		if ctx.Err() != nil {
+			continue // draining after a stop
+		}
+		if r.fatal != nil {
+			cancel(r.fatal)
+			continue
+		}
+		pending[r.Index] = r.AuditResult
+		for {
+			x, ok := pending[want]
+			if !ok {
+				break
+			}
+			delete(pending, want)
+			want++
+			<-window
+			if err := emit(x); err != nil {
+				cancel(err)
+				break
+			}
+		}
+	}
+	if want == n {
+		return nil
+	}
+	if err := context.Cause(ctx); err != nil {
+		return err
+	}
+	return fmt.Errorf("audit stopped after %d of %d reviews", want, n)
+}
+
+// workerResult is an AuditResult or an error that stops the whole audit.
+type workerResult struct {
+	AuditResult
+	fatal error
+}
+
+// auditOne loads, audits, encodes and packs review i.
+func auditOne(ctx context.Context, i int, input func(context.Context, int) (AuditInput, error), opts Options, so StreamOptions) (w workerResult) {
+	w.Index = i
+	if so.Packer != nil && i == 0 {
+		defer func() { so.Packer.SetDictionary(w.JSON) }()
+	}
+	in, err := input(ctx, i)
+	if err != nil {
+		w.fatal = err
+		return w
+	}
+	a, err := AuditReview(in, opts)
+	if err != nil {
+		w.Err = &ReviewError{ReviewID: in.Review.ReviewID, Err: err}
+		return w
+	}
+	w.Audit = a
+	if !so.JSON && so.Packer == nil {
+		return w
+	}
+	if w.JSON, err = CompactJSON(a); err != nil {
+		w.fatal = fmt.Errorf("encode audit of %s: %w", a.ReviewID, err)
+		return w
+	}
+	if so.Packer != nil {
+		if i == 0 {
+			so.Packer.SetDictionary(w.JSON)
+		}
+		if w.packed, err = so.Packer.Pack(a.ReviewID, w.JSON); err != nil {
+			w.fatal = fmt.Errorf("pack audit of %s: %w", a.ReviewID, err)
+		}
+	}
+	return w
+}
+
+// CompactJSON is v as compact JSON text without HTML escaping (the form
+// the command line prints and the store keeps), with no final newline.
+func CompactJSON(v any) ([]byte, error) {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(v); err != nil {
+		return nil, err
+	}
+	return bytes.TrimSuffix(buf.Bytes(), []byte("\n")), nil
+}
+
+// AuditAll audits every input with up to workers goroutines (zero or less
+// means 1) and returns the audits in input order, leaving out reviews that
+// failed; their errors come back as *ReviewError, also in input order. The
+// context is checked before each review; when it is cancelled AuditAll
+// returns its error and no audits.
+func AuditAll(ctx context.Context, inputs []AuditInput, opts Options, workers int) ([]ReviewAudit, []error, error) {
+	var out []ReviewAudit
+	var failed []error
+	err := AuditEach(ctx, len(inputs), func(ctx context.Context, i int) (AuditInput, error) {
+		return inputs[i], ctx.Err()
+	}, opts, StreamOptions{Workers: workers}, func(r AuditResult) error {
+		if r.Err != nil {
+			failed = append(failed, r.Err)
+		} else {
+			out = append(out, r.Audit)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	return out, failed, nil
+}
+
+// LoadAuditInputs reads the named reviews (all when ids is empty) with
+// their studies, links and the linked registry records: the records of
+// accepted links, and of links classed included or no-results that were
+// not rejected (for Discrepancies and Missing).
+func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditInput, error) {
+	reviews, err := selectReviews(ctx, db, ids)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]AuditInput, 0, len(reviews))
+	for _, rv := range reviews {
+		in, err := loadAuditInput(ctx, db, rv)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, in)
+	}
+	return out, nil
+}
+
+// loadAuditInput reads one review's input for LoadAuditInputs.
+func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
+	if err := ctx.Err(); err != nil {
+		return AuditInput{}, err
+	}
+	in, err := loadInput(ctx, db, rv)
+	if err != nil {
+		return in, err
+	}
+	for _, l := range in.Links {
+		if strings.EqualFold(l.Decision, "reject") || (l.Class != ClassIncluded && l.Class != ClassNoResults) {
+			continue
+		}
+		if _, ok := in.Trials[l.TrialID]; ok {
+			continue
+		}
+		t, err := db.Trial(ctx, l.TrialID)
+		if errors.Is(err, store.ErrNotFound) {
+			continue
+		}
+		if err != nil {
+			return in, fmt.Errorf("load trial %s: %w", l.TrialID, err)
+		}
+		in.Trials[l.TrialID] = t
+	}
+	return in, nil
+}
+
+// AuditRun is a stored audit run and what it produced.
+type AuditRun struct {
+	RunID  int64 // zero when the run was not stored
+	Audits []ReviewAudit
+	Failed []error // *ReviewError per review that could not be audited
+	// Reviews is the number of reviews audited and Bytes the size of
+	// their stored results.
+	Reviews int
+	Bytes   int64
+}
+
+// RunOptions control RunAuditEach.
+type RunOptions struct {
+	Workers int
+	// NoStore leaves the workspace untouched: no run is recorded.
+	NoStore bool
+	// JSON asks for each audit's compact JSON text (AuditResult.JSON).
+	JSON bool
+}
+
+// RunAudit audits the named reviews (all when ids is empty) and records
+// the run in the store: StartRun with kind "audit", opts as JSON, version
+// and opts.Seed; each review's audit JSON, packed; FinishRun with
+// "complete", "cancelled" when ctx was cancelled (the error is then
+// ctx's), or "failed" on any other error. A run cut short is never marked
+// complete. Reviews that fail on their own (no usable study) do not fail
+// the run; they are listed in Failed.
+func RunAudit(ctx context.Context, db *store.DB, ids []string, opts Options, version string, workers int) (AuditRun, error) {
+	return RunAuditOpts(ctx, db, ids, opts, version, RunOptions{Workers: workers})
+}
+
+// RunAuditOpts is RunAudit with the run options (not storing the run).
+func RunAuditOpts(ctx context.Context, db *store.DB, ids []string, opts Options, version string, ro RunOptions) (AuditRun, error) {
+	var audits []ReviewAudit
+	run, err := RunAuditEach(ctx, db, ids, opts, version, ro, func(r AuditResult) error {
+		if r.Err == nil {
+			audits = append(audits, r.Audit)
+		}
+		return nil
+	})
+	run.Audits = audits
+	return run, err
+}
+
+// RunAuditEach is RunAudit streaming: emit gets each review's result in
+// review order as soon as it is ready (see AuditEach), and results are
+// stored as they come, so memory stays flat in the number of reviews.
+// AuditRun.Audits stays empty.
+func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts Options, version string, ro RunOptions, emit func(AuditResult) error) (AuditRun, error) {
+	var run AuditRun
+	so := StreamOptions{Workers: ro.Workers, JSON: ro.JSON}
+	var w *store.ResultWriter
+	if !ro.NoStore {
+		optJSON, err := json.Marshal(opts.record())
+		if err != nil {
+			return run, fmt.Errorf("encode options: %w", err)
+		}
+		if run.RunID, err = db.StartRun(ctx, "audit", string(optJSON), version, opts.Seed); err != nil {
+			return run, err
+		}
+		w = db.NewResultWriter(run.RunID)
+		so.Packer = w.Packer()
+	}
+	err := func() error {
+		reviews, err := selectReviews(ctx, db, ids)
+		if err != nil {
+			return err
+		}
+		err = AuditEach(ctx, len(reviews), func(ctx context.Context, i int) (AuditInput, error) {
+			return loadAuditInput(ctx, db, reviews[i])
+		}, opts, so, func(r AuditResult) error {
+			if r.Err != nil {
+				run.Failed = append(run.Failed, r.Err)
+			} else {
+				run.Reviews++
+				if w != nil {
+					if err := w.Add(ctx, r.packed); err != nil {
+						return err
+					}
+				}
+			}
+			return emit(r)
+		})
+		if err != nil {
+			return err
+		}
+		if w != nil {
+			return w.Flush(ctx)
+		}
+		return nil
+	}()
+	if w == nil {
+		return run, err
+	}
+	run.Bytes = w.Bytes()
+	return run, finishRun(db, run.RunID, ctx, err)
+}

@@ -1,0 +1,439 @@
+package store
+
+import (
+	"bytes"
+	"compress/flate"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"sync"
+)
+
+// Codecs of run_results.data.
+const (
+	codecJSON    = 0 // the JSON text as is (rows written before schema 4)
+	codecDeflate = 1 // the JSON text, deflated
+	codecPacked  = 2 // packJSON's form, deflated against the run's dictionary
+)
+
+// A review's result is mostly the same keys and strings as every other
+// review's in the run, and full-precision numbers, many of which repeat an
+// earlier number or continue a straight line (points of a fitted line, the
+// upper limit of a band mirroring the lower one about its centre). The
+// packed form splits the compact JSON text into a template, in which each
+// number is replaced by the byte numberMark, and a stream of the numbers,
+// each coded by the cheapest of:
+//
+//	tagRepeat+i   the i-th most recent number (i < repeatWindow)
+//	tagStream     the residual from 2 x[-1] - x[-2] over the stream
+//	tagKey        the residual from 2 k[-1] - k[-2] over the numbers of
+//	              the same key
+//	tagKeyQuad    the residual from 3 k[-1] - 3 k[-2] + k[-3]
+//	tagKeyLast    the residual from k[-1]
+//	tagRaw        the eight bytes of the float64
+//	tagLiteral    the number's text (when the float64 does not print back
+//	              to the same text, e.g. integers beyond 2^53)
+//
+// where a residual is the difference of the two float64 bit patterns as
+// integers, zigzag and varint coded: a prediction within a few units in
+// the last place costs one or two bytes. The template and the stream are
+// deflated with a dictionary (the packed form of the run's first result),
+// so the keys cost almost nothing. Decoding reverses each step exactly:
+// every number is printed back the way encoding/json prints a float64, and
+// the encoder checks that this gives the original text before choosing a
+// non-literal code, so a packed result decodes to the very bytes stored.
+
+const (
+	numberMark   = 0x01 // cannot occur in JSON text outside strings, nor raw inside them
+	repeatWindow = 64
+	tagStream    = repeatWindow + iota
+	tagKey
+	tagKeyQuad
+	tagKeyLast
+	tagRaw
+	tagLiteral
+)
+
+// jsonScanner follows JSON text byte by byte to know the key under which
+// the next number falls. Encoder and decoder feed it the same template
+// bytes, so they agree on keys.
+type jsonScanner struct {
+	inString, escaped bool
+	str, lastString   []byte
+	key               string
+}
+
+func (s *jsonScanner) feed(c byte) {
+	if s.inString {
+		switch {
+		case s.escaped:
+			s.escaped = false
+			s.str = append(s.str, c)
+		case c == '\\':
+			s.escaped = true
+			s.str = append(s.str, c)
+		case c == '"':
+			s.inString = false
+			s.lastString = append(s.lastString[:0], s.str...)
+		default:
+			s.str = append(s.str, c)
+		}
+		return
+	}
+	switch c {
+	case '"':
+		s.inString, s.str = true, s.str[:0]
+	case ':':
+		if s.key != string(s.lastString) {
+			s.key = string(s.lastString)
+		}
+	}
+}
+
+// numberModel holds the history both sides keep to predict numbers.
+type numberModel struct {
+	recent [repeatWindow]float64
+	n      int // numbers seen
+	byKey  map[string]*[3]float64
+	keyN   map[string]int
+}
+
+func newNumberModel() *numberModel {
+	return &numberModel{byKey: map[string]*[3]float64{}, keyN: map[string]int{}}
+}
+
+func (m *numberModel) at(i int) float64 { return m.recent[(m.n-1-i+repeatWindow)%repeatWindow] }
+
+// predictions returns the predictions of tagStream, tagKey, tagKeyQuad and
+// tagKeyLast, with ok false where there is too little history.
+func (m *numberModel) predictions(key string) (pred [4]float64, ok [4]bool) {
+	if m.n >= 2 {
+		pred[0], ok[0] = 2*m.at(0)-m.at(1), true
+	}
+	h, kn := m.byKey[key], m.keyN[key]
+	if kn >= 2 {
+		pred[1], ok[1] = 2*h[0]-h[1], true
+	}
+	if kn >= 3 {
+		pred[2], ok[2] = 3*h[0]-3*h[1]+h[2], true
+	}
+	if kn >= 1 {
+		pred[3], ok[3] = h[0], true
+	}
+	return pred, ok
+}
+
+func (m *numberModel) add(key string, x float64) {
+	m.recent[m.n%repeatWindow] = x
+	m.n++
+	h := m.byKey[key]
+	if h == nil {
+		h = new([3]float64)
+		m.byKey[key] = h
+	}
+	h[2], h[1], h[0] = h[1], h[0], x
+	m.keyN[key]++
+}
+
+func residual(x, pred float64) uint64 {
+	d := int64(math.Float64bits(x)) - int64(math.Float64bits(pred))
+	return uint64(d<<1) ^ uint64(d>>63)
+}
+
+func unresidual(z uint64, pred float64) float64 {
+	d := int64(z>>1) ^ -int64(z&1)
+	return math.Float64frombits(uint64(int64(math.Float64bits(pred)) + d))
+}
+
+// appendJSONFloat prints f the way encoding/json prints a float64.
+func appendJSONFloat(b []byte, f float64) []byte {
+	abs := math.Abs(f)
+	format := byte('f')
+	if abs != 0 && (abs < 1e-6 || abs >= 1e21) {
+		format = 'e'
+	}
+	b = strconv.AppendFloat(b, f, format, -1, 64)
+	if format == 'e' {
+		// e-09 becomes e-9, as encoding/json does.
+		if n := len(b); n >= 4 && b[n-4] == 'e' && b[n-3] == '-' && b[n-2] == '0' {
+			b[n-2] = b[n-1]
+			b = b[:n-1]
+		}
+	}
+	return b
+}
+
+func isNumberStart(c byte) bool { return c == '-' || (c >= '0' && c <= '9') }
+
+func isNumberByte(c byte) bool {
+	return (c >= '0' && c <= '9') || c == '-' || c == '+' || c == '.' || c == 'e' || c == 'E'
+}
+
+// packJSON splits compact JSON text into its packed form (see above).
+func packJSON(js []byte) ([]byte, error) {
+	var tmpl, nums []byte
+	var sc jsonScanner
+	m := newNumberModel()
+	var scratch []byte
+	for i := 0; i < len(js); {
+		c := js[i]
+		if c == numberMark {
+			return nil, errors.New("pack result: control byte in JSON text")
+		}
+		if sc.inString || !isNumberStart(c) {
+			sc.feed(c)
+			tmpl = append(tmpl, c)
+			i++
+			continue
+		}
+		j := i + 1
+		for j < len(js) && isNumberByte(js[j]) {
+			j++
+		}
+		tok := js[i:j]
+		i = j
+		tmpl = append(tmpl, numberMark)
+		x, err := strconv.ParseFloat(string(tok), 64)
+		if err != nil || !bytes.Equal(appendJSONFloat(scratch[:0], x), tok) {
+			nums = append(nums, tagLiteral)
+			nums = binary.AppendUvarint(nums, uint64(len(tok)))
+			nums = append(nums, tok...)
+			continue
+		}
+		nums = appendNumber(nums, m, sc.key, x)
+		m.add(sc.key, x)
+	}
+	out := binary.AppendUvarint(make([]byte, 0, len(tmpl)+len(nums)+4), uint64(len(tmpl)))
+	out = append(out, tmpl...)
+	return append(out, nums...), nil
+}
+
+// appendNumber appends the cheapest code of x.
+func appendNumber(dst []byte, m *numberModel, key string, x float64) []byte {
+	bits := math.Float64bits(x)
+	for i := 0; i < min(m.n, repeatWindow); i++ {
+		if math.Float64bits(m.at(i)) == bits {
+			return append(dst, byte(i))
+		}
+	}
+	best, bestTag := uint64(math.MaxUint64), byte(tagRaw)
+	pred, ok := m.predictions(key)
+	for p := range pred {
+		if !ok[p] {
+			continue
+		}
+		if r := residual(x, pred[p]); r < best {
+			best, bestTag = r, byte(tagStream+p)
+		}
+	}
+	if bestTag != tagRaw && best < 1<<49 { // at most 7 varint bytes
+		dst = append(dst, bestTag)
+		return binary.AppendUvarint(dst, best)
+	}
+	dst = append(dst, tagRaw)
+	return binary.LittleEndian.AppendUint64(dst, bits)
+}
+
+// unpackJSON reverses packJSON.
+func unpackJSON(p []byte) ([]byte, error) {
+	bad := errors.New("unpack result: corrupt packed data")
+	n, w := binary.Uvarint(p)
+	if w <= 0 || n > uint64(len(p)-w) {
+		return nil, bad
+	}
+	tmpl, nums := p[w:w+int(n)], p[w+int(n):]
+	out := make([]byte, 0, len(tmpl)+len(nums)*3)
+	var sc jsonScanner
+	m := newNumberModel()
+	for _, c := range tmpl {
+		if c != numberMark {
+			sc.feed(c)
+			out = append(out, c)
+			continue
+		}
+		if len(nums) == 0 {
+			return nil, bad
+		}
+		tag := nums[0]
+		nums = nums[1:]
+		var x float64
+		switch {
+		case tag < repeatWindow:
+			if int(tag) >= min(m.n, repeatWindow) {
+				return nil, bad
+			}
+			x = m.at(int(tag))
+		case tag >= tagStream && tag <= tagKeyLast:
+			z, w := binary.Uvarint(nums)
+			pred, ok := m.predictions(sc.key)
+			if w <= 0 || !ok[tag-tagStream] {
+				return nil, bad
+			}
+			nums = nums[w:]
+			x = unresidual(z, pred[tag-tagStream])
+		case tag == tagRaw:
+			if len(nums) < 8 {
+				return nil, bad
+			}
+			x = math.Float64frombits(binary.LittleEndian.Uint64(nums))
+			nums = nums[8:]
+		case tag == tagLiteral:
+			l, w := binary.Uvarint(nums)
+			if w <= 0 || l > uint64(len(nums)-w) {
+				return nil, bad
+			}
+			out = append(out, nums[w:w+int(l)]...)
+			nums = nums[w+int(l):]
+			continue
+		default:
+			return nil, bad
+		}
+		out = appendJSONFloat(out, x)
+		m.add(sc.key, x)
+	}
+	if len(nums) != 0 {
+		return nil, bad
+	}
+	return out, nil
+}
+
+// deflateLevel trades a little size for speed: results are packed on the
+// audit's worker goroutines, once per review.
+const deflateLevel = 6
+
+var flateWriters sync.Pool
+
+// deflate compresses data without a dictionary.
+func deflate(data []byte) ([]byte, error) {
+	var buf bytes.Buffer
+	buf.Grow(len(data)/4 + 64)
+	fw, ok := flateWriters.Get().(*flate.Writer)
+	if ok {
+		fw.Reset(&buf)
+	} else {
+		var err error
+		if fw, err = flate.NewWriter(&buf, deflateLevel); err != nil {
+			return nil, err
+		}
+	}
+	defer flateWriters.Put(fw)
+	if _, err := fw.Write(data); err != nil {
+		return nil, err
+	}
+	if err := fw.Close(); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
+}
+
+func inflate(data, dict []byte) ([]byte, error) {
+	var r io.ReadCloser
+	if dict == nil {
+		r = flate.NewReader(bytes.NewReader(data))
+	} else {
+		r = flate.NewReaderDict(bytes.NewReader(data), dict)
+	}
+	defer r.Close()
+	return io.ReadAll(r)
+}
+
+// ResultPacker packs the results of one run against the run's dictionary,
+// the packed form of its first result. It is safe for concurrent use: Pack
+// waits until SetDictionary has been called.
+type ResultPacker struct {
+	once    sync.Once
+	ready   chan struct{}
+	dict    []byte
+	writers sync.Pool // *flate.Writer with the dictionary
+}
+
+// NewResultPacker returns a packer waiting for its dictionary.
+func NewResultPacker() *ResultPacker { return &ResultPacker{ready: make(chan struct{})} }
+
+// SetDictionary sets the dictionary from the compact JSON of the run's
+// first result (nil or invalid JSON leaves the run without one); only the
+// first call counts.
+func (p *ResultPacker) SetDictionary(firstJSON []byte) {
+	p.once.Do(func() {
+		if firstJSON != nil {
+			if d, err := packJSON(firstJSON); err == nil {
+				p.dict = d
+			}
+		}
+		close(p.ready)
+	})
+}
+
+// PackedResult is one review's result ready to store.
+type PackedResult struct {
+	ReviewID string
+	codec    int
+	data     []byte
+}
+
+// Size is the number of bytes the result takes in the run_results row.
+func (r PackedResult) Size() int { return len(r.data) }
+
+// Pack compresses the compact JSON text of one review's result.
+func (p *ResultPacker) Pack(reviewID string, js []byte) (PackedResult, error) {
+	<-p.ready
+	packed, err := packJSON(js)
+	if err != nil {
+		d, err := deflate(js)
+		return PackedResult{ReviewID: reviewID, codec: codecDeflate, data: d}, err
+	}
+	if p.dict == nil {
+		d, err := deflate(packed)
+		return PackedResult{ReviewID: reviewID, codec: codecPacked, data: d}, err
+	}
+	var buf bytes.Buffer
+	buf.Grow(len(packed)/4 + 64)
+	fw, ok := p.writers.Get().(*flate.Writer)
+	if ok {
+		fw.Reset(&buf)
+	} else if fw, err = flate.NewWriterDict(&buf, deflateLevel, p.dict); err != nil {
+		return PackedResult{}, err
+	}
+	defer p.writers.Put(fw)
+	if _, err := fw.Write(packed); err != nil {
+		return PackedResult{}, err
+	}
+	if err := fw.Close(); err != nil {
+		return PackedResult{}, err
+	}
+	return PackedResult{ReviewID: reviewID, codec: codecPacked, data: buf.Bytes()}, nil
+}
+
+// dictionary returns the deflated dictionary to store with the run (nil
+// when there is none).
+func (p *ResultPacker) dictionary() ([]byte, error) {
+	select {
+	case <-p.ready:
+	default:
+		return nil, nil
+	}
+	if p.dict == nil {
+		return nil, nil
+	}
+	return deflate(p.dict)
+}
+
+// decodeResult returns the JSON text of a stored result.
+func decodeResult(codec int, data, dict []byte) ([]byte, error) {
+	switch codec {
+	case codecJSON:
+		return data, nil
+	case codecDeflate:
+		return inflate(data, nil)
+	case codecPacked:
+		p, err := inflate(data, dict)
+		if err != nil {
+			return nil, err
+		}
+		return unpackJSON(p)
+	}
+	return nil, fmt.Errorf("unknown codec %d", codec)
+}

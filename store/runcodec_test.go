@@ -1,0 +1,132 @@
+package store
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+)
+
+// randomValue builds a JSON value with the kinds of numbers an audit
+// holds: full-precision floats, lines of points, integers, tiny and huge
+// magnitudes, negative zero, and strings full of digits and escapes.
+func randomValue(rng *rand.Rand, depth int) any {
+	switch k := rng.IntN(9); {
+	case depth > 3 || k < 3:
+		switch rng.IntN(9) {
+		case 0:
+			return rng.NormFloat64()
+		case 1:
+			return rng.IntN(2000) - 1000
+		case 2:
+			return math.Ldexp(rng.Float64(), rng.IntN(160)-80) // 1e-24 .. 1e24
+		case 3:
+			return math.Copysign(0, -1)
+		case 4:
+			return uint64(math.MaxUint64) - uint64(rng.IntN(1000)) // beyond float64 precision
+		case 5:
+			return fmt.Sprintf("s%d \"q\" \\ <&> %g é", rng.IntN(100), rng.Float64())
+		case 6:
+			return rng.IntN(2) == 0
+		case 7:
+			return nil
+		default:
+			return 0.1 * float64(rng.IntN(30))
+		}
+	case k < 5:
+		n := rng.IntN(60)
+		a, b := rng.NormFloat64(), rng.NormFloat64()
+		line := make([]map[string]any, n)
+		for i := range line {
+			x := b * float64(i) / float64(max(n-1, 1))
+			w := math.Sqrt(1 + x*x)
+			line[i] = map[string]any{"se": x, "effect": a + x, "low": a + x - w, "high": a + x + w}
+		}
+		return line
+	case k < 7:
+		n := rng.IntN(6)
+		out := make([]any, n)
+		for i := range out {
+			out[i] = randomValue(rng, depth+1)
+		}
+		return out
+	default:
+		n := rng.IntN(8)
+		out := make(map[string]any, n)
+		for i := range n {
+			out[fmt.Sprintf("key%d", rng.IntN(12))+strings.Repeat("_", i%2)] = randomValue(rng, depth+1)
+		}
+		return out
+	}
+}
+
+func compactJSON(t testing.TB, v any) []byte {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(v); err != nil {
+		t.Fatal(err)
+	}
+	return bytes.TrimSuffix(buf.Bytes(), []byte("\n"))
+}
+
+// TestPackRoundTrip packs and unpacks 3,000 random JSON documents, with and
+// without a dictionary, and requires the very same bytes back.
+func TestPackRoundTrip(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 4))
+	p := NewResultPacker()
+	p.SetDictionary(compactJSON(t, randomValue(rng, 0)))
+	dict := p.dict
+	for i := range 3000 {
+		js := compactJSON(t, map[string]any{"review_id": fmt.Sprint(i), "v": randomValue(rng, 0)})
+		r, err := p.Pack("x", js)
+		if err != nil {
+			t.Fatal(err)
+		}
+		back, err := decodeResult(r.codec, r.data, dict)
+		if err != nil {
+			t.Fatalf("document %d: %v\n%s", i, err, js)
+		}
+		if !bytes.Equal(back, js) {
+			t.Fatalf("document %d changed:\n%s\n%s", i, js, back)
+		}
+	}
+}
+
+// TestJSONFloatMatchesEncoder compares appendJSONFloat with encoding/json
+// (the standard library is the reference) on a million random float64 bit
+// patterns and on edge values.
+func TestJSONFloatMatchesEncoder(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 9))
+	edge := []float64{0, math.Copysign(0, -1), 1e-6, 9.999999999999999e-7, 1e21, 999999999999999900000, 5e-324, math.MaxFloat64, 1, -1, 0.1}
+	for i := range 1_000_000 + len(edge) {
+		var x float64
+		if i < len(edge) {
+			x = edge[i]
+		} else {
+			x = math.Float64frombits(rng.Uint64())
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				continue
+			}
+		}
+		want, _ := json.Marshal(x)
+		if got := appendJSONFloat(nil, x); !bytes.Equal(got, want) {
+			t.Fatalf("%b: got %s, encoding/json %s", math.Float64bits(x), got, want)
+		}
+	}
+}
+
+func TestUnpackRejectsCorruptData(t *testing.T) {
+	packed, err := packJSON([]byte(`{"a":[1.5,2.5,3.5],"b":"x1"}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for cut := range len(packed) {
+		if _, err := unpackJSON(packed[:cut]); err == nil {
+			t.Errorf("truncated to %d bytes: no error", cut)
+		}
+	}
+}
