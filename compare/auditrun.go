@@ -24,7 +24,8 @@ type AuditResult struct {
 	// and JSON are then empty.
 	Err error
 
-	packed store.PackedResult
+	// Packed is the result packed for storage, when StreamOptions.Packer is set.
+	Packed store.PackedResult
 }
 
 // StreamOptions control AuditEach.
@@ -158,7 +159,7 @@ func auditOne(ctx context.Context, i int, input func(context.Context, int) (Audi
 		if i == 0 {
 			so.Packer.SetDictionary(w.JSON)
 		}
-		if w.packed, err = so.Packer.Pack(a.ReviewID, w.JSON); err != nil {
+		if w.Packed, err = so.Packer.Pack(a.ReviewID, w.JSON); err != nil {
 			w.fatal = fmt.Errorf("pack audit of %s: %w", a.ReviewID, err)
 		}
 	}
@@ -325,7 +326,7 @@ func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts Options,
 			} else {
 				run.Reviews++
 				if w != nil {
-					if err := w.Add(ctx, r.packed); err != nil {
+					if err := w.Add(ctx, r.Packed); err != nil {
 						return err
 					}
 				}

@@ -27,15 +27,12 @@ const (
 // number is replaced by the byte numberMark, and a stream of the numbers,
 // each coded by the cheapest of:
 //
-//	tagRepeat+i   the i-th most recent number (i < repeatWindow)
-//	tagStream     the residual from 2 x[-1] - x[-2] over the stream
-//	tagKey        the residual from 2 k[-1] - k[-2] over the numbers of
-//	              the same key
-//	tagKeyQuad    the residual from 3 k[-1] - 3 k[-2] + k[-3]
-//	tagKeyLast    the residual from k[-1]
-//	tagRaw        the eight bytes of the float64
-//	tagLiteral    the number's text (when the float64 does not print back
-//	              to the same text, e.g. integers beyond 2^53)
+//	i (< repeatWindow)  the i-th most recent number, repeated
+//	tagPredicted+p      the residual from prediction p (numberModel)
+//	tagRaw              the eight bytes of the float64
+//	tagLiteral          the number's text, when shorter (small integers)
+//	tagText             the text of a number that is not a float64's
+//	                    printed back (integers beyond 2^53, say)
 //
 // where a residual is the difference of the two float64 bit patterns as
 // integers, zigzag and varint coded: a prediction within a few units in
@@ -49,12 +46,11 @@ const (
 const (
 	numberMark   = 0x01 // cannot occur in JSON text outside strings, nor raw inside them
 	repeatWindow = 64
-	tagStream    = repeatWindow + iota
-	tagKey
-	tagKeyQuad
-	tagKeyLast
-	tagRaw
-	tagLiteral
+	nPredictors  = 8
+	tagPredicted = repeatWindow               // + predictor index
+	tagRaw       = tagPredicted + nPredictors // eight bytes follow
+	tagLiteral   = tagRaw + 1                 // length and the number's shortest text follow
+	tagText      = tagRaw + 2                 // length and a text that is not a float64's follow
 )
 
 // jsonScanner follows JSON text byte by byte to know the key under which
@@ -97,45 +93,81 @@ func (s *jsonScanner) feed(c byte) {
 type numberModel struct {
 	recent [repeatWindow]float64
 	n      int // numbers seen
-	byKey  map[string]*[3]float64
-	keyN   map[string]int
+	byKey  map[string]*keyHistory
+}
+
+// keyHistory holds the last values of one key, and their offsets from the
+// number before each in the stream.
+type keyHistory struct {
+	n       int
+	x, diff [4]float64 // most recent first
 }
 
 func newNumberModel() *numberModel {
-	return &numberModel{byKey: map[string]*[3]float64{}, keyN: map[string]int{}}
+	return &numberModel{byKey: map[string]*keyHistory{}}
 }
 
 func (m *numberModel) at(i int) float64 { return m.recent[(m.n-1-i+repeatWindow)%repeatWindow] }
 
-// predictions returns the predictions of tagStream, tagKey, tagKeyQuad and
-// tagKeyLast, with ok false where there is too little history.
-func (m *numberModel) predictions(key string) (pred [4]float64, ok [4]bool) {
+// predictions returns the numbers predicted for the next value of key,
+// with ok false where there is too little history:
+//
+//	0  2 x[-1] - x[-2]              the stream continues a line
+//	1  2 x[-2] - x[-1]              mirror of x[-1] about x[-2] (band limits)
+//	2  2 k[-1] - k[-2]              the key continues a line
+//	3  3 k[-1] - 3 k[-2] + k[-3]    the key continues a parabola
+//	4  k[-1]                        the key repeats, nearly
+//	5-7 x[-1] + the linear, quadratic and cubic extrapolation of the key's
+//	    offsets from the number before it (a band's half-width)
+func (m *numberModel) predictions(key string) (pred [nPredictors]float64, ok [nPredictors]bool) {
 	if m.n >= 2 {
-		pred[0], ok[0] = 2*m.at(0)-m.at(1), true
+		x1, x2 := m.at(0), m.at(1)
+		pred[0], ok[0] = 2*x1-x2, true
+		pred[1], ok[1] = 2*x2-x1, true
 	}
-	h, kn := m.byKey[key], m.keyN[key]
-	if kn >= 2 {
-		pred[1], ok[1] = 2*h[0]-h[1], true
+	h := m.byKey[key]
+	if h == nil {
+		return pred, ok
 	}
-	if kn >= 3 {
-		pred[2], ok[2] = 3*h[0]-3*h[1]+h[2], true
+	x, d := &h.x, &h.diff
+	if h.n >= 1 {
+		pred[4], ok[4] = x[0], true
 	}
-	if kn >= 1 {
-		pred[3], ok[3] = h[0], true
+	if h.n >= 2 {
+		pred[2], ok[2] = 2*x[0]-x[1], true
+	}
+	if h.n >= 3 {
+		pred[3], ok[3] = 3*x[0]-3*x[1]+x[2], true
+	}
+	if m.n >= 1 && h.n >= 2 {
+		x1 := m.at(0)
+		pred[5], ok[5] = x1+(2*d[0]-d[1]), true
+		if h.n >= 3 {
+			pred[6], ok[6] = x1+(3*d[0]-3*d[1]+d[2]), true
+		}
+		if h.n >= 4 {
+			pred[7], ok[7] = x1+(4*d[0]-6*d[1]+4*d[2]-d[3]), true
+		}
 	}
 	return pred, ok
 }
 
 func (m *numberModel) add(key string, x float64) {
+	var prev float64
+	if m.n >= 1 {
+		prev = m.at(0)
+	}
 	m.recent[m.n%repeatWindow] = x
 	m.n++
 	h := m.byKey[key]
 	if h == nil {
-		h = new([3]float64)
+		h = new(keyHistory)
 		m.byKey[key] = h
 	}
-	h[2], h[1], h[0] = h[1], h[0], x
-	m.keyN[key]++
+	copy(h.x[1:], h.x[:3])
+	copy(h.diff[1:], h.diff[:3])
+	h.x[0], h.diff[0] = x, x-prev
+	h.n++
 }
 
 func residual(x, pred float64) uint64 {
@@ -198,12 +230,12 @@ func packJSON(js []byte) ([]byte, error) {
 		tmpl = append(tmpl, numberMark)
 		x, err := strconv.ParseFloat(string(tok), 64)
 		if err != nil || !bytes.Equal(appendJSONFloat(scratch[:0], x), tok) {
-			nums = append(nums, tagLiteral)
+			nums = append(nums, tagText)
 			nums = binary.AppendUvarint(nums, uint64(len(tok)))
 			nums = append(nums, tok...)
 			continue
 		}
-		nums = appendNumber(nums, m, sc.key, x)
+		nums = appendNumber(nums, m, sc.key, x, tok)
 		m.add(sc.key, x)
 	}
 	out := binary.AppendUvarint(make([]byte, 0, len(tmpl)+len(nums)+4), uint64(len(tmpl)))
@@ -211,30 +243,47 @@ func packJSON(js []byte) ([]byte, error) {
 	return append(out, nums...), nil
 }
 
-// appendNumber appends the cheapest code of x.
-func appendNumber(dst []byte, m *numberModel, key string, x float64) []byte {
+// appendNumber appends the cheapest code of x, whose text is tok.
+func appendNumber(dst []byte, m *numberModel, key string, x float64, tok []byte) []byte {
 	bits := math.Float64bits(x)
 	for i := 0; i < min(m.n, repeatWindow); i++ {
 		if math.Float64bits(m.at(i)) == bits {
 			return append(dst, byte(i))
 		}
 	}
-	best, bestTag := uint64(math.MaxUint64), byte(tagRaw)
+	best, bestTag := uint64(math.MaxUint64), -1
 	pred, ok := m.predictions(key)
 	for p := range pred {
 		if !ok[p] {
 			continue
 		}
 		if r := residual(x, pred[p]); r < best {
-			best, bestTag = r, byte(tagStream+p)
+			best, bestTag = r, tagPredicted+p
 		}
 	}
-	if bestTag != tagRaw && best < 1<<49 { // at most 7 varint bytes
-		dst = append(dst, bestTag)
+	cost := 9 // tagRaw
+	if bestTag >= 0 {
+		cost = 1 + uvarintLen(best)
+	}
+	if lit := 2 + len(tok); lit < cost && len(tok) < 128 {
+		dst = append(dst, tagLiteral, byte(len(tok)))
+		return append(dst, tok...)
+	}
+	if cost < 9 {
+		dst = append(dst, byte(bestTag))
 		return binary.AppendUvarint(dst, best)
 	}
 	dst = append(dst, tagRaw)
 	return binary.LittleEndian.AppendUint64(dst, bits)
+}
+
+func uvarintLen(x uint64) int {
+	n := 1
+	for x >= 0x80 {
+		x >>= 7
+		n++
+	}
+	return n
 }
 
 // unpackJSON reverses packJSON.
@@ -266,28 +315,35 @@ func unpackJSON(p []byte) ([]byte, error) {
 				return nil, bad
 			}
 			x = m.at(int(tag))
-		case tag >= tagStream && tag <= tagKeyLast:
+		case tag >= tagPredicted && tag < tagRaw:
 			z, w := binary.Uvarint(nums)
 			pred, ok := m.predictions(sc.key)
-			if w <= 0 || !ok[tag-tagStream] {
+			if w <= 0 || !ok[tag-tagPredicted] {
 				return nil, bad
 			}
 			nums = nums[w:]
-			x = unresidual(z, pred[tag-tagStream])
+			x = unresidual(z, pred[tag-tagPredicted])
 		case tag == tagRaw:
 			if len(nums) < 8 {
 				return nil, bad
 			}
 			x = math.Float64frombits(binary.LittleEndian.Uint64(nums))
 			nums = nums[8:]
-		case tag == tagLiteral:
+		case tag == tagLiteral || tag == tagText:
 			l, w := binary.Uvarint(nums)
 			if w <= 0 || l > uint64(len(nums)-w) {
 				return nil, bad
 			}
-			out = append(out, nums[w:w+int(l)]...)
+			text := nums[w : w+int(l)]
 			nums = nums[w+int(l):]
-			continue
+			if tag == tagText {
+				out = append(out, text...)
+				continue
+			}
+			var err error
+			if x, err = strconv.ParseFloat(string(text), 64); err != nil {
+				return nil, bad
+			}
 		default:
 			return nil, bad
 		}
