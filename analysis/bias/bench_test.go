@@ -58,10 +58,13 @@ func BenchmarkRunWithSelection(b *testing.B) {
 
 // BenchmarkSelectionModel fits the three-parameter selection model to
 // 10,000 meta-analyses of k = 10; fits that stop with an error (an empty p
-// interval) are counted in fails/meta.
+// interval) are counted in fails/meta. cpu-ns/meta is the process's CPU
+// time per fit, which other load on a shared machine inflates less than
+// the wall time of ns/meta.
 func BenchmarkSelectionModel(b *testing.B) {
 	effects, seEffects := benchMetas(benchMetaCount, 10)
 	b.ReportAllocs()
+	cpu0 := processCPU()
 	b.ResetTimer()
 	fails := 0
 	for b.Loop() {
@@ -72,5 +75,6 @@ func BenchmarkSelectionModel(b *testing.B) {
 		}
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*benchMetaCount), "ns/meta")
+	b.ReportMetric(float64(processCPU()-cpu0)/float64(b.N*benchMetaCount), "cpu-ns/meta")
 	b.ReportMetric(float64(fails)/float64(b.N*benchMetaCount), "fails/meta")
 }

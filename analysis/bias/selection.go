@@ -31,11 +31,6 @@ const (
 	// log-scale parameter then drifts towards minus infinity and has no
 	// usable standard error.
 	tau2BoundaryRel = 1e-6
-	// hessianStep is the central-difference step for differentiating the
-	// analytic gradient on the unit-free optimizer scale; about the cube
-	// root of machine epsilon, the usual choice for central differences
-	// (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006, sec. 8.1).
-	hessianStep = 6e-6
 )
 
 // SelectionSettings configures SelectionModel.
@@ -102,18 +97,17 @@ type SelectionResult struct {
 //	σ_i² = tau² + se_i²,  A_i = Σ_j ω_j P(p in interval j | mu, σ_i),
 //
 // where interval j corresponds to d·y between se_i·Φ⁻¹(1 - a_j) and
-// se_i·Φ⁻¹(1 - a_{j-1}). It is maximised with gonum's optimize.Newton
-// (analytic gradient, central-difference Hessian of that gradient, gonum's
-// Hessian modification and line search; see minimizeGonum) over
-// (mu, log tau², log ω_2, ..., log ω_{J+1}), on
+// se_i·Φ⁻¹(1 - a_{j-1}). It is maximised by Newton's method with the
+// analytic gradient and Hessian, a modified Hessian where it is not
+// positive definite and a backtracking line search (see selModel.minimize)
+// over (mu, log tau², log ω_2, ..., log ω_{J+1}), on
 // effects divided by the root mean within-study variance. The default one
 // cut at 0.025 is the three-parameter model (McShane, Böckenholt & Hansen
 // 2016, Perspect Psychol Sci 11:730-749).
 //
 // Standard errors come from the inverse of the observed information: the
-// Hessian of the negative log-likelihood, obtained by central differences
-// of the analytic gradient on the optimizer scale
-// and carried to the natural scale by the delta method (SE(tau²) =
+// analytic Hessian of the negative log-likelihood on the optimizer scale,
+// carried to the natural scale by the delta method (SE(tau²) =
 // tau²·SE(log tau²), SE(ω) = ω·SE(log ω)). When tau² is at its boundary
 // (below 1e-6 of the mean within-study variance) its row is dropped, the
 // other standard errors are conditional on tau² = 0, Tau2SE is NaN and
@@ -204,7 +198,7 @@ func SelectionModel(effects, seEffects []float64, s SelectionSettings) (Selectio
 	m.free = true
 	x := make([]float64, nParam)
 	copy(x, nullX)
-	iter, ok, msg := m.minimizeGonum(x, tol, maxIter)
+	iter, ok, msg := m.minimize(x, tol, maxIter)
 	r.Iterations = iter
 	r.LogLik = -m.nll(x, nil) - float64(k)*math.Log(m.scale)
 	r.LRT = max(0, 2*(r.LogLik-r.LogLikNull))
@@ -317,7 +311,7 @@ func (m *selModel) fitNull(tol float64, maxIter int) (x []float64, ok bool, msg 
 	fe, _ := fixedEffect(m.y, m.se)
 	x = []float64{fe, math.Log(max(m.tau2Start(fe), 0.01))}
 	m.free = false
-	_, ok, msg = m.minimizeGonum(x, tol, maxIter)
+	_, ok, msg = m.minimize(x, tol, maxIter)
 	return x, ok, msg
 }
 
@@ -334,124 +328,6 @@ func (m *selModel) tau2Start(fe float64) float64 {
 	return (q - float64(len(m.y)-1)) / (sumW - sumW2/sumW)
 }
 
-// normCDF and normSF are Φ and 1 - Φ via erfc, accurate in both tails.
-func normCDF(u float64) float64 { return 0.5 * math.Erfc(-u/math.Sqrt2) }
-func normSF(u float64) float64  { return 0.5 * math.Erfc(u/math.Sqrt2) }
-
-// normPDFTimes returns φ(u) and u·φ(u), both 0 at ±Inf.
-func normPDFTimes(u float64) (pdf, updf float64) {
-	if math.IsInf(u, 0) {
-		return 0, 0
-	}
-	pdf = math.Exp(-0.5*u*u) / math.Sqrt(2*math.Pi)
-	return pdf, u * pdf
-}
-
-// nll returns the negative log-likelihood on the working scale at x, and its gradient
-// in grad when grad is not nil. x = (mu, log tau², log ω_2, ...) when
-// m.free, (mu, log tau²) otherwise.
-func (m *selModel) nll(x, grad []float64) float64 {
-	mu, tau2 := x[0], math.Exp(x[1])
-	for j := range m.omega {
-		m.omega[j] = 1
-	}
-	if m.free {
-		for j := 1; j < m.nInt; j++ {
-			m.omega[j] = math.Exp(x[j+1])
-		}
-	}
-	for j := range grad {
-		grad[j] = 0
-	}
-	const halfLog2Pi = 0.91893853320467274178 // log(2π)/2
-	var f float64
-	for i, y := range m.y {
-		varTot := tau2 + m.varY[i]
-		sigma := math.Sqrt(varTot)
-		r := y - mu
-		f += halfLog2Pi + math.Log(sigma) + r*r/(2*varTot)
-		var dMu, dSigma float64 // derivatives of ℓ_i
-		dMu = r / varTot
-		dSigma = -1/sigma + r*r/(varTot*sigma)
-		if m.free {
-			jObs := m.interval[i]
-			f -= math.Log(m.omega[jObs])
-			// A_i and its derivatives
-			var a, aMu, aSigma float64
-			uPrev := math.Inf(1)
-			for j := 0; j < m.nInt; j++ {
-				u := math.Inf(-1)
-				if j < len(m.cutZ) {
-					u = (m.se[i]*m.cutZ[j] - mu) / sigma
-				}
-				var p float64
-				if u > 0 {
-					p = normSF(u) - normSF(uPrev)
-				} else {
-					p = normCDF(uPrev) - normCDF(u)
-				}
-				pdfU, upU := normPDFTimes(u)
-				pdfP, upP := normPDFTimes(uPrev)
-				m.dA[j] = p
-				a += m.omega[j] * p
-				aMu += m.omega[j] * (pdfU - pdfP) / sigma
-				aSigma += m.omega[j] * (upU - upP) / sigma
-				uPrev = u
-			}
-			f += math.Log(a)
-			if grad != nil {
-				dMu -= aMu / a
-				dSigma -= aSigma / a
-				for j := 1; j < m.nInt; j++ {
-					g := -m.omega[j] * m.dA[j] / a
-					if j == jObs {
-						g++
-					}
-					grad[j+1] -= g
-				}
-			}
-		}
-		if grad != nil {
-			grad[0] -= dMu
-			grad[1] -= dSigma * tau2 / (2 * sigma)
-		}
-	}
-	return f
-}
-
-// hessian fills dst with the symmetrized central-difference Jacobian of the
-// analytic gradient at x,
-//
-//	H_ij = ½ [ (g_i(x + h e_j) - g_i(x - h e_j)) + (g_j(x + h e_i) - g_j(x - h e_i)) ] / (2h),
-//
-// with h = hessianStep; trial and gTrial are scratch of length len(x).
-func (m *selModel) hessian(dst *mat.SymDense, x, trial, gTrial []float64) {
-	n := len(x)
-	var small [8 + 64]float64 // up to 8 parameters without heap allocation
-	var gp, jac []float64
-	if n <= 8 {
-		gp, jac = small[:n], small[8:8+n*n]
-	} else {
-		gp, jac = make([]float64, n), make([]float64, n*n)
-	}
-	copy(trial, x)
-	for j := 0; j < n; j++ {
-		trial[j] = x[j] + hessianStep
-		m.nll(trial, gp)
-		trial[j] = x[j] - hessianStep
-		m.nll(trial, gTrial)
-		trial[j] = x[j]
-		for i := 0; i < n; i++ {
-			jac[i*n+j] = (gp[i] - gTrial[i]) / (2 * hessianStep)
-		}
-	}
-	for i := 0; i < n; i++ {
-		for j := i; j < n; j++ {
-			dst.SetSym(i, j, 0.5*(jac[i*n+j]+jac[j*n+i]))
-		}
-	}
-}
-
 // standardErrors returns the standard errors of the optimizer-scale
 // parameters from the inverse of the numerical Hessian at x.
 func (m *selModel) standardErrors(x []float64) ([]float64, bool) {
@@ -463,9 +339,10 @@ func (m *selModel) standardErrors(x []float64) ([]float64, bool) {
 // returned slice holds 0 in place of its SE.
 func (m *selModel) standardErrorsMaybeBoundary(x []float64, dropTau2 bool) ([]float64, bool) {
 	n := len(x)
-	full := mat.NewSymDense(n, nil)
-	scratch := make([]float64, 2*n)
-	m.hessian(full, x, scratch[:n], scratch[n:])
+	var g [maxSelParams]float64
+	hess := make([]float64, n*n)
+	m.eval(x, g[:n], hess)
+	full := mat.NewSymDense(n, hess)
 	keep := make([]int, 0, n)
 	for i := 0; i < n; i++ {
 		if !(dropTau2 && i == 1) {

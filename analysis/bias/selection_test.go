@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/diff/fd"
+	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -214,5 +215,44 @@ func TestSelectionReportsNonConvergence(t *testing.T) {
 	}
 	if got.Converged || got.Message == "" {
 		t.Errorf("Converged %v, Message %q", got.Converged, got.Message)
+	}
+}
+
+// TestSelectionHessian compares the analytic Hessian with gonum's
+// diff/fd central-difference Jacobian of the analytic gradient (gonum
+// v0.17.0, fd.Jacobian with fd.Central), in the interior and with tau²
+// near its boundary, with and without selection.
+func TestSelectionHessian(t *testing.T) {
+	t.Parallel()
+	const tol = 1e-6 // central differences of the gradient: about 1e-8 relative here
+	d := setByName("asym10")
+	for _, c := range []struct {
+		name string
+		cuts []float64
+		free bool
+		x    []float64
+	}{
+		{"null", []float64{0.025}, false, []float64{0.3, math.Log(0.2)}},
+		{"one cut", []float64{0.025}, true, []float64{0.2, math.Log(0.4), math.Log(0.3)}},
+		{"one cut, tau² small", []float64{0.025}, true, []float64{0.5, math.Log(1e-5), math.Log(2)}},
+		{"three cuts", []float64{0.01, 0.1, 0.5}, true, []float64{-0.3, math.Log(2), 0.5, -1, 0.2}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			m := newSelModel(d.effects, d.seEffects, c.cuts, 1)
+			m.free = c.free
+			n := len(c.x)
+			g := make([]float64, n)
+			h := make([]float64, n*n)
+			m.eval(c.x, g, h)
+			jac := mat.NewDense(n, n, nil)
+			fd.Jacobian(jac, func(dst, x []float64) { m.nll(x, dst) }, c.x, &fd.JacobianSettings{Formula: fd.Central})
+			for i := range n {
+				for j := range n {
+					if !near(h[i*n+j], jac.At(i, j), tol) {
+						t.Errorf("H[%d][%d] = %.12g, finite differences %.12g", i, j, h[i*n+j], jac.At(i, j))
+					}
+				}
+			}
+		})
 	}
 }
