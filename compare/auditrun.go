@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"strings"
 	"sync"
@@ -222,30 +221,38 @@ func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditIn
 	return out, nil
 }
 
-// loadAuditInput reads one review's input for LoadAuditInputs.
+// loadAuditInput reads one review's input for LoadAuditInputs: its
+// studies, its links, and in one read the registry records of its accepted
+// links and of the links classed included or no-results that were not
+// rejected (records not in the workspace are left out).
 func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
 	if err := ctx.Err(); err != nil {
 		return AuditInput{}, err
 	}
-	in, err := loadInput(ctx, db, rv)
-	if err != nil {
-		return in, err
+	in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
+	var err error
+	if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
+		return in, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
 	}
+	if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
+		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
+	}
+	var ids []string
+	seen := map[string]bool{}
 	for _, l := range in.Links {
-		if strings.EqualFold(l.Decision, "reject") || (l.Class != ClassIncluded && l.Class != ClassNoResults) {
-			continue
+		accepted := strings.EqualFold(l.Decision, "accept")
+		other := !strings.EqualFold(l.Decision, "reject") && (l.Class == ClassIncluded || l.Class == ClassNoResults)
+		if (accepted || other) && !seen[l.TrialID] {
+			seen[l.TrialID] = true
+			ids = append(ids, l.TrialID)
 		}
-		if _, ok := in.Trials[l.TrialID]; ok {
-			continue
-		}
-		t, err := db.Trial(ctx, l.TrialID)
-		if errors.Is(err, store.ErrNotFound) {
-			continue
-		}
-		if err != nil {
-			return in, fmt.Errorf("load trial %s: %w", l.TrialID, err)
-		}
-		in.Trials[l.TrialID] = t
+	}
+	trials, err := db.Trials(ctx, ids)
+	if err != nil {
+		return in, fmt.Errorf("load trials of %s: %w", rv.ReviewID, err)
+	}
+	for _, t := range trials {
+		in.Trials[t.TrialID] = t
 	}
 	return in, nil
 }

@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"strings"
 
 	"unshelved/ingest"
 )
@@ -90,10 +91,78 @@ func (db *DB) Trial(ctx context.Context, trialID string) (ingest.Trial, error) {
 	return t, nil
 }
 
+// Trials returns the stored trials with the given ids, in the order of
+// ids, leaving out those not stored, read in one snapshot with a fixed
+// number of queries (one per table) whatever their count.
+func (db *DB) Trials(ctx context.Context, ids []string) ([]ingest.Trial, error) {
+	tx, err := db.readTx(ctx)
+	if err != nil {
+		return nil, err
+	}
+	defer rollback(tx)
+	var out []ingest.Trial
+	for start := 0; start < len(ids); start += maxTrialsPerRead {
+		ts, err := loadTrials(ctx, tx, ids[start:min(start+maxTrialsPerRead, len(ids))])
+		if err != nil {
+			return nil, fmt.Errorf("load trials: %w", err)
+		}
+		for _, t := range ts {
+			out = append(out, *t)
+		}
+	}
+	return out, nil
+}
+
+// maxTrialsPerRead keeps the number of bound parameters of one query well
+// below SQLite's limit.
+const maxTrialsPerRead = 500
+
 func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error) {
-	var t ingest.Trial
-	var enrollment, hasResults sql.NullInt64
-	err := tx.QueryRowContext(ctx, `SELECT trial_id, registry, org_study_id, brief_title, official_title, acronym,
+	ts, err := loadTrials(ctx, tx, []string{id})
+	if err != nil {
+		return ingest.Trial{}, err
+	}
+	if len(ts) == 0 {
+		return ingest.Trial{}, ErrNotFound
+	}
+	return *ts[0], nil
+}
+
+// trialRowScanner scans a row whose first column is the trial id, then points
+// *cur at that trial.
+type trialRowScanner struct {
+	rows *sql.Rows
+	id   string
+	cur  **ingest.Trial
+	byID map[string]*ingest.Trial
+}
+
+func (r *trialRowScanner) Scan(dest ...any) error {
+	if err := r.rows.Scan(append([]any{&r.id}, dest...)...); err != nil {
+		return err
+	}
+	t, ok := r.byID[r.id]
+	if !ok {
+		return errCorrupt
+	}
+	*r.cur = t
+	return nil
+}
+
+// loadTrials reads the stored trials with the given ids (those not
+// stored are left out), in the order of ids, with a fixed number of
+// queries whatever their count.
+func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial, error) {
+	if len(ids) == 0 {
+		return nil, nil
+	}
+	in := "?" + strings.Repeat(", ?", len(ids)-1)
+	args := make([]any, len(ids))
+	for i, id := range ids {
+		args[i] = id
+	}
+	byID := make(map[string]*ingest.Trial, len(ids))
+	err := eachRow(ctx, tx, `SELECT trial_id, registry, org_study_id, brief_title, official_title, acronym,
 		organization_name, organization_class, overall_status, last_known_status, why_stopped, status_verified,
 		study_type, allocation, intervention_model, primary_purpose, masking, enrollment, enrollment_type,
 		lead_sponsor_name, lead_sponsor_class, start_date, start_date_type,
@@ -101,32 +170,36 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 		first_posted_date, first_posted_date_type, results_first_posted, results_first_posted_type,
 		last_update_posted, last_update_posted_type, version_holder, has_results, publication, content_hash,
 		source_path, source_sha256, source_position, coalesce(source_crc32, 0), coalesce(source_size, 0)
-		FROM trials WHERE trial_id = ?`, id).Scan(
-		&t.TrialID, &t.Registry, &t.OrgStudyID, &t.BriefTitle, &t.OfficialTitle, &t.Acronym,
-		&t.Organization.Name, &t.Organization.Class, &t.OverallStatus, &t.LastKnownStatus, &t.WhyStopped, &t.StatusVerified,
-		&t.StudyType, &t.Allocation, &t.InterventionModel, &t.PrimaryPurpose, &t.Masking, &enrollment, &t.EnrollmentType,
-		&t.LeadSponsor.Name, &t.LeadSponsor.Class, &t.StartDate.Text, &t.StartDate.Type,
-		&t.PrimaryCompletionDate.Text, &t.PrimaryCompletionDate.Type, &t.CompletionDate.Text, &t.CompletionDate.Type,
-		&t.FirstPostedDate.Text, &t.FirstPostedDate.Type, &t.ResultsFirstPosted.Text, &t.ResultsFirstPosted.Type,
-		&t.LastUpdatePosted.Text, &t.LastUpdatePosted.Type, &t.VersionHolder, &hasResults, &t.Publication, &t.ContentHash,
-		&t.Source.Path, &t.Source.SHA256, &t.Source.Position, &t.Source.EntryCRC32, &t.Source.EntrySize)
-	if errors.Is(err, sql.ErrNoRows) {
-		return t, ErrNotFound
-	}
+		FROM trials WHERE trial_id IN (`+in+`)`, args, func(r *sql.Rows) error {
+		t := new(ingest.Trial)
+		var enrollment, hasResults sql.NullInt64
+		if err := r.Scan(&t.TrialID, &t.Registry, &t.OrgStudyID, &t.BriefTitle, &t.OfficialTitle, &t.Acronym,
+			&t.Organization.Name, &t.Organization.Class, &t.OverallStatus, &t.LastKnownStatus, &t.WhyStopped, &t.StatusVerified,
+			&t.StudyType, &t.Allocation, &t.InterventionModel, &t.PrimaryPurpose, &t.Masking, &enrollment, &t.EnrollmentType,
+			&t.LeadSponsor.Name, &t.LeadSponsor.Class, &t.StartDate.Text, &t.StartDate.Type,
+			&t.PrimaryCompletionDate.Text, &t.PrimaryCompletionDate.Type, &t.CompletionDate.Text, &t.CompletionDate.Type,
+			&t.FirstPostedDate.Text, &t.FirstPostedDate.Type, &t.ResultsFirstPosted.Text, &t.ResultsFirstPosted.Type,
+			&t.LastUpdatePosted.Text, &t.LastUpdatePosted.Type, &t.VersionHolder, &hasResults, &t.Publication, &t.ContentHash,
+			&t.Source.Path, &t.Source.SHA256, &t.Source.Position, &t.Source.EntryCRC32, &t.Source.EntrySize); err != nil {
+			return err
+		}
+		t.Enrollment = intPtrFrom(enrollment)
+		t.HasResults = boolPtrFrom(hasResults)
+		byID[t.TrialID] = t
+		return nil
+	})
 	if err != nil {
-		return t, fmt.Errorf("read trial row: %w", err)
+		return nil, fmt.Errorf("read trial rows: %w", err)
 	}
-	t.Enrollment = intPtrFrom(enrollment)
-	t.HasResults = boolPtrFrom(hasResults)
-	args := []any{id}
+	var t *ingest.Trial // the trial of the row being read
 
 	steps := []struct {
 		name  string
 		query string
-		scan  func(*sql.Rows) error
+		scan  func(*trialRowScanner) error
 	}{
-		{"ids", `SELECT kind, other_id, id_type, domain, link FROM trial_ids WHERE trial_id = ? ORDER BY kind, pos`,
-			func(r *sql.Rows) error {
+		{"ids", `SELECT trial_id, kind, other_id, id_type, domain, link FROM trial_ids WHERE trial_id IN (%s) ORDER BY kind, pos`,
+			func(r *trialRowScanner) error {
 				var kind string
 				var s ingest.SecondaryID
 				if err := r.Scan(&kind, &s.ID, &s.Type, &s.Domain, &s.Link); err != nil {
@@ -139,8 +212,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				}
 				return nil
 			}},
-		{"phases", `SELECT phase FROM trial_phases WHERE trial_id = ? ORDER BY pos`,
-			func(r *sql.Rows) error {
+		{"phases", `SELECT trial_id, phase FROM trial_phases WHERE trial_id IN (%s) ORDER BY pos`,
+			func(r *trialRowScanner) error {
 				var p string
 				if err := r.Scan(&p); err != nil {
 					return err
@@ -148,8 +221,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Phases = append(t.Phases, p)
 				return nil
 			}},
-		{"terms", `SELECT kind, term FROM trial_terms WHERE trial_id = ? ORDER BY kind, pos`,
-			func(r *sql.Rows) error {
+		{"terms", `SELECT trial_id, kind, term FROM trial_terms WHERE trial_id IN (%s) ORDER BY kind, pos`,
+			func(r *trialRowScanner) error {
 				var kind, term string
 				if err := r.Scan(&kind, &term); err != nil {
 					return err
@@ -166,8 +239,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				}
 				return nil
 			}},
-		{"collaborators", `SELECT name, class FROM trial_collaborators WHERE trial_id = ? ORDER BY pos`,
-			func(r *sql.Rows) error {
+		{"collaborators", `SELECT trial_id, name, class FROM trial_collaborators WHERE trial_id IN (%s) ORDER BY pos`,
+			func(r *trialRowScanner) error {
 				var o ingest.Org
 				if err := r.Scan(&o.Name, &o.Class); err != nil {
 					return err
@@ -175,8 +248,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Collaborators = append(t.Collaborators, o)
 				return nil
 			}},
-		{"arms", `SELECT label, type, description FROM arms WHERE trial_id = ? ORDER BY arm_pos`,
-			func(r *sql.Rows) error {
+		{"arms", `SELECT trial_id, label, type, description FROM arms WHERE trial_id IN (%s) ORDER BY arm_pos`,
+			func(r *trialRowScanner) error {
 				var a ingest.Arm
 				if err := r.Scan(&a.Label, &a.Type, &a.Description); err != nil {
 					return err
@@ -184,8 +257,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Arms = append(t.Arms, a)
 				return nil
 			}},
-		{"arm intervention names", `SELECT arm_pos, name FROM arm_intervention_names WHERE trial_id = ? ORDER BY arm_pos, pos`,
-			func(r *sql.Rows) error {
+		{"arm intervention names", `SELECT trial_id, arm_pos, name FROM arm_intervention_names WHERE trial_id IN (%s) ORDER BY arm_pos, pos`,
+			func(r *trialRowScanner) error {
 				var i int
 				var n string
 				if err := r.Scan(&i, &n); err != nil {
@@ -197,8 +270,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Arms[i].InterventionNames = append(t.Arms[i].InterventionNames, n)
 				return nil
 			}},
-		{"interventions", `SELECT type, name, description FROM interventions WHERE trial_id = ? ORDER BY intervention_pos`,
-			func(r *sql.Rows) error {
+		{"interventions", `SELECT trial_id, type, name, description FROM interventions WHERE trial_id IN (%s) ORDER BY intervention_pos`,
+			func(r *trialRowScanner) error {
 				var iv ingest.Intervention
 				if err := r.Scan(&iv.Type, &iv.Name, &iv.Description); err != nil {
 					return err
@@ -206,9 +279,9 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Interventions = append(t.Interventions, iv)
 				return nil
 			}},
-		{"intervention names", `SELECT intervention_pos, kind, name FROM intervention_names WHERE trial_id = ?
+		{"intervention names", `SELECT trial_id, intervention_pos, kind, name FROM intervention_names WHERE trial_id IN (%s)
 			ORDER BY intervention_pos, kind, pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var i int
 				var kind, n string
 				if err := r.Scan(&i, &kind, &n); err != nil {
@@ -225,8 +298,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				}
 				return nil
 			}},
-		{"registered outcomes", `SELECT kind, measure, description, time_frame FROM registered_outcomes WHERE trial_id = ? ORDER BY pos`,
-			func(r *sql.Rows) error {
+		{"registered outcomes", `SELECT trial_id, kind, measure, description, time_frame FROM registered_outcomes WHERE trial_id IN (%s) ORDER BY pos`,
+			func(r *trialRowScanner) error {
 				var o ingest.RegisteredOutcome
 				if err := r.Scan(&o.Kind, &o.Measure, &o.Description, &o.TimeFrame); err != nil {
 					return err
@@ -234,8 +307,8 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.RegisteredOutcomes = append(t.RegisteredOutcomes, o)
 				return nil
 			}},
-		{"references", `SELECT pmid, type, citation FROM trial_references WHERE trial_id = ? ORDER BY pos`,
-			func(r *sql.Rows) error {
+		{"references", `SELECT trial_id, pmid, type, citation FROM trial_references WHERE trial_id IN (%s) ORDER BY pos`,
+			func(r *trialRowScanner) error {
 				var ref ingest.Reference
 				if err := r.Scan(&ref.PMID, &ref.Type, &ref.Citation); err != nil {
 					return err
@@ -243,10 +316,10 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.References = append(t.References, ref)
 				return nil
 			}},
-		{"outcomes", `SELECT outcome_index, type, title, description, population, time_frame, reporting_status,
+		{"outcomes", `SELECT trial_id, outcome_index, type, title, description, population, time_frame, reporting_status,
 			param_type, dispersion_text, dispersion, unit, denom_units, units_analyzed, anticipated_post, calculate_pct
-			FROM outcomes WHERE trial_id = ? ORDER BY outcome_pos`,
-			func(r *sql.Rows) error {
+			FROM outcomes WHERE trial_id IN (%s) ORDER BY outcome_pos`,
+			func(r *trialRowScanner) error {
 				var o ingest.Outcome
 				var pct sql.NullInt64
 				if err := r.Scan(&o.Index, &o.Type, &o.Title, &o.Description, &o.Population, &o.TimeFrame,
@@ -258,69 +331,69 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				t.Outcomes = append(t.Outcomes, o)
 				return nil
 			}},
-		{"groups", `SELECT outcome_pos, group_id, title, description, role FROM result_groups WHERE trial_id = ?
+		{"groups", `SELECT trial_id, outcome_pos, group_id, title, description, role FROM result_groups WHERE trial_id IN (%s)
 			ORDER BY outcome_pos, group_pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var op int
 				var g ingest.Group
 				if err := r.Scan(&op, &g.ID, &g.Title, &g.Description, &g.Role); err != nil {
 					return err
 				}
-				o, err := outcomeAt(&t, op)
+				o, err := outcomeAt(t, op)
 				if err != nil {
 					return err
 				}
 				o.Groups = append(o.Groups, g)
 				return nil
 			}},
-		{"classes", `SELECT outcome_pos, title FROM classes WHERE trial_id = ? ORDER BY outcome_pos, class_pos`,
-			func(r *sql.Rows) error {
+		{"classes", `SELECT trial_id, outcome_pos, title FROM classes WHERE trial_id IN (%s) ORDER BY outcome_pos, class_pos`,
+			func(r *trialRowScanner) error {
 				var op int
 				var c ingest.Class
 				if err := r.Scan(&op, &c.Title); err != nil {
 					return err
 				}
-				o, err := outcomeAt(&t, op)
+				o, err := outcomeAt(t, op)
 				if err != nil {
 					return err
 				}
 				o.Classes = append(o.Classes, c)
 				return nil
 			}},
-		{"categories", `SELECT outcome_pos, class_pos, title FROM categories WHERE trial_id = ?
+		{"categories", `SELECT trial_id, outcome_pos, class_pos, title FROM categories WHERE trial_id IN (%s)
 			ORDER BY outcome_pos, class_pos, category_pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var op, cp int
 				var g ingest.Category
 				if err := r.Scan(&op, &cp, &g.Title); err != nil {
 					return err
 				}
-				c, err := classAt(&t, op, cp)
+				c, err := classAt(t, op, cp)
 				if err != nil {
 					return err
 				}
 				c.Categories = append(c.Categories, g)
 				return nil
 			}},
-		{"denoms", `SELECT outcome_pos, class_pos, units FROM denoms WHERE trial_id = ?
+		{"denoms", `SELECT trial_id, outcome_pos, class_pos, units FROM denoms WHERE trial_id IN (%s)
 			ORDER BY outcome_pos, class_pos NULLS FIRST, denom_pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var op int
 				var cp sql.NullInt64
 				var d ingest.Denom
 				if err := r.Scan(&op, &cp, &d.Units); err != nil {
 					return err
 				}
-				list, err := denomList(&t, op, cp)
+				list, err := denomList(t, op, cp)
 				if err != nil {
 					return err
 				}
 				*list = append(*list, d)
 				return nil
 			}},
-		{"denom counts", `SELECT outcome_pos, class_pos, denom_pos, group_id, value_text, value FROM denom_counts
-			WHERE trial_id = ? ORDER BY outcome_pos, class_pos NULLS FIRST, denom_pos, count_pos`,
-			func(r *sql.Rows) error {
+		{"denom counts", `SELECT trial_id, outcome_pos, class_pos, denom_pos, group_id, value_text, value FROM denom_counts
+			WHERE trial_id IN (%s) ORDER BY outcome_pos, class_pos NULLS FIRST, denom_pos, count_pos`,
+			func(r *trialRowScanner) error {
 				var op, dp int
 				var cp sql.NullInt64
 				var c ingest.Count
@@ -330,7 +403,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 					return err
 				}
 				c.Value = numFrom(text, v)
-				list, err := denomList(&t, op, cp)
+				list, err := denomList(t, op, cp)
 				if err != nil {
 					return err
 				}
@@ -340,10 +413,10 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				(*list)[dp].Counts = append((*list)[dp].Counts, c)
 				return nil
 			}},
-		{"measurements", `SELECT outcome_pos, class_pos, category_pos, group_id, value_text, value, spread_text, spread,
-			lower_text, lower, upper_text, upper, comment FROM measurements WHERE trial_id = ?
+		{"measurements", `SELECT trial_id, outcome_pos, class_pos, category_pos, group_id, value_text, value, spread_text, spread,
+			lower_text, lower, upper_text, upper, comment FROM measurements WHERE trial_id IN (%s)
 			ORDER BY outcome_pos, class_pos, category_pos, measurement_pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var op, cp, gp int
 				var m ingest.Measurement
 				var vt, st, lt, ut string
@@ -352,7 +425,7 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 					return err
 				}
 				m.Value, m.Spread, m.Lower, m.Upper = numFrom(vt, v), numFrom(st, s), numFrom(lt, l), numFrom(ut, u)
-				c, err := classAt(&t, op, cp)
+				c, err := classAt(t, op, cp)
 				if err != nil {
 					return err
 				}
@@ -362,13 +435,13 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				c.Categories[gp].Measurements = append(c.Categories[gp].Measurements, m)
 				return nil
 			}},
-		{"analyses", `SELECT outcome_pos, group_description, param_type, param_value_text, param_value,
+		{"analyses", `SELECT trial_id, outcome_pos, group_description, param_type, param_value_text, param_value,
 			dispersion_type, dispersion_value_text, dispersion_value, ci_pct_text, ci_pct, ci_sides,
 			ci_lower_text, ci_lower, ci_upper_text, ci_upper, p_text, p_op, p_value,
 			method, statistical_comment, estimate_comment, non_inferiority_type,
 			ci_lower_comment, ci_upper_comment, p_comment, tested_non_inferiority, non_inferiority_comment, other_description
-			FROM analyses WHERE trial_id = ? ORDER BY outcome_pos, analysis_pos`,
-			func(r *sql.Rows) error {
+			FROM analyses WHERE trial_id IN (%s) ORDER BY outcome_pos, analysis_pos`,
+			func(r *trialRowScanner) error {
 				var op int
 				var a ingest.Analysis
 				var pvt, dvt, cpt, clt, cut string
@@ -385,22 +458,22 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 				a.ParamValue, a.DispersionValue, a.CIPct = numFrom(pvt, pv), numFrom(dvt, dv), numFrom(cpt, cp)
 				a.CILower, a.CIUpper = numFrom(clt, cl), numFrom(cut, cu)
 				a.PValue.Value, a.PValue.OK = p.Float64, p.Valid
-				o, err := outcomeAt(&t, op)
+				o, err := outcomeAt(t, op)
 				if err != nil {
 					return err
 				}
 				o.Analyses = append(o.Analyses, a)
 				return nil
 			}},
-		{"analysis groups", `SELECT outcome_pos, analysis_pos, group_id FROM analysis_groups WHERE trial_id = ?
+		{"analysis groups", `SELECT trial_id, outcome_pos, analysis_pos, group_id FROM analysis_groups WHERE trial_id IN (%s)
 			ORDER BY outcome_pos, analysis_pos, pos`,
-			func(r *sql.Rows) error {
+			func(r *trialRowScanner) error {
 				var op, ap int
 				var g string
 				if err := r.Scan(&op, &ap, &g); err != nil {
 					return err
 				}
-				o, err := outcomeAt(&t, op)
+				o, err := outcomeAt(t, op)
 				if err != nil {
 					return err
 				}
@@ -412,11 +485,23 @@ func loadTrial(ctx context.Context, tx *sql.Tx, id string) (ingest.Trial, error)
 			}},
 	}
 	for _, s := range steps {
-		if err := eachRow(ctx, tx, s.query, args, s.scan); err != nil {
-			return t, fmt.Errorf("read %s: %w", s.name, err)
+		tr := &trialRowScanner{cur: &t, byID: byID}
+		err := eachRow(ctx, tx, fmt.Sprintf(s.query, in), args, func(r *sql.Rows) error {
+			tr.rows = r
+			return s.scan(tr)
+		})
+		if err != nil {
+			return nil, fmt.Errorf("read %s: %w", s.name, err)
 		}
 	}
-	return t, nil
+	out := make([]*ingest.Trial, 0, len(byID))
+	for _, id := range ids {
+		if t, ok := byID[id]; ok {
+			out = append(out, t)
+			delete(byID, id) // an id given twice comes once
+		}
+	}
+	return out, nil
 }
 
 func outcomeAt(t *ingest.Trial, op int) (*ingest.Outcome, error) {
