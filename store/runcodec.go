@@ -60,6 +60,23 @@ type jsonScanner struct {
 	inString, escaped bool
 	str, lastString   []byte
 	key               string
+	keys              map[string]string // interned keys
+}
+
+// setKey makes b (a string's raw text) the current key.
+func (s *jsonScanner) setKey(b []byte) {
+	if s.key == string(b) {
+		return
+	}
+	if k, ok := s.keys[string(b)]; ok {
+		s.key = k
+		return
+	}
+	if s.keys == nil {
+		s.keys = map[string]string{}
+	}
+	s.key = string(b)
+	s.keys[s.key] = s.key
 }
 
 func (s *jsonScanner) feed(c byte) {
@@ -83,9 +100,7 @@ func (s *jsonScanner) feed(c byte) {
 	case '"':
 		s.inString, s.str = true, s.str[:0]
 	case ':':
-		if s.key != string(s.lastString) {
-			s.key = string(s.lastString)
-		}
+		s.setKey(s.lastString)
 	}
 }
 
@@ -206,17 +221,46 @@ func isNumberByte(c byte) bool {
 
 // packJSON splits compact JSON text into its packed form (see above).
 func packJSON(js []byte) ([]byte, error) {
-	var tmpl, nums []byte
+	if bytes.IndexByte(js, numberMark) >= 0 {
+		return nil, errors.New("pack result: control byte in JSON text")
+	}
+	tmpl := make([]byte, 0, len(js)/2)
+	nums := make([]byte, 0, len(js)/8)
 	var sc jsonScanner
 	m := newNumberModel()
-	var scratch []byte
+	var scratchBuf [40]byte
+	scratch := scratchBuf[:0]
+	var last []byte // raw text of the last string
 	for i := 0; i < len(js); {
 		c := js[i]
-		if c == numberMark {
-			return nil, errors.New("pack result: control byte in JSON text")
+		if c == '"' {
+			// The whole string at once: up to the first quote not
+			// escaped by an odd number of backslashes.
+			end := i + 1
+			for {
+				q := bytes.IndexByte(js[end:], '"')
+				if q < 0 {
+					return nil, errors.New("pack result: unterminated string")
+				}
+				end += q
+				bs := 0
+				for bs < end-i-1 && js[end-1-bs] == '\\' {
+					bs++
+				}
+				if bs%2 == 0 {
+					break
+				}
+				end++
+			}
+			last = js[i+1 : end]
+			tmpl = append(tmpl, js[i:end+1]...)
+			i = end + 1
+			continue
 		}
-		if sc.inString || !isNumberStart(c) {
-			sc.feed(c)
+		if !isNumberStart(c) {
+			if c == ':' {
+				sc.setKey(last)
+			}
 			tmpl = append(tmpl, c)
 			i++
 			continue

@@ -198,7 +198,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 		query string
 		scan  func(*trialRowScanner) error
 	}{
-		{"ids", `SELECT trial_id, kind, other_id, id_type, domain, link FROM trial_ids WHERE trial_id IN (%s) ORDER BY kind, pos`,
+		{"ids", `SELECT trial_id, kind, other_id, id_type, domain, link FROM trial_ids WHERE trial_id IN (%s) ORDER BY trial_id, kind, pos`,
 			func(r *trialRowScanner) error {
 				var kind string
 				var s ingest.SecondaryID
@@ -212,7 +212,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				}
 				return nil
 			}},
-		{"phases", `SELECT trial_id, phase FROM trial_phases WHERE trial_id IN (%s) ORDER BY pos`,
+		{"phases", `SELECT trial_id, phase FROM trial_phases WHERE trial_id IN (%s) ORDER BY trial_id, pos`,
 			func(r *trialRowScanner) error {
 				var p string
 				if err := r.Scan(&p); err != nil {
@@ -221,7 +221,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				t.Phases = append(t.Phases, p)
 				return nil
 			}},
-		{"terms", `SELECT trial_id, kind, term FROM trial_terms WHERE trial_id IN (%s) ORDER BY kind, pos`,
+		{"terms", `SELECT trial_id, kind, term FROM trial_terms WHERE trial_id IN (%s) ORDER BY trial_id, kind, pos`,
 			func(r *trialRowScanner) error {
 				var kind, term string
 				if err := r.Scan(&kind, &term); err != nil {
@@ -239,7 +239,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				}
 				return nil
 			}},
-		{"collaborators", `SELECT trial_id, name, class FROM trial_collaborators WHERE trial_id IN (%s) ORDER BY pos`,
+		{"collaborators", `SELECT trial_id, name, class FROM trial_collaborators WHERE trial_id IN (%s) ORDER BY trial_id, pos`,
 			func(r *trialRowScanner) error {
 				var o ingest.Org
 				if err := r.Scan(&o.Name, &o.Class); err != nil {
@@ -248,7 +248,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				t.Collaborators = append(t.Collaborators, o)
 				return nil
 			}},
-		{"arms", `SELECT trial_id, label, type, description FROM arms WHERE trial_id IN (%s) ORDER BY arm_pos`,
+		{"arms", `SELECT trial_id, label, type, description FROM arms WHERE trial_id IN (%s) ORDER BY trial_id, arm_pos`,
 			func(r *trialRowScanner) error {
 				var a ingest.Arm
 				if err := r.Scan(&a.Label, &a.Type, &a.Description); err != nil {
@@ -257,7 +257,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				t.Arms = append(t.Arms, a)
 				return nil
 			}},
-		{"arm intervention names", `SELECT trial_id, arm_pos, name FROM arm_intervention_names WHERE trial_id IN (%s) ORDER BY arm_pos, pos`,
+		{"arm intervention names", `SELECT trial_id, arm_pos, name FROM arm_intervention_names WHERE trial_id IN (%s) ORDER BY trial_id, arm_pos, pos`,
 			func(r *trialRowScanner) error {
 				var i int
 				var n string
@@ -270,7 +270,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				t.Arms[i].InterventionNames = append(t.Arms[i].InterventionNames, n)
 				return nil
 			}},
-		{"interventions", `SELECT trial_id, type, name, description FROM interventions WHERE trial_id IN (%s) ORDER BY intervention_pos`,
+		{"interventions", `SELECT trial_id, type, name, description FROM interventions WHERE trial_id IN (%s) ORDER BY trial_id, intervention_pos`,
 			func(r *trialRowScanner) error {
 				var iv ingest.Intervention
 				if err := r.Scan(&iv.Type, &iv.Name, &iv.Description); err != nil {
@@ -280,7 +280,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"intervention names", `SELECT trial_id, intervention_pos, kind, name FROM intervention_names WHERE trial_id IN (%s)
-			ORDER BY intervention_pos, kind, pos`,
+			ORDER BY trial_id, intervention_pos, kind, pos`,
 			func(r *trialRowScanner) error {
 				var i int
 				var kind, n string
@@ -298,7 +298,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				}
 				return nil
 			}},
-		{"registered outcomes", `SELECT trial_id, kind, measure, description, time_frame FROM registered_outcomes WHERE trial_id IN (%s) ORDER BY pos`,
+		{"registered outcomes", `SELECT trial_id, kind, measure, description, time_frame FROM registered_outcomes WHERE trial_id IN (%s) ORDER BY trial_id, pos`,
 			func(r *trialRowScanner) error {
 				var o ingest.RegisteredOutcome
 				if err := r.Scan(&o.Kind, &o.Measure, &o.Description, &o.TimeFrame); err != nil {
@@ -307,7 +307,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				t.RegisteredOutcomes = append(t.RegisteredOutcomes, o)
 				return nil
 			}},
-		{"references", `SELECT trial_id, pmid, type, citation FROM trial_references WHERE trial_id IN (%s) ORDER BY pos`,
+		{"references", `SELECT trial_id, pmid, type, citation FROM trial_references WHERE trial_id IN (%s) ORDER BY trial_id, pos`,
 			func(r *trialRowScanner) error {
 				var ref ingest.Reference
 				if err := r.Scan(&ref.PMID, &ref.Type, &ref.Citation); err != nil {
@@ -318,7 +318,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 			}},
 		{"outcomes", `SELECT trial_id, outcome_index, type, title, description, population, time_frame, reporting_status,
 			param_type, dispersion_text, dispersion, unit, denom_units, units_analyzed, anticipated_post, calculate_pct
-			FROM outcomes WHERE trial_id IN (%s) ORDER BY outcome_pos`,
+			FROM outcomes WHERE trial_id IN (%s) ORDER BY trial_id, outcome_pos`,
 			func(r *trialRowScanner) error {
 				var o ingest.Outcome
 				var pct sql.NullInt64
@@ -332,7 +332,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"groups", `SELECT trial_id, outcome_pos, group_id, title, description, role FROM result_groups WHERE trial_id IN (%s)
-			ORDER BY outcome_pos, group_pos`,
+			ORDER BY trial_id, outcome_pos, group_pos`,
 			func(r *trialRowScanner) error {
 				var op int
 				var g ingest.Group
@@ -346,7 +346,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				o.Groups = append(o.Groups, g)
 				return nil
 			}},
-		{"classes", `SELECT trial_id, outcome_pos, title FROM classes WHERE trial_id IN (%s) ORDER BY outcome_pos, class_pos`,
+		{"classes", `SELECT trial_id, outcome_pos, title FROM classes WHERE trial_id IN (%s) ORDER BY trial_id, outcome_pos, class_pos`,
 			func(r *trialRowScanner) error {
 				var op int
 				var c ingest.Class
@@ -361,7 +361,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"categories", `SELECT trial_id, outcome_pos, class_pos, title FROM categories WHERE trial_id IN (%s)
-			ORDER BY outcome_pos, class_pos, category_pos`,
+			ORDER BY trial_id, outcome_pos, class_pos, category_pos`,
 			func(r *trialRowScanner) error {
 				var op, cp int
 				var g ingest.Category
@@ -376,7 +376,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"denoms", `SELECT trial_id, outcome_pos, class_pos, units FROM denoms WHERE trial_id IN (%s)
-			ORDER BY outcome_pos, class_pos NULLS FIRST, denom_pos`,
+			ORDER BY trial_id, outcome_pos, class_pos NULLS FIRST, denom_pos`,
 			func(r *trialRowScanner) error {
 				var op int
 				var cp sql.NullInt64
@@ -392,7 +392,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"denom counts", `SELECT trial_id, outcome_pos, class_pos, denom_pos, group_id, value_text, value FROM denom_counts
-			WHERE trial_id IN (%s) ORDER BY outcome_pos, class_pos NULLS FIRST, denom_pos, count_pos`,
+			WHERE trial_id IN (%s) ORDER BY trial_id, outcome_pos, class_pos NULLS FIRST, denom_pos, count_pos`,
 			func(r *trialRowScanner) error {
 				var op, dp int
 				var cp sql.NullInt64
@@ -415,7 +415,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 			}},
 		{"measurements", `SELECT trial_id, outcome_pos, class_pos, category_pos, group_id, value_text, value, spread_text, spread,
 			lower_text, lower, upper_text, upper, comment FROM measurements WHERE trial_id IN (%s)
-			ORDER BY outcome_pos, class_pos, category_pos, measurement_pos`,
+			ORDER BY trial_id, outcome_pos, class_pos, category_pos, measurement_pos`,
 			func(r *trialRowScanner) error {
 				var op, cp, gp int
 				var m ingest.Measurement
@@ -440,7 +440,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 			ci_lower_text, ci_lower, ci_upper_text, ci_upper, p_text, p_op, p_value,
 			method, statistical_comment, estimate_comment, non_inferiority_type,
 			ci_lower_comment, ci_upper_comment, p_comment, tested_non_inferiority, non_inferiority_comment, other_description
-			FROM analyses WHERE trial_id IN (%s) ORDER BY outcome_pos, analysis_pos`,
+			FROM analyses WHERE trial_id IN (%s) ORDER BY trial_id, outcome_pos, analysis_pos`,
 			func(r *trialRowScanner) error {
 				var op int
 				var a ingest.Analysis
@@ -466,7 +466,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 				return nil
 			}},
 		{"analysis groups", `SELECT trial_id, outcome_pos, analysis_pos, group_id FROM analysis_groups WHERE trial_id IN (%s)
-			ORDER BY outcome_pos, analysis_pos, pos`,
+			ORDER BY trial_id, outcome_pos, analysis_pos, pos`,
 			func(r *trialRowScanner) error {
 				var op, ap int
 				var g string
