@@ -221,39 +221,109 @@ func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditIn
 	return out, nil
 }
 
-// loadAuditInput reads one review's input for LoadAuditInputs: its
-// studies, its links, and in one read the registry records of its accepted
-// links and of the links classed included or no-results that were not
-// rejected (records not in the workspace are left out).
+// loadAuditInput reads one review's input for LoadAuditInputs.
 func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
-	if err := ctx.Err(); err != nil {
+	ins, err := loadAuditInputChunk(ctx, db, []ingest.Review{rv})
+	if err != nil {
 		return AuditInput{}, err
 	}
-	in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
-	var err error
-	if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
-		return in, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
+	return ins[0], nil
+}
+
+// loadAuditInputChunk reads the inputs of a few reviews: each review's
+// studies and links, then in one read the registry records of all their
+// accepted links and of the links classed included or no-results that
+// were not rejected (records not in the workspace are left out).
+func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Review) ([]AuditInput, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, err
 	}
-	if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
-		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
-	}
+	ins := make([]AuditInput, len(reviews))
 	var ids []string
 	seen := map[string]bool{}
-	for _, l := range in.Links {
-		accepted := strings.EqualFold(l.Decision, "accept")
-		other := !strings.EqualFold(l.Decision, "reject") && (l.Class == ClassIncluded || l.Class == ClassNoResults)
-		if (accepted || other) && !seen[l.TrialID] {
-			seen[l.TrialID] = true
-			ids = append(ids, l.TrialID)
+	for i, rv := range reviews {
+		in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
+		var err error
+		if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
+			return nil, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
 		}
+		if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
+			return nil, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
+		}
+		for _, l := range in.Links {
+			if wantTrial(l) && !seen[l.TrialID] {
+				seen[l.TrialID] = true
+				ids = append(ids, l.TrialID)
+			}
+		}
+		ins[i] = in
 	}
 	trials, err := db.Trials(ctx, ids)
 	if err != nil {
-		return in, fmt.Errorf("load trials of %s: %w", rv.ReviewID, err)
+		return nil, fmt.Errorf("load trials: %w", err)
 	}
+	byID := make(map[string]ingest.Trial, len(trials))
 	for _, t := range trials {
-		in.Trials[t.TrialID] = t
+		byID[t.TrialID] = t
 	}
+	for _, in := range ins {
+		for _, l := range in.Links {
+			if t, ok := byID[l.TrialID]; ok && wantTrial(l) {
+				in.Trials[l.TrialID] = t
+			}
+		}
+	}
+	return ins, nil
+}
+
+// wantTrial reports whether an audit needs the registry record of a link:
+// accepted, or classed included or no-results and not rejected.
+func wantTrial(l ingest.Link) bool {
+	return strings.EqualFold(l.Decision, "accept") ||
+		(!strings.EqualFold(l.Decision, "reject") && (l.Class == ClassIncluded || l.Class == ClassNoResults))
+}
+
+// inputChunk is the number of reviews whose inputs are read together.
+const inputChunk = 16
+
+// chunkedInputs hands out the inputs of reviews, reading them a chunk at a
+// time (the first worker to need a chunk reads it) and dropping each chunk
+// once all its inputs are taken, so that memory stays bounded.
+type chunkedInputs struct {
+	db      *store.DB
+	reviews []ingest.Review
+	mu      sync.Mutex
+	chunks  map[int]*loadedChunk
+}
+
+type loadedChunk struct {
+	once   sync.Once
+	inputs []AuditInput
+	err    error
+	left   int
+}
+
+func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
+	k := i / inputChunk
+	lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.reviews))
+	c.mu.Lock()
+	ch := c.chunks[k]
+	if ch == nil {
+		ch = &loadedChunk{left: hi - lo}
+		c.chunks[k] = ch
+	}
+	c.mu.Unlock()
+	ch.once.Do(func() { ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, c.reviews[lo:hi]) })
+	if ch.err != nil {
+		return AuditInput{}, ch.err
+	}
+	in := ch.inputs[i-lo]
+	c.mu.Lock()
+	ch.inputs[i-lo] = AuditInput{}
+	if ch.left--; ch.left == 0 {
+		delete(c.chunks, k)
+	}
+	c.mu.Unlock()
 	return in, nil
 }
 
@@ -325,9 +395,8 @@ func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts Options,
 		if err != nil {
 			return err
 		}
-		err = AuditEach(ctx, len(reviews), func(ctx context.Context, i int) (AuditInput, error) {
-			return loadAuditInput(ctx, db, reviews[i])
-		}, opts, so, func(r AuditResult) error {
+		inputs := &chunkedInputs{db: db, reviews: reviews, chunks: map[int]*loadedChunk{}}
+		err = AuditEach(ctx, len(reviews), inputs.input, opts, so, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)
 			} else {

@@ -546,9 +546,8 @@ func RunSummaryOpts(ctx context.Context, db *store.DB, auditOpts Options, opts S
 		if err != nil {
 			return err
 		}
-		err = AuditEach(ctx, len(reviews), func(ctx context.Context, i int) (AuditInput, error) {
-			return loadAuditInput(ctx, db, reviews[i])
-		}, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
+		inputs := &chunkedInputs{db: db, reviews: reviews, chunks: map[int]*loadedChunk{}}
+		err = AuditEach(ctx, len(reviews), inputs.input, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)
 			} else {

@@ -339,6 +339,12 @@ func (w *ResultWriter) Flush(ctx context.Context) error {
 		return fmt.Errorf("save results of run %d: %w", w.runID, err)
 	}
 	w.batch = w.batch[:0]
+	// The pages just written need not stay in the writer's page cache
+	// (sized for bulk ingest): without this a run's results would fill it
+	// and peak memory would grow with the number of reviews up to its cap.
+	if _, err := w.db.write.ExecContext(ctx, `PRAGMA shrink_memory`); err != nil {
+		return fmt.Errorf("save results of run %d: %w", w.runID, err)
+	}
 	return nil
 }
 

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/spf13/cobra"
+	"golang.org/x/term"
 
 	"unshelved/store"
 )
@@ -217,10 +218,10 @@ func minArgs(n int) cobra.PositionalArgs {
 	}
 }
 
-// isTerminal reports whether f is a character device (a terminal).
+// isTerminal reports whether f is a terminal (not merely a character
+// device: /dev/null is one too).
 func isTerminal(f *os.File) bool {
-	st, err := f.Stat()
-	return err == nil && st.Mode()&os.ModeCharDevice != 0
+	return term.IsTerminal(int(f.Fd()))
 }
 
 // now is the injected clock, or the real one.
