@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"strings"
 	"sync"
@@ -290,10 +291,29 @@ const inputChunk = 16
 // time (the first worker to need a chunk reads it) and dropping each chunk
 // once all its inputs are taken, so that memory stays bounded.
 type chunkedInputs struct {
-	db      *store.DB
-	reviews []ingest.Review
-	mu      sync.Mutex
-	chunks  map[int]*loadedChunk
+	db     *store.DB
+	ids    []string // review ids; each chunk reads its reviews
+	mu     sync.Mutex
+	chunks map[int]*loadedChunk
+}
+
+// newChunkedInputs returns the inputs of the named reviews (all when ids
+// is empty, in review id order); a named review that is not stored is an
+// error.
+func newChunkedInputs(ctx context.Context, db *store.DB, ids []string) (*chunkedInputs, error) {
+	if len(ids) == 0 {
+		all, err := db.ReviewIDs(ctx)
+		if err != nil {
+			return nil, err
+		}
+		if len(all) == 0 {
+			return nil, errors.New("the workspace holds no reviews; load them with 'unshelved ingest reviews'")
+		}
+		ids = all
+	} else if _, err := selectReviews(ctx, db, ids); err != nil {
+		return nil, err
+	}
+	return &chunkedInputs{db: db, ids: ids, chunks: map[int]*loadedChunk{}}, nil
 }
 
 type loadedChunk struct {
@@ -305,7 +325,7 @@ type loadedChunk struct {
 
 func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
 	k := i / inputChunk
-	lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.reviews))
+	lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.ids))
 	c.mu.Lock()
 	ch := c.chunks[k]
 	if ch == nil {
@@ -313,7 +333,18 @@ func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
 		c.chunks[k] = ch
 	}
 	c.mu.Unlock()
-	ch.once.Do(func() { ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, c.reviews[lo:hi]) })
+	ch.once.Do(func() {
+		reviews := make([]ingest.Review, 0, hi-lo)
+		for _, id := range c.ids[lo:hi] {
+			rv, err := c.db.Review(ctx, id)
+			if err != nil {
+				ch.err = err
+				return
+			}
+			reviews = append(reviews, rv)
+		}
+		ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, reviews)
+	})
 	if ch.err != nil {
 		return AuditInput{}, ch.err
 	}
@@ -391,12 +422,11 @@ func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts Options,
 		so.Packer = w.Packer()
 	}
 	err := func() error {
-		reviews, err := selectReviews(ctx, db, ids)
+		inputs, err := newChunkedInputs(ctx, db, ids)
 		if err != nil {
 			return err
 		}
-		inputs := &chunkedInputs{db: db, reviews: reviews, chunks: map[int]*loadedChunk{}}
-		err = AuditEach(ctx, len(reviews), inputs.input, opts, so, func(r AuditResult) error {
+		err = AuditEach(ctx, len(inputs.ids), inputs.input, opts, so, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)
 			} else {

@@ -542,12 +542,11 @@ func RunSummaryOpts(ctx context.Context, db *store.DB, auditOpts Options, opts S
 		}
 	}
 	err := func() error {
-		reviews, err := selectReviews(ctx, db, nil)
+		inputs, err := newChunkedInputs(ctx, db, nil)
 		if err != nil {
 			return err
 		}
-		inputs := &chunkedInputs{db: db, reviews: reviews, chunks: map[int]*loadedChunk{}}
-		err = AuditEach(ctx, len(reviews), inputs.input, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
+		err = AuditEach(ctx, len(inputs.ids), inputs.input, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)
 			} else {

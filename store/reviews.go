@@ -143,6 +143,24 @@ func (db *DB) Reviews(ctx context.Context) ([]ingest.Review, error) {
 	return rs, nil
 }
 
+// ReviewIDs returns the ids of every stored review, sorted (the order of
+// Reviews).
+func (db *DB) ReviewIDs(ctx context.Context) ([]string, error) {
+	var ids []string
+	err := eachRow(ctx, db.read, `SELECT review_id FROM reviews ORDER BY review_id`, nil, func(r *sql.Rows) error {
+		var id string
+		if err := r.Scan(&id); err != nil {
+			return err
+		}
+		ids = append(ids, id)
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("list review ids: %w", err)
+	}
+	return ids, nil
+}
+
 // Review returns one review; an unknown id gives an error wrapping ErrNotFound.
 func (db *DB) Review(ctx context.Context, id string) (ingest.Review, error) {
 	tx, err := db.readTx(ctx)
