@@ -2,10 +2,13 @@ package store
 
 import (
 	"bytes"
+	"context"
+	"database/sql"
 	"encoding/json"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -128,5 +131,76 @@ func TestUnpackRejectsCorruptData(t *testing.T) {
 		if _, err := unpackJSON(packed[:cut]); err == nil {
 			t.Errorf("truncated to %d bytes: no error", cut)
 		}
+	}
+}
+
+// TestMigrateRunResultsToVersion4 stores runs the way schema 3 did (JSON
+// text per review), opens the file with this version, and reads the same
+// JSON back, in review id order, next to a run stored packed.
+func TestMigrateRunResultsToVersion4(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "v3.db")
+	raw, err := sql.Open("sqlite3", dsn(path, false))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ms, err := migrations()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range ms[:3] {
+		if _, err := raw.ExecContext(ctx, m.sql); err != nil {
+			t.Fatal(err)
+		}
+	}
+	old := map[string]string{"R2": `{"review_id":"R2","shift":{"absolute":-0.25}}`, "R1": `{"review_id":"R1","shift":{"absolute":0.5}}`}
+	if _, err := raw.ExecContext(ctx, `PRAGMA user_version = 3;
+		INSERT INTO runs (kind, options, version, seed, status, started_at) VALUES ('audit', '{"level":0.95}', 'old', 1, 'complete', '2026-01-01T00:00:00Z');
+		INSERT INTO run_results VALUES (1, 'R2', ?), (1, 'R1', ?)`, old["R2"], old["R1"]); err != nil {
+		t.Fatal(err)
+	}
+	if err := raw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	db := mustOpenPath(t, path)
+	var got []string
+	err = db.EachRunResult(ctx, 1, func(id string, js []byte) error {
+		if string(js) != old[id] {
+			t.Errorf("%s: %s, want %s", id, js, old[id])
+		}
+		got = append(got, id)
+		return nil
+	})
+	if err != nil || strings.Join(got, ",") != "R1,R2" {
+		t.Fatalf("read %v, %v", got, err)
+	}
+	// A packed run beside the migrated one.
+	id, err := db.StartRun(ctx, "audit", `{"level":0.95}`, "new", 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := db.NewResultWriter(id)
+	w.Packer().SetDictionary([]byte(old["R1"]))
+	for _, rid := range []string{"R1", "R2"} {
+		r, err := w.Packer().Pack(rid, []byte(old[rid]))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := w.Add(ctx, r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Flush(ctx); err != nil {
+		t.Fatal(err)
+	}
+	for _, rid := range []string{"R1", "R2"} {
+		js, err := db.RunResult(ctx, id, rid)
+		if err != nil || string(js) != old[rid] {
+			t.Errorf("packed %s: %s, %v", rid, js, err)
+		}
+	}
+	sums, err := db.RunSummaries(ctx)
+	if err != nil || len(sums) != 2 || sums[0].Reviews != 2 || sums[1].Reviews != 2 || sums[1].Bytes <= 0 {
+		t.Errorf("run summaries %+v, %v", sums, err)
 	}
 }
