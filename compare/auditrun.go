@@ -278,9 +278,9 @@ func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Rev
 }
 
 // wantTrial reports whether an audit needs the registry record of a link:
-// accepted, or classed included or no-results and not rejected.
+// accepted (also as a duplicate), or classed included or no-results and not rejected.
 func wantTrial(l ingest.Link) bool {
-	return strings.EqualFold(l.Decision, "accept") ||
+	return Accepted(l.Decision) ||
 		(!strings.EqualFold(l.Decision, "reject") && (l.Class == ClassIncluded || l.Class == ClassNoResults))
 }
 

@@ -14,7 +14,7 @@ import (
 
 // Codecs of run_results.data.
 const (
-	codecJSON    = 0 // the JSON text as is (rows written before schema 4)
+	codecJSON    = 0 // the JSON text as is (rows written before schema 5)
 	codecDeflate = 1 // the JSON text, deflated
 	codecPacked  = 2 // packJSON's form, deflated against the run's dictionary
 )
@@ -45,8 +45,8 @@ const (
 
 const (
 	numberMark   = 0x01 // cannot occur in JSON text outside strings, nor raw inside them
-	repeatWindow = 64
-	nPredictors  = 8
+	repeatWindow = 160
+	nPredictors  = 9
 	tagPredicted = repeatWindow               // + predictor index
 	tagRaw       = tagPredicted + nPredictors // eight bytes follow
 	tagLiteral   = tagRaw + 1                 // length and the number's shortest text follow
@@ -134,6 +134,9 @@ func (m *numberModel) at(i int) float64 { return m.recent[(m.n-1-i+repeatWindow)
 //	4  k[-1]                        the key repeats, nearly
 //	5-7 x[-1] + the linear, quadratic and cubic extrapolation of the key's
 //	    offsets from the number before it (a band's half-width)
+//	8  x[-1] ± the square root of the quadratic extrapolation of the
+//	    squared offsets (the half-width of a confidence band around a
+//	    fitted line, t·sqrt(a + b·x + c·x²), at evenly spaced x)
 func (m *numberModel) predictions(key string) (pred [nPredictors]float64, ok [nPredictors]bool) {
 	if m.n >= 2 {
 		x1, x2 := m.at(0), m.at(1)
@@ -162,6 +165,11 @@ func (m *numberModel) predictions(key string) (pred [nPredictors]float64, ok [nP
 		}
 		if h.n >= 4 {
 			pred[7], ok[7] = x1+(4*d[0]-6*d[1]+4*d[2]-d[3]), true
+		}
+		if h.n >= 3 {
+			if q := 3*d[0]*d[0] - 3*d[1]*d[1] + d[2]*d[2]; q > 0 {
+				pred[8], ok[8] = x1+math.Copysign(math.Sqrt(q), d[0]), true
+			}
 		}
 	}
 	return pred, ok

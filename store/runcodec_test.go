@@ -134,10 +134,10 @@ func TestUnpackRejectsCorruptData(t *testing.T) {
 	}
 }
 
-// TestMigrateRunResultsToVersion4 stores runs the way schema 3 did (JSON
+// TestMigrateRunResultsToVersion5 stores runs the way schema 3 did (JSON
 // text per review), opens the file with this version, and reads the same
 // JSON back, in review id order, next to a run stored packed.
-func TestMigrateRunResultsToVersion4(t *testing.T) {
+func TestMigrateRunResultsToVersion5(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v3.db")
 	raw, err := sql.Open("sqlite3", dsn(path, false))

@@ -241,11 +241,14 @@ func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, o
 		return rep, nil
 	}
 	defer ingestMemorySettings()()
-	db, err := g.openDB(cmd)
+	db, err := g.createDB(cmd) // fetch ingests, so it may create the workspace as ingest does
 	if err != nil {
 		return rep, err
 	}
 	defer db.Close()
+	if db.ReadOnly() {
+		return rep, readOnlyError(db.Path(), false)
+	}
 	sum, err := loadRegistry(ctx, g, db, &ingestRegistryOptions{g: g, Paths: files, BatchSize: 2000})
 	rep.Ingest = &sum
 	return rep, err

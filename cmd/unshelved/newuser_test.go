@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"os"
 	"path/filepath"
@@ -215,6 +216,12 @@ func TestQuietKeepsReasons(t *testing.T) {
 // TestDBCheckJSON: db check --format json prints one JSON object.
 func TestDBCheckJSON(t *testing.T) {
 	db := filepath.Join(t.TempDir(), "w.db")
+	// Only ingest creates a workspace; an empty one is made here directly.
+	s, err := store.Open(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.Close()
 	code, out, stderr := runCLI(t, "", "--db", db, "--format", "json", "db", "check")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
