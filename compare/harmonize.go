@@ -423,7 +423,11 @@ func groupArm(trialID string, o *ingest.Outcome, class, cat int, groupID, kind s
 		return analysis.Arm{}, nil, nil, reject(ReasonMissingN, "%s: no participant count", where)
 	}
 	if n < 2 {
-		return analysis.Arm{}, nil, nil, reject(ReasonMissingN, "%s: %d participant(s) analysed", where, n)
+		who := "participants"
+		if n == 1 {
+			who = "participant"
+		}
+		return analysis.Arm{}, nil, nil, reject(ReasonMissingN, "%s: %d %s analysed", where, n, who)
 	}
 	if !m.Value.OK {
 		return analysis.Arm{}, nil, nil, reject(ReasonMissingValue, "%s: value %q is not a number%s", where, m.Value.Text, commentSuffix(m.Comment))

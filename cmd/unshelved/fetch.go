@@ -222,14 +222,14 @@ func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, o
 		}
 		if err != nil {
 			if rep.Pages > 0 && !errors.Is(err, context.Canceled) {
-				g.progressf("fetch: %d page(s) (%d studies) kept in %s; nothing ingested; run the same command again to resume", rep.Pages, rep.Studies, dir)
+				g.progressf("fetch: %s (%s) kept in %s; nothing ingested; run the same command again to resume", countOf(rep.Pages, "page", "pages"), countOf(rep.Studies, "study", "studies"), dir)
 			} else if rep.Pages > 0 {
-				g.progressf("fetch: interrupted; %d page(s) kept in %s; run the same command again to resume", rep.Pages, dir)
+				g.progressf("fetch: interrupted; %s kept in %s; run the same command again to resume", countOf(rep.Pages, "page", "pages"), dir)
 			}
 			return rep, err
 		}
 		if res.Resumed {
-			g.progressf("fetch: resumed after %d earlier page(s)", res.Pages-res.NewPages)
+			g.progressf("fetch: resumed after %s", countOf(res.Pages-res.NewPages, "earlier page", "earlier pages"))
 		}
 		files = append(files, res.Files...)
 	}

@@ -3,6 +3,9 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"go/ast"
+	"go/parser"
+	"go/token"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -445,5 +448,39 @@ func TestIngestRegistryDelimiter(t *testing.T) {
 	_, b, _ := runCLI(t, "", "--db", commaDB, "trials", "--format", "json", "--as-of", "2026-12-01")
 	if a != b || !strings.Contains(a, "ISRCTN99990002") {
 		t.Errorf("tab file and comma file give different trials:\n%s\n%s", a, b)
+	}
+}
+
+// TestNoParenthesisPlurals: messages say "1 review" and "3 reviews", never
+// "review(s)". It reads the string literals of the packages that write
+// messages.
+func TestNoParenthesisPlurals(t *testing.T) {
+	plural := regexp.MustCompile(`[a-z]\((s|es|ies)\)`)
+	var files []string
+	for _, pattern := range []string{"*.go", "../../compare/*.go", "../../compare/render/*.go", "../../ingest/*.go", "../../analysis/*.go", "../../analysis/bias/*.go"} {
+		m, err := filepath.Glob(pattern)
+		if err != nil {
+			t.Fatal(err)
+		}
+		files = append(files, m...)
+	}
+	if len(files) < 50 {
+		t.Fatalf("only %d source files found", len(files))
+	}
+	fset := token.NewFileSet()
+	for _, f := range files {
+		if strings.HasSuffix(f, "_test.go") {
+			continue
+		}
+		file, err := parser.ParseFile(fset, f, nil, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ast.Inspect(file, func(n ast.Node) bool {
+			if lit, ok := n.(*ast.BasicLit); ok && lit.Kind == token.STRING && plural.MatchString(lit.Value) {
+				t.Errorf("%s: %s", fset.Position(lit.Pos()), lit.Value)
+			}
+			return true
+		})
 	}
 }
