@@ -31,6 +31,10 @@ const layoutProbe = `<script>
   document.querySelectorAll('td.measure').forEach(function (el) { out.measures.push({text: el.textContent, box: box(el), lines: lines(el)}); });
   var dir = document.querySelector('td.direction');
   if (dir) out.direction = {text: dir.textContent, box: box(dir)};
+  document.querySelectorAll('th').forEach(function (el) {
+    var t = el.textContent.trim();
+    if (t !== '' && t.indexOf(' ') < 0) out.ids.push({text: t, lines: lines(el)});
+  });
   document.querySelectorAll('td.id, .id').forEach(function (el) {
     if (el.textContent.trim() !== '') out.ids.push({text: el.textContent.trim(), lines: lines(el)});
   });
@@ -147,7 +151,8 @@ func layoutAudits(t *testing.T) []compare.ReviewAudit {
 }
 
 // TestBrowserLayout checks the laid-out pages in chromium by bounding
-// boxes: trial ids never wrap inside their cell, even in a narrow window;
+// boxes: trial ids (and one-word column headings) never wrap inside their
+// cell, even in a narrow window;
 // the funnel's contour labels do not touch its axes; Egger's band stays
 // inside the plot area.
 func TestBrowserLayout(t *testing.T) {
@@ -169,7 +174,7 @@ func TestBrowserLayout(t *testing.T) {
 			}
 			for _, id := range p.IDs {
 				if id.Lines != 1 {
-					t.Errorf("%s at %d px: trial id %q wraps over %d lines", a.ReviewID, width, id.Text, id.Lines)
+					t.Errorf("%s at %d px: trial id or one-word heading %q wraps over %d lines", a.ReviewID, width, id.Text, id.Lines)
 				}
 			}
 			if len(p.Figures) != 1 {
