@@ -156,7 +156,7 @@ func runsListRun(cmd *cobra.Command, opts *runsOptions) error {
 		gr.CSV = append(gr.CSV, append(row, fmt.Sprint(j.Size)))
 		gr.Table = append(gr.Table, append(row, byteSize(j.Size)))
 	}
-	gr.Notes = []string{fmt.Sprintf("%d run(s), %s of stored results. Re-print one with 'unshelved runs show N'.", len(runs), byteSize(total))}
+	gr.Notes = []string{fmt.Sprintf("%s, %s of stored results. Re-print one with 'unshelved runs show N'.", countOf(len(runs), "run", "runs"), byteSize(total))}
 	return render(g.IO.Out, g.Format, out, gr)
 }
 
@@ -514,7 +514,11 @@ func deleteRuns(cmd *cobra.Command, g *globals, db *store.DB, ids []int64) error
 	if !reclaimed {
 		msg = "run 'unshelved db vacuum' once to give their space back to the file system (later deletions then do it at once)"
 	}
-	fmt.Fprintf(g.IO.Out, "deleted run(s) %s; %s\n", strings.Join(names, ", "), msg)
+	what := "runs"
+	if len(names) == 1 {
+		what = "run"
+	}
+	fmt.Fprintf(g.IO.Out, "deleted %s %s; %s\n", what, strings.Join(names, ", "), msg)
 	return nil
 }
 
