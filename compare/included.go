@@ -180,14 +180,51 @@ func halfStepOf(x *float64) float64 {
 	return 0.5 * math.Pow(10, -float64(textDecimals(strconv.FormatFloat(*x, 'f', -1, 64))))
 }
 
+// studyDecimals is the most decimals among a published study's numbers
+// as the CSV gave them (read as floats).
+func studyDecimals(s ingest.ReviewStudy) int {
+	dec := 0
+	for _, x := range []*float64{s.TreatMean, s.TreatSD, s.CtrlMean, s.CtrlSD, s.Effect, s.SE} {
+		if x != nil {
+			dec = max(dec, textDecimals(strconv.FormatFloat(*x, 'f', -1, 64)))
+		}
+	}
+	return dec
+}
+
 // compareStudy compares one published study with one registry reading.
+// A whole number in the paper ("25") may be 25.0 or a rounding to units;
+// the study is read both ways. A match that holds only with the whole
+// number rounded to units while the study's other numbers carry decimals
+// ("25" beside "29.8") is a near match: a person decides, since near the
+// null every trial of the same size reads alike within half a unit.
 func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r registryReading) (matchLevel, string, string) {
+	level, why, sizes := compareStudyHalfSteps(rv, s, pub, r, halfStepOf)
+	dec := studyDecimals(s)
+	if level != matchSame || dec == 0 {
+		return level, why, sizes
+	}
+	inferred := func(x *float64) float64 {
+		if x == nil {
+			return 0
+		}
+		return 0.5 * math.Pow(10, -float64(max(dec, textDecimals(strconv.FormatFloat(*x, 'f', -1, 64)))))
+	}
+	if strict, _, _ := compareStudyHalfSteps(rv, s, pub, r, inferred); strict == matchSame {
+		return level, why, sizes
+	}
+	return matchPossible, why + fmt.Sprintf("; the same only if a whole number of the paper was rounded to units while its other numbers have %d decimals", dec), sizes
+}
+
+// compareStudyHalfSteps is compareStudy with the published numbers'
+// rounding given by hs.
+func compareStudyHalfSteps(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r registryReading, hs func(*float64) float64) (matchLevel, string, string) {
 	reg := r.eff
 	fromArms := pub.ConvertedFrom != "effect_se"
-	hsMeans := math.Max(halfStepOf(s.TreatMean), halfStepOf(s.CtrlMean))
-	pubPart, hsSE := halfStepOf(s.Effect), halfStepOf(s.SE)
+	hsMeans := math.Max(hs(s.TreatMean), hs(s.CtrlMean))
+	pubPart, hsSE := hs(s.Effect), hs(s.SE)
 	if fromArms {
-		pubPart, hsSE = halfStepOf(s.TreatMean)+halfStepOf(s.CtrlMean), 0 // two rounded means
+		pubPart, hsSE = hs(s.TreatMean)+hs(s.CtrlMean), 0 // two rounded means
 	}
 	regPart := 2 * r.halfStep
 	if reg.ConvertedFrom == "between_group_analysis" {

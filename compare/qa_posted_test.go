@@ -45,3 +45,34 @@ func TestPostedAnalysisCIMustBeCentred(t *testing.T) {
 		})
 	}
 }
+
+// Near the null every trial of the same size reads alike within half a
+// unit. A published study written "30.02 vs 30" (the 30 read as a whole
+// number, so rounded to units) and a different registry trial posting
+// 30.05 vs 30.00 with the same sizes and SDs: the effects 0.02 and 0.05
+// differ by 0.03, beyond the rounding of numbers with 2 decimals (0.005
+// per mean on each side), so the trial is left to a person
+// (possibly-included), never silently taken as the published study.
+func TestWholeNumberRoundingIsOnlyNear(t *testing.T) {
+	tc := offByOneLayout()
+	tr := tc.trial
+	o := layoutOutcome("Zorblax severity score at week 12", "Week 12", "MEAN", "STANDARD_DEVIATION", "points",
+		[]string{"Quenitrol", "Placebo"}, map[string][]arm{"": {{"Quenitrol", "40", "30.05", "10.00"}, {"Placebo", "40", "30.00", "10.00"}}}, []string{""})
+	tr.Outcomes = []ingest.Outcome{o}
+	for _, c := range []struct {
+		name  string
+		study ingest.ReviewStudy
+		want  string
+	}{
+		{"30.02 vs 30 (whole number beside 2 decimals)", armsStudy("S", 30.02, 10, 40, 30, 10, 40), ClassPossiblyIncluded},
+		{"30.05 vs 30: the same numbers", armsStudy("S", 30.05, 10, 40, 30, 10, 40), ClassIncluded},
+		{"30 vs 30, all whole: rounded to units", armsStudy("S", 30, 10, 40, 30, 10, 40), ClassIncluded},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			rp := ProposeForReview(tc.review, []ingest.ReviewStudy{c.study}, []ingest.Trial{tr}, MatchOptions{})
+			if got := rp.Trials[0]; got.Class != c.want {
+				t.Errorf("class %s, want %s; reasons %q", got.Class, c.want, got.Reasons[0])
+			}
+		})
+	}
+}
