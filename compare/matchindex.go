@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -60,6 +61,64 @@ func NewTrialIndex(summaries []store.TrialSummary) *TrialIndex {
 		add(ix.intv, seen, pos, s.BriefTitle, s.OfficialTitle, s.Acronym)
 	}
 	return ix
+}
+
+// TrialIndexBuilder builds a TrialIndex text by text, in any order, so
+// that an index over the whole registry needs no summaries in memory
+// (store.DB.IndexTexts feeds it).
+type TrialIndexBuilder struct {
+	ix  *TrialIndex
+	pos map[string]int32
+}
+
+// NewTrialIndexBuilder returns an empty builder.
+func NewTrialIndexBuilder() *TrialIndexBuilder {
+	return &TrialIndexBuilder{ix: &TrialIndex{cond: map[string][]int32{}, intv: map[string][]int32{}}, pos: map[string]int32{}}
+}
+
+// Add indexes one text of a trial on the condition side, the intervention
+// side or both (store.IndexCondition, store.IndexIntervention).
+func (b *TrialIndexBuilder) Add(trialID string, side int, text string) {
+	p, ok := b.pos[trialID]
+	if !ok {
+		p = int32(len(b.ix.ids))
+		b.pos[trialID] = p
+		b.ix.ids = append(b.ix.ids, trialID)
+	}
+	for _, w := range words(text) {
+		if stopWords[w] {
+			continue
+		}
+		s := stem(w)
+		if side&store.IndexCondition != 0 {
+			b.ix.cond[s] = appendPos(b.ix.cond[s], p)
+		}
+		if side&store.IndexIntervention != 0 {
+			b.ix.intv[s] = appendPos(b.ix.intv[s], p)
+		}
+	}
+}
+
+// appendPos adds p unless it is the list's last entry (texts of one trial
+// mostly come together).
+func appendPos(list []int32, p int32) []int32 {
+	if n := len(list); n > 0 && list[n-1] == p {
+		return list
+	}
+	return append(list, p)
+}
+
+// Index sorts and de-duplicates the lists and returns the index; the
+// builder must not be used afterwards.
+func (b *TrialIndexBuilder) Index() *TrialIndex {
+	for _, m := range []map[string][]int32{b.ix.cond, b.ix.intv} {
+		for k, list := range m {
+			slices.Sort(list)
+			m[k] = slices.Clip(slices.Compact(list))
+		}
+	}
+	b.pos = nil
+	return b.ix
 }
 
 // Len returns the number of indexed trials.
@@ -166,7 +225,7 @@ type MatchReport struct {
 }
 
 // Match proposes links for the reviews in the workspace. It indexes the
-// summaries of all stored trials once (store.TrialSummaries), loads the
+// texts of all stored trials once (store.DB.IndexTexts), loads the
 // full records only of each review's index candidates and of the trials
 // its studies cite (by id, alias or secondary id), and calls
 // ProposeForReview. With opts.Save the proposals are written with
@@ -177,11 +236,10 @@ func Match(ctx context.Context, db *store.DB, opts MatchOptions) (MatchReport, e
 	if err != nil {
 		return rep, err
 	}
-	sums, err := db.TrialSummaries(ctx, store.TrialFilter{})
+	ix, err := indexWorkspace(ctx, db)
 	if err != nil {
 		return rep, err
 	}
-	ix := NewTrialIndex(sums)
 	rep.TrialsIndexed = ix.Len()
 	rep.Reviews = make([]ReviewProposals, 0, len(reviews))
 	for n, rv := range reviews {

@@ -184,13 +184,18 @@ func keepScan(ctx context.Context, db *store.DB, o ScanRunOptions, run *ScanRun,
 	return nil
 }
 
-// indexWorkspace builds the candidate index over every stored trial.
+// indexWorkspace builds the candidate index over every stored trial,
+// streaming the texts (no summaries are held).
 func indexWorkspace(ctx context.Context, db *store.DB) (*TrialIndex, error) {
-	sums, err := db.TrialSummaries(ctx, store.TrialFilter{})
+	b := NewTrialIndexBuilder()
+	err := db.IndexTexts(ctx, func(id string, side int, text string) error {
+		b.Add(id, side, text)
+		return nil
+	})
 	if err != nil {
 		return nil, err
 	}
-	return NewTrialIndex(sums), nil
+	return b.Index(), nil
 }
 
 // scanOne loads a question's candidate records and scans it. A question
