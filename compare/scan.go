@@ -307,6 +307,14 @@ func finishScan(res ScanResult, in AuditInput, chosen map[string]ingest.Link, op
 	if err != nil {
 		return res, err
 	}
+	// The registry was searched: every eligible trial is a link of the
+	// question, the linked ones included (the audit sees only the links of
+	// the unlinked and no-results trials).
+	if a.RegistrySearch.Status != SearchLinked {
+		a.RegistrySearch = RegistrySearch{Status: SearchLinked, LinkedTrials: res.Flow.Eligible, EligibleTrials: res.Flow.Eligible}
+		c := a.SignificanceChanged || a.DirectionChanged || (a.MIDCrossed != nil && *a.MIDCrossed)
+		a.ConclusionChanged = &c
+	}
 	res.Missing = a.Missing
 	for _, w := range a.Warnings {
 		// The audit's analyses are named for reviews; here they are the

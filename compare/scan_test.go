@@ -223,3 +223,26 @@ func TestScanAcceptRules(t *testing.T) {
 		t.Errorf("links-file arms not used: %+v vs automatic %+v", st, auto.Trials)
 	}
 }
+
+// TestScanAllLinked: when every pooled trial links a publication nothing
+// is unlinked, so there is no shift; the registry was still searched, so
+// the question's conclusion is known not to change (and summary counts it
+// as searched, not as a question with no links).
+func TestScanAllLinked(t *testing.T) {
+	c := corpus.NewScan(corpus.ScanSettings{Questions: 1, Trials: 6, NoResults: -1, Seed: 9})
+	trials := questionTrials(c, 0)
+	for i := range trials {
+		trials[i].References = []ingest.Reference{{Type: "RESULT", PMID: "61000000"}}
+	}
+	res, err := ScanQuestion(c.Questions[0], trials, nil, ScanOptions{Audit: Options{SkipSelection: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Shift != nil || res.Linked.K != 6 || res.All.K != 6 || res.Audit == nil {
+		t.Fatalf("all linked: shift %v, linked k %d, all k %d", res.Shift, res.Linked.K, res.All.K)
+	}
+	a := res.Audit
+	if a.RegistrySearch.Status != SearchLinked || a.ConclusionChanged == nil || *a.ConclusionChanged {
+		t.Errorf("registry search %+v, conclusion changed %v", a.RegistrySearch, a.ConclusionChanged)
+	}
+}

@@ -14,7 +14,8 @@ import (
 type ScanSettings struct {
 	Questions int // [40]
 	// Trials is the number of eligible trials with results per question
-	// [12]; NoResults the eligible trials without results [2].
+	// [12]; NoResults the eligible trials without results [2; a negative
+	// value makes none].
 	Trials, NoResults int
 	// LinkedShare is the chance that a trial's record links a results
 	// publication [0.6].
@@ -42,6 +43,7 @@ func (s ScanSettings) withDefaults() ScanSettings {
 	if s.NoResults == 0 {
 		s.NoResults = 2
 	}
+	s.NoResults = max(s.NoResults, 0)
 	if s.LinkedShare == 0 {
 		s.LinkedShare = 0.6
 	}
