@@ -34,46 +34,39 @@ func benchWorkspace(b *testing.B, dir string, n int) string {
 // BenchmarkAuditEndToEnd audits a workspace of 2,000 generated reviews of
 // 12 registered trials as 'unshelved audit --format jsonl' does: inputs
 // read from the store, the whole battery, each result written to a file
-// and stored as the run, bootstrap off and at the default 1,000
-// replicates. Run with -benchtime 1x; testdata/bench/audit.sh runs the
-// command itself on 2,000 and 20,000 reviews beside a Python loop.
+// and stored as the run. Run with -benchtime 1x; testdata/bench/audit.sh
+// runs the command itself on 2,000 and 20,000 reviews beside a Python
+// loop.
 func BenchmarkAuditEndToEnd(b *testing.B) {
 	dir := b.TempDir()
 	path := benchWorkspace(b, dir, 2000)
-	for _, bc := range []struct {
-		name string
-		boot int
-	}{{"bootstrap=0", 0}, {"bootstrap=1000", 1000}} {
-		b.Run(bc.name, func(b *testing.B) {
-			ctx := context.Background()
-			db, err := store.Open(ctx, path)
-			if err != nil {
-				b.Fatal(err)
-			}
-			defer db.Close()
-			for b.Loop() {
-				f, err := os.Create(filepath.Join(dir, "out.jsonl"))
-				if err != nil {
-					b.Fatal(err)
-				}
-				w := bufio.NewWriter(f)
-				run, err := compare.RunAuditEach(ctx, db, nil, compare.Options{Bootstrap: bc.boot, Seed: compare.DefaultSeed}, "bench",
-					compare.RunOptions{Workers: runtime.GOMAXPROCS(0), JSON: true}, func(r compare.AuditResult) error {
-						if _, err := w.Write(r.JSON); err != nil {
-							return err
-						}
-						return w.WriteByte('\n')
-					})
-				if err != nil || run.Reviews != 2000 {
-					b.Fatal(err, run.Reviews)
-				}
-				if err := w.Flush(); err != nil {
-					b.Fatal(err)
-				}
-				f.Close()
-				b.ReportMetric(float64(run.Bytes)/float64(run.Reviews), "stored-B/review")
-			}
-			b.ReportMetric(float64(b.Elapsed().Microseconds())/float64(b.N*2000), "us/review")
-		})
+	ctx := context.Background()
+	db, err := store.Open(ctx, path)
+	if err != nil {
+		b.Fatal(err)
 	}
+	defer db.Close()
+	for b.Loop() {
+		f, err := os.Create(filepath.Join(dir, "out.jsonl"))
+		if err != nil {
+			b.Fatal(err)
+		}
+		w := bufio.NewWriter(f)
+		run, err := compare.RunAuditEach(ctx, db, nil, compare.Options{Seed: compare.DefaultSeed}, "bench",
+			compare.RunOptions{Workers: runtime.GOMAXPROCS(0), JSON: true}, func(r compare.AuditResult) error {
+				if _, err := w.Write(r.JSON); err != nil {
+					return err
+				}
+				return w.WriteByte('\n')
+			})
+		if err != nil || run.Reviews != 2000 {
+			b.Fatal(err, run.Reviews)
+		}
+		if err := w.Flush(); err != nil {
+			b.Fatal(err)
+		}
+		f.Close()
+		b.ReportMetric(float64(run.Bytes)/float64(run.Reviews), "stored-B/review")
+	}
+	b.ReportMetric(float64(b.Elapsed().Microseconds())/float64(b.N*2000), "us/review")
 }

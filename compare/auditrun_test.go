@@ -118,7 +118,7 @@ func TestAuditEachStopsOnEmitError(t *testing.T) {
 // TestStoredSizePerReview packs the audits of 300 generated reviews of 12
 // studies each as a stored run does, checks that each decodes to the very
 // JSON text printed, and that a review takes at most 2 KB on average (the
-// target of the stored-runs design), with the default bootstrap on.
+// target of the stored-runs design), with the default options.
 func TestStoredSizePerReview(t *testing.T) {
 	b := batchgen.Generate(batchgen.Settings{Reviews: 300, MinStudies: 12, MaxStudies: 12, Seed: 3})
 	ctx := context.Background()
@@ -135,7 +135,7 @@ func TestStoredSizePerReview(t *testing.T) {
 	var printed [][]byte
 	err = compare.AuditEach(ctx, len(b.Inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
 		return b.Inputs[i], nil
-	}, compare.Options{Bootstrap: 1000, Seed: compare.DefaultSeed}, compare.StreamOptions{Workers: 2, Packer: w.Packer()}, func(r compare.AuditResult) error {
+	}, compare.Options{Seed: compare.DefaultSeed}, compare.StreamOptions{Workers: 2, Packer: w.Packer()}, func(r compare.AuditResult) error {
 		printed = append(printed, r.JSON)
 		return w.Add(ctx, r.Packed)
 	})

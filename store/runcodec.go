@@ -109,6 +109,7 @@ type numberModel struct {
 	recent [repeatWindow]float64
 	n      int // numbers seen
 	byKey  map[string]*keyHistory
+	last   map[uint64]int // bit pattern -> its latest position in the stream (encoder only)
 }
 
 // keyHistory holds the last values of one key, and their offsets from the
@@ -236,6 +237,7 @@ func packJSON(js []byte) ([]byte, error) {
 	nums := make([]byte, 0, len(js)/8)
 	var sc jsonScanner
 	m := newNumberModel()
+	m.last = make(map[uint64]int, 512)
 	var scratchBuf [40]byte
 	scratch := scratchBuf[:0]
 	var last []byte // raw text of the last string
@@ -288,6 +290,7 @@ func packJSON(js []byte) ([]byte, error) {
 			continue
 		}
 		nums = appendNumber(nums, m, sc.key, x, tok)
+		m.last[math.Float64bits(x)] = m.n
 		m.add(sc.key, x)
 	}
 	out := binary.AppendUvarint(make([]byte, 0, len(tmpl)+len(nums)+4), uint64(len(tmpl)))
@@ -298,10 +301,8 @@ func packJSON(js []byte) ([]byte, error) {
 // appendNumber appends the cheapest code of x, whose text is tok.
 func appendNumber(dst []byte, m *numberModel, key string, x float64, tok []byte) []byte {
 	bits := math.Float64bits(x)
-	for i := 0; i < min(m.n, repeatWindow); i++ {
-		if math.Float64bits(m.at(i)) == bits {
-			return append(dst, byte(i))
-		}
+	if pos, ok := m.last[bits]; ok && m.n-1-pos < repeatWindow {
+		return append(dst, byte(m.n-1-pos))
 	}
 	best, bestTag := uint64(math.MaxUint64), -1
 	pred, ok := m.predictions(key)

@@ -2,9 +2,10 @@
 # Audit benchmark: builds the binary, writes workspaces of generated
 # reviews (12 registered trials each, compare/internal/batchgen), and runs
 # side by side, ROUNDS times each: 'unshelved audit --format json' to a
-# file with the run stored, bootstrap off and at the default 1,000
-# replicates, and the plain statsmodels DerSimonian-Laird + Egger loop of
-# audit_statsmodels.py on the same reviews. Prints each run and the
+# file with the run stored (default options: the shift interval is
+# analytic, there is no bootstrap), and the plain statsmodels
+# DerSimonian-Laird + Egger loop of audit_statsmodels.py on the same
+# reviews. Prints each run and the
 # medians: wall time, CPU time, peak RSS, microseconds per review, the
 # speed ratio, and the workspace's growth per run per review.
 #
@@ -69,16 +70,14 @@ for N in "${SIZES[@]}"; do
 	"$WORK/batchws" -db "$DB" -reviews "$N" -studies 12 -seed 1
 	echo "== $N reviews of 12 registered trials (workspace $(($(dbsize "$DB") / 1000000)) MB)"
 	declare -A W C R
-	for k in go0 go1000 py; do W[$k]=""; C[$k]=""; R[$k]=""; done
+	for k in go py; do W[$k]=""; C[$k]=""; R[$k]=""; done
 	GROW=""
 	for round in $(seq "$ROUNDS"); do
-		for k in go0 go1000 py; do
+		for k in go py; do
 			case $k in
-			go0 | go1000)
+			go)
 				before=$(dbsize "$DB")
-				boot=0
-				[[ $k == go1000 ]] && boot=1000
-				timed "$k" "$BIN" --db "$DB" --quiet --format json audit --bootstrap "$boot"
+				timed "$k" "$BIN" --db "$DB" --quiet --format json audit
 				after=$(dbsize "$DB")
 				GROW+=" $(awk -v a="$after" -v b="$before" -v n="$N" 'BEGIN {printf "%.0f", (a-b)/n}')"
 				;;
@@ -92,13 +91,13 @@ for N in "${SIZES[@]}"; do
 			printf "round %d %-7s wall %7.2f s  cpu %7.2f s  peak RSS %5s MB\n" "$round" "$k" "$T_WALL" "$T_CPU" "$T_RSS"
 		done
 	done
-	for k in go0 go1000 py; do
+	for k in go py; do
 		w=$(median <<<"${W[$k]}")
 		printf "median %-7s wall %7.2f s  cpu %7.2f s  peak RSS %5s MB  %6.0f us/review (wall)\n" "$k" "$w" \
 			"$(median <<<"${C[$k]}")" "$(median <<<"${R[$k]}")" "$(awk -v w="$w" -v n="$N" 'BEGIN {print w/n*1e6}')"
 	done
 	wpy=$(median <<<"${W[py]}")
-	echo "speed vs the Python loop, per review (median wall): bootstrap off $(awk -v a="$wpy" -v b="$(median <<<"${W[go0]}")" 'BEGIN {printf "%.2f", a/b}')x, default bootstrap $(awk -v a="$wpy" -v b="$(median <<<"${W[go1000]}")" 'BEGIN {printf "%.2f", a/b}')x"
+	echo "speed vs the Python loop, per review (median wall): $(awk -v a="$wpy" -v b="$(median <<<"${W[go]}")" 'BEGIN {printf "%.2f", a/b}')x; CPU: $(awk -v a="$(median <<<"${C[py]}")" -v b="$(median <<<"${C[go]}")" 'BEGIN {printf "%.2f", a/b}')x"
 	echo "workspace growth per run per review (file and WAL): median $(median <<<"$GROW") bytes"
 	"$BIN" --db "$DB" --format csv runs | awk -F, -v n="$N" 'NR > 1 {s += $9; r++} END {printf "stored results per run per review: %.0f bytes\n", s / r / n}'
 	echo "load after: $(cut -d' ' -f1-3 /proc/loadavg)"
