@@ -132,7 +132,7 @@ func MethodsFor(a ReviewAudit, opts Options, version string) Methods {
 	default:
 		est = "restricted maximum likelihood " + c.cite("reml")
 	}
-	s = append(s, fmt.Sprintf("For review %s we pooled the %s of the review in a random-effects model, with the between-study variance τ² estimated by %s, and give the inverse-variance fixed-effect estimate beside it.",
+	s = append(s, fmt.Sprintf("For review %s we pooled its %s in a random-effects model, with the between-study variance τ² estimated by %s, and give the inverse-variance fixed-effect estimate beside it.",
 		a.ReviewID, countText(a.KPublished, "published study", "published studies"), est))
 
 	requested := opts.ciMethod()
@@ -199,7 +199,7 @@ func MethodsFor(a ReviewAudit, opts Options, version string) Methods {
 		}
 		t += " A conclusion counted as changed when the two intervals differed in excluding no effect, when the estimates had opposite signs with at least one interval excluding no effect"
 		if a.MID != nil {
-			t += ", or when only one estimate reached the review's minimal important difference (" + strconv.FormatFloat(*a.MID, 'f', -1, 64) + ")"
+			t += ", or when only one estimate reached the review's minimal important difference of " + strconv.FormatFloat(*a.MID, 'f', -1, 64)
 		}
 		s = append(s, t+".")
 	}

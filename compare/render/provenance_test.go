@@ -27,6 +27,7 @@ func TestPageProvenanceBlock(t *testing.T) {
 	for _, w := range []string{
 		`<dd class="path">/ws/alpha.db</dd>`, "audit run 12, seed 3", "<code>--tau2 dl --ci wald</code>", "unshelved 7.7.7",
 		"<dd>2023-01-31</dd>", "registry/p1.jsonl.gz</span> (ctgov-jsonl): 4 trials; registry snapshot 2026-10-01 to 2026-10-08; ingested 2026-11-02",
+		"1 file, 4 trials; registry snapshot 2026-10-01 to 2026-10-08; ingested 2026-11-02<details class=\"sources\">",
 		`<tr><td>Examined</td><td class="n">9</td></tr>`,
 		"Excluded &middot; does-not-fit: comparator: 1 &middot; link-rejected: 1</td><td class=\"n\">2</td>",
 		`<tr><td>No results posted</td><td class="n">1</td></tr>`,
@@ -57,5 +58,21 @@ func TestPageProvenanceBlock(t *testing.T) {
 	}
 	if strings.Contains(buf.String(), `<p class="paste">`) {
 		t.Error("scan page carries the audit's methods paragraph")
+	}
+}
+
+func TestSourcesSummary(t *testing.T) {
+	for _, c := range []struct {
+		srcs []compare.RegistrySource
+		want string
+	}{
+		{[]compare.RegistrySource{{Trials: 2, SnapshotFrom: "2026-10-01", SnapshotTo: "2026-10-01", IngestedAt: "2026-11-02"},
+			{Trials: 1, SnapshotFrom: "2026-09-15", SnapshotTo: "2026-10-20", IngestedAt: "2026-11-05"}},
+			"2 files, 3 trials; registry snapshot 2026-09-15 to 2026-10-20; ingested 2026-11-02 to 2026-11-05"},
+		{[]compare.RegistrySource{{Trials: 1}}, "1 file, 1 trial; registry snapshot not stated; ingested date unknown"},
+	} {
+		if got := sourcesSummary(c.srcs); got != c.want {
+			t.Errorf("sourcesSummary = %q, want %q", got, c.want)
+		}
 	}
 }

@@ -89,6 +89,7 @@ var tmplFuncs = template.FuncMap{
 	"pmidURL":  pmidURL,
 	"ciName":   ciName,
 	"inputs":   derivationInputs,
+	"sources":  sourcesSummary,
 	"deref2":   func(b *bool) bool { return b != nil && *b },
 	"derefInt": func(p *int) int { return *p },
 	"pct100":   func(p *float64) string { return fmtP(scale100(p), 0) },
@@ -171,6 +172,45 @@ func derivationInputs(vs []analysis.NamedValue) string {
 		parts[i] = v.Name + " = " + strconv.FormatFloat(v.Value, 'g', 6, 64)
 	}
 	return strings.Join(parts, ", ")
+}
+
+// sourcesSummary states in one line the registry files a page's trials
+// were read from: how many files and trials, the range of the registry's
+// snapshot dates and of the ingest dates.
+func sourcesSummary(srcs []compare.RegistrySource) string {
+	trials := 0
+	var snapLo, snapHi, inLo, inHi string
+	widen := func(lo, hi *string, from, to string) {
+		if from != "" && (*lo == "" || from < *lo) {
+			*lo = from
+		}
+		if to > *hi {
+			*hi = to
+		}
+	}
+	for _, s := range srcs {
+		trials += s.Trials
+		widen(&snapLo, &snapHi, s.SnapshotFrom, s.SnapshotTo)
+		widen(&inLo, &inHi, s.IngestedAt, s.IngestedAt)
+	}
+	span := func(lo, hi, none string) string {
+		switch {
+		case lo == "":
+			return none
+		case lo == hi:
+			return lo
+		}
+		return lo + " to " + hi
+	}
+	files := "1 file"
+	if len(srcs) != 1 {
+		files = strconv.Itoa(len(srcs)) + " files"
+	}
+	tr := "1 trial"
+	if trials != 1 {
+		tr = strconv.Itoa(trials) + " trials"
+	}
+	return files + ", " + tr + "; registry snapshot " + span(snapLo, snapHi, "not stated") + "; ingested " + span(inLo, inHi, "date unknown")
 }
 
 // pageData is what one review page shows.
