@@ -443,6 +443,10 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 
 	// Unit.
 	us, unitFrom, why := unitScore(rt.rv, o.Unit)
+	if us > 0 && normUnit(rt.rv.Unit) == "%" && relativeChange(o.Title) && !relativeChange(rt.rv.Outcome) {
+		us, unitFrom = 0, ""
+		why = fmt.Sprintf("unit %q is a relative change here (%q), not the review's %q: a percent change from baseline is not a difference in percentage points", o.Unit, o.Title, rt.rv.Unit)
+	}
 	parts.Unit, op.UnitFrom = us, unitFrom
 	reasons = append(reasons, why)
 	if us == 0 {
@@ -571,6 +575,19 @@ func shareWords(a, b string) bool {
 		}
 	}
 	return false
+}
+
+// relativeChange reports whether an outcome text describes a relative
+// (percent) change, as in "Percent Change From Baseline in HbA1c".
+func relativeChange(text string) bool {
+	w := analyteWords(text)
+	for _, p := range []string{" percent change ", " percentage change ", " percent changes ", " relative change ", " per cent change "} {
+		if strings.Contains(w, p) {
+			return true
+		}
+	}
+	t := strings.ToLower(text)
+	return strings.Contains(t, "% change") || strings.Contains(t, "%change")
 }
 
 // unitScore scores a registry unit against the review's. MD reviews need
