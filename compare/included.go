@@ -73,6 +73,10 @@ type registryReading struct {
 	eff      StudyEffect
 	how      string
 	halfStep float64
+	// otherRow names the visit row read when it is not the one at the
+	// review's timepoint: a paper may report another visit of the same
+	// trial, so such a match is only near (a person decides).
+	otherRow string
 }
 
 // studyMatch is the best comparison of a trial with the review's studies.
@@ -110,22 +114,60 @@ func readingsFor(rv ingest.Review, t ingest.Trial, l ingest.Link, allTreat []str
 		v := l
 		v.TreatGroups = treat
 		groups := strings.Join(treat, "+") + " vs " + strings.Join(l.CtrlGroups, "+")
-		// Recognising a trial is not pooling it: any design is read.
-		e, err := RegistryEffectWith(rv, t, v, HarmonizeOptions{Prefer: PreferArms, AllowNonrandomized: true})
-		if err != nil {
-			continue
+		out = append(out, readingsAt(rv, t, o, v, groups, "")...)
+		// Every other visit row, read as if the review's timepoint were
+		// that row's time.
+		chosen := chosenRow(rv, o)
+		for ci, c := range o.Classes {
+			tf := ParseTimeFrame(c.Title)
+			if len(o.Classes) < 2 || ci == chosen || !tf.Usable() || tf.UpTo || len(tf.Days) != 1 {
+				continue
+			}
+			at := rv
+			weeks := tf.Days[0] / daysPerWeek
+			at.TimepointWeeks = &weeks
+			out = append(out, readingsAt(at, t, o, v, groups, c.Title)...)
 		}
-		fromAnalysis := e.ConvertedFrom == "between_group_analysis"
-		out = append(out, registryReading{eff: e, how: fmt.Sprintf("outcome %d %s, %s", o.Index, groups, e.ConvertedFrom),
-			halfStep: registryHalfStep(rv, o, v, fromAnalysis)})
-		// A posted analysis is a mean difference: compared on MD reviews only.
-		if pa := e.PostedAnalysis; pa != nil && !fromAnalysis && pa.Effect != nil && pa.SE != nil && *pa.SE > 0 && !strings.EqualFold(rv.Measure, "SMD") {
-			a := e
-			a.Effect, a.SE = *pa.Effect, *pa.SE
-			a.ConvertedFrom = "between_group_analysis"
-			out = append(out, registryReading{eff: a, how: fmt.Sprintf("outcome %d %s, posted between-group analysis", o.Index, groups),
-				halfStep: registryHalfStep(rv, o, v, true)})
-		}
+	}
+	return out
+}
+
+// chosenRow is the visit row the review's timepoint picks (selectRow), or
+// -1 when it picks none.
+func chosenRow(rv ingest.Review, o *ingest.Outcome) int {
+	if len(o.Classes) < 2 || rv.TimepointWeeks == nil {
+		return -1
+	}
+	row, _, _, err := selectRow(rv, o)
+	if err != nil {
+		return -1
+	}
+	return row
+}
+
+// readingsAt reads the link's groups as arms and, where posted, as the
+// between-group analysis; otherRow names a visit row other than the
+// review's timepoint.
+func readingsAt(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, v ingest.Link, groups, otherRow string) []registryReading {
+	// Recognising a trial is not pooling it: any design is read.
+	e, err := RegistryEffectWith(rv, t, v, HarmonizeOptions{Prefer: PreferArms, AllowNonrandomized: true})
+	if err != nil {
+		return nil
+	}
+	where := ""
+	if otherRow != "" {
+		where = fmt.Sprintf(", row %q", otherRow)
+	}
+	fromAnalysis := e.ConvertedFrom == "between_group_analysis"
+	out := []registryReading{{eff: e, how: fmt.Sprintf("outcome %d %s%s, %s", o.Index, groups, where, e.ConvertedFrom),
+		halfStep: registryHalfStep(rv, o, v, fromAnalysis), otherRow: otherRow}}
+	// A posted analysis is a mean difference: compared on MD reviews only.
+	if pa := e.PostedAnalysis; pa != nil && !fromAnalysis && pa.Effect != nil && pa.SE != nil && *pa.SE > 0 && !strings.EqualFold(rv.Measure, "SMD") {
+		a := e
+		a.Effect, a.SE = *pa.Effect, *pa.SE
+		a.ConvertedFrom = "between_group_analysis"
+		out = append(out, registryReading{eff: a, how: fmt.Sprintf("outcome %d %s%s, posted between-group analysis", o.Index, groups, where),
+			halfStep: registryHalfStep(rv, o, v, true), otherRow: otherRow})
 	}
 	return out
 }
@@ -200,6 +242,14 @@ func studyDecimals(s ingest.ReviewStudy) int {
 // null every trial of the same size reads alike within half a unit.
 func compareStudy(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffect, r registryReading) (matchLevel, string, string) {
 	level, why, sizes := compareStudyHalfSteps(rv, s, pub, r, halfStepOf)
+	if r.otherRow != "" {
+		// Another visit counts only when it reads the same (a near match
+		// at one of several other visits is too common by chance).
+		if level != matchSame {
+			return matchNone, why, sizes
+		}
+		return matchPossible, why + fmt.Sprintf("; the same at the registry's row %q, not at the review's timepoint: check which visit the review used", r.otherRow), sizes
+	}
 	dec := studyDecimals(s)
 	if level != matchSame || dec == 0 {
 		return level, why, sizes

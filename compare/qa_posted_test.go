@@ -76,3 +76,27 @@ func TestWholeNumberRoundingIsOnlyNear(t *testing.T) {
 		})
 	}
 }
+
+// A paper may report another visit of the same trial than the review's
+// timepoint (the review took what the paper gave). Its numbers are the
+// registry's row for that visit: such a trial must not be registry-only
+// (its week-12 row would be added beside its own week-8 numbers, the same
+// trial counted twice); it is left to a person. The study at the review's
+// timepoint stays included, and a different trial stays registry-only.
+func TestOtherVisitOfSameTrialIsPossiblyIncluded(t *testing.T) {
+	tc := visitLayouts()[2] // review timepoint: week 12, the last row
+	for _, c := range []struct {
+		study ingest.ReviewStudy
+		want  string
+	}{
+		{armsStudy("Paper at week 8", 27.5, 8.4, 60, 30.1, 8.0, 62), ClassPossiblyIncluded},
+		{armsStudy("Paper at week 4", 30.2, 8.1, 60, 31.0, 8.3, 62), ClassPossiblyIncluded},
+		{armsStudy("Paper at week 12", 24.8, 8.6, 60, 29.9, 8.2, 62), ClassIncluded},
+		{tc.other, ClassRegistryOnly},
+	} {
+		rp := ProposeForReview(tc.review, []ingest.ReviewStudy{c.study}, []ingest.Trial{tc.trial}, MatchOptions{})
+		if got := rp.Trials[0]; got.Class != c.want {
+			t.Errorf("%s: class %s, want %s; reasons %q", c.study.Study, got.Class, c.want, got.Reasons[0])
+		}
+	}
+}
