@@ -169,11 +169,13 @@ func runScan(ctx context.Context, db *store.DB, questions []ingest.Review, o Sca
 // keepScan stores and emits (or keeps) one result.
 func keepScan(ctx context.Context, db *store.DB, o ScanRunOptions, run *ScanRun, r ScanResult) error {
 	if o.Store {
-		b, err := json.Marshal(r)
-		if err != nil {
+		var b strings.Builder
+		enc := json.NewEncoder(&b)
+		enc.SetEscapeHTML(false) // as printed, so that 'runs show' gives the same bytes
+		if err := enc.Encode(r); err != nil {
 			return fmt.Errorf("encode scan of %s: %w", r.QuestionID, err)
 		}
-		if err := db.SaveRunResult(ctx, run.RunID, r.QuestionID, string(b)); err != nil {
+		if err := db.SaveRunResult(ctx, run.RunID, r.QuestionID, strings.TrimSuffix(b.String(), "\n")); err != nil {
 			return err
 		}
 	}

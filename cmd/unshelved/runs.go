@@ -239,6 +239,8 @@ func showRun(cmd *cobra.Command, g *globals, id int64, kind string, indent bool)
 			return fmt.Errorf("decode summary run %d: %w", id, err)
 		}
 		return render(g.IO.Out, g.Format, s, summaryGrid([]storedSummary{{RunID: run.ID, Summary: s}}))
+	case "scan":
+		return showScanRun(ctx, g, db, run)
 	}
 	return fmt.Errorf("run %d is a %s run, which 'runs show' cannot print", id, run.Kind)
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -131,6 +132,11 @@ func TestScanDemo(t *testing.T) {
 	s.Close()
 	if err != nil || len(runs) != 1 || runs[0].Status != store.RunComplete {
 		t.Fatalf("stored scan runs %+v (%v), want one complete", runs, err)
+	}
+	// The stored run re-prints the same bytes.
+	code, shown, stderr := runCLI(t, "", "--db", db, "--format", "json", "runs", "show", fmt.Sprint(runs[0].ID))
+	if code != exitOK || shown != stdout {
+		t.Errorf("runs show %d: exit %d, same bytes %v\n%s", runs[0].ID, code, shown == stdout, stderr)
 	}
 	page, err := os.ReadFile(filepath.Join(dir, "pages", "Q-TINN-01.html"))
 	if err != nil || !strings.Contains(string(page), "registry-internal comparison") {

@@ -2,12 +2,14 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
 
 	"unshelved/compare"
+	"unshelved/store"
 )
 
 // scanWriter streams scan results: JSON array elements and CSV rows as
@@ -18,6 +20,7 @@ type scanWriter struct {
 	level  float64
 	n      int
 	cw     *csv.Writer
+	js     *jsonStream
 	table  [][]string
 }
 
@@ -62,19 +65,27 @@ func poolCell(p compare.ScanPool) string {
 }
 
 func (s *scanWriter) add(r compare.ScanResult) error {
-	defer func() { s.n++ }()
-	switch s.format {
-	case "json":
-		b, err := json.MarshalIndent(r, "  ", "  ")
-		if err != nil {
+	if s.format == "json" || s.format == "jsonl" {
+		var buf bytes.Buffer
+		enc := json.NewEncoder(&buf)
+		enc.SetEscapeHTML(false)
+		if err := enc.Encode(r); err != nil {
 			return err
 		}
-		sep := ",\n  "
-		if s.n == 0 {
-			sep = "[\n  "
+		return s.addJSON(r, bytes.TrimSuffix(buf.Bytes(), []byte("\n")))
+	}
+	return s.addJSON(r, nil)
+}
+
+// addJSON adds a result whose compact JSON is js (as stored with a run).
+func (s *scanWriter) addJSON(r compare.ScanResult, js []byte) error {
+	defer func() { s.n++ }()
+	switch s.format {
+	case "json", "jsonl":
+		if s.js == nil {
+			s.js = &jsonStream{w: s.w, lines: s.format == "jsonl", indent: s.format == "json"}
 		}
-		_, err = fmt.Fprintf(s.w, "%s%s", sep, bytes.ReplaceAll(b, []byte(`\u003c`), []byte("<")))
-		return err
+		return s.js.add(js)
 	case "csv":
 		if s.cw == nil {
 			s.cw = csv.NewWriter(s.w)
@@ -114,13 +125,11 @@ func (s *scanWriter) add(r compare.ScanResult) error {
 
 func (s *scanWriter) finish() error {
 	switch s.format {
-	case "json":
-		if s.n == 0 {
-			_, err := io.WriteString(s.w, "[]\n")
-			return err
+	case "json", "jsonl":
+		if s.js == nil {
+			s.js = &jsonStream{w: s.w, lines: s.format == "jsonl", indent: s.format == "json"}
 		}
-		_, err := io.WriteString(s.w, "\n]\n")
-		return err
+		return s.js.close()
 	case "csv":
 		if s.cw == nil {
 			return writeCSV(s.w, scanColumns, nil)
@@ -138,4 +147,28 @@ func (s *scanWriter) finish() error {
 		"Subgroup p tests unlinked - linked; unlinked share is of randomized participants; PMID rate: pooled trials whose record gives a PMID.",
 		"A missing RESULT reference does not prove non-publication: registry links to publications are incomplete.",
 	}, cautions...))
+}
+
+// showScanRun re-prints a stored scan run in question order.
+func showScanRun(ctx context.Context, g *globals, db *store.DB, run store.Run) error {
+	var o struct {
+		Audit struct {
+			Level float64 `json:"level"`
+		} `json:"audit"`
+	}
+	if err := json.Unmarshal([]byte(run.Options), &o); err != nil || !(o.Audit.Level > 0 && o.Audit.Level < 1) {
+		return fmt.Errorf("run %d: options hold no confidence level: %s", run.ID, run.Options)
+	}
+	out := newScanWriter(g.IO.Out, g.Format, o.Audit.Level)
+	err := db.EachRunResult(ctx, run.ID, func(id string, js []byte) error {
+		var r compare.ScanResult
+		if err := json.Unmarshal(js, &r); err != nil {
+			return fmt.Errorf("decode question %s: %w", id, err)
+		}
+		return out.addJSON(r, js)
+	})
+	if err != nil {
+		return err
+	}
+	return out.finish()
 }
