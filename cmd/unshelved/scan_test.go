@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -156,5 +157,52 @@ func TestScanDemo(t *testing.T) {
 	}
 	if err := json.Unmarshal([]byte(stdout), &sum); err != nil || sum.Reviews != 3 {
 		t.Errorf("summary --scan covers %d questions (%v), want 3:\n%s", sum.Reviews, err, stdout)
+	}
+}
+
+// TestScanDemoReference checks the scan of the tinnitus question against
+// testdata/reference/scan_demo_statsmodels.py: the same records converted
+// by an independent implementation of the handbook formulas, arms picked
+// by group title, pooled with Debian's python3-statsmodels 0.13.5
+// (combine_effects, DerSimonian-Laird). statsmodels does not floor tau² at
+// 0: for the linked trials it gives -0.818, so the floored random-effects
+// estimate is its fixed-effect one, used below with tau² 0.
+func TestScanDemoReference(t *testing.T) {
+	dir := t.TempDir()
+	if code, _, stderr := runCLI(t, "", "demo", "-q", "--out", filepath.Join(dir, "demo")); code != exitOK {
+		t.Fatalf("demo: %d\n%s", code, stderr)
+	}
+	db := filepath.Join(dir, "demo", "unshelved.db")
+	if code, _, stderr := runCLI(t, "", "--db", db, "ingest", "reviews", demoQuestions(t, dir)); code != exitOK {
+		t.Fatalf("ingest questions: %d\n%s", code, stderr)
+	}
+	code, stdout, stderr := runCLI(t, "", "--db", db, "--format", "json", "scan", "--review", "Q-TINN-01", "--tau2", "dl", "--ci", "wald")
+	if code != exitOK {
+		t.Fatalf("scan: %d\n%s", code, stderr)
+	}
+	type pool struct {
+		K        int     `json:"k"`
+		Estimate float64 `json:"estimate"`
+		SE       float64 `json:"se"`
+		Tau2     float64 `json:"tau2"`
+	}
+	var got []struct {
+		Linked, All pool
+	}
+	if err := json.Unmarshal([]byte(stdout), &got); err != nil || len(got) != 1 {
+		t.Fatalf("scan JSON (%v):\n%s", err, stdout)
+	}
+	for _, c := range []struct {
+		name string
+		got  pool
+		want pool
+	}{
+		{"linked", got[0].Linked, pool{4, -5.9086436499942545, 0.9914620744835928, 0}},
+		{"all", got[0].All, pool{8, -4.553441535208565, 1.0465065193923604, 4.394898104998083}},
+	} {
+		g, w := c.got, c.want
+		if g.K != w.K || math.Abs(g.Estimate-w.Estimate) > 1e-8 || math.Abs(g.SE-w.SE) > 1e-8 || math.Abs(g.Tau2-w.Tau2) > 1e-7 {
+			t.Errorf("%s: got %+v, statsmodels %+v", c.name, g, w)
+		}
 	}
 }
