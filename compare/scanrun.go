@@ -54,6 +54,8 @@ type ScanRunOptions struct {
 	Version string
 	// Store records the run (kind "scan") with each question's result.
 	Store bool
+	// NoStore keeps RunScanSummary from recording its summary run.
+	NoStore bool
 	// Emit, when set, receives each result in question order as soon as
 	// it and every earlier one are done (results are then not kept in
 	// ScanRun.Results).
@@ -261,9 +263,11 @@ func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts Su
 	if err != nil {
 		return SummaryRun{}, fmt.Errorf("encode options: %w", err)
 	}
-	runID, err := db.StartRun(ctx, "summary", string(optJSON), o.Version, o.Scan.Audit.Seed)
-	if err != nil {
-		return SummaryRun{}, err
+	var runID int64
+	if !o.NoStore {
+		if runID, err = db.StartRun(ctx, "summary", string(optJSON), o.Version, o.Scan.Audit.Seed); err != nil {
+			return SummaryRun{}, err
+		}
 	}
 	run := SummaryRun{RunID: runID}
 	err = func() error {
@@ -281,11 +285,17 @@ func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts Su
 		}
 		run.Failed, run.Audits = sr.Failed, audits
 		run.Summary = Summarize(audits, so)
+		if o.NoStore {
+			return nil
+		}
 		b, err := json.Marshal(run.Summary)
 		if err != nil {
 			return fmt.Errorf("encode summary: %w", err)
 		}
 		return db.SaveRunResult(ctx, runID, "", string(b))
 	}()
+	if o.NoStore {
+		return run, err
+	}
 	return run, finishRun(db, runID, ctx, err)
 }

@@ -105,14 +105,14 @@ func scanRun(cmd *cobra.Command, opts *scanOptions) error {
 	if err != nil {
 		return err
 	}
-	db, err := g.openDB(cmd)
+	db, err := opts.audit.openDB(cmd)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
 	out := newScanWriter(g.IO.Out, g.Format, opts.audit.Level)
 	var audits []compare.ReviewAudit
-	ro.Store = true
+	ro.Store = !opts.audit.NoStore
 	ro.Emit = func(r compare.ScanResult) error {
 		for _, w := range r.Warnings {
 			g.progressf("%s: %s", r.QuestionID, w)
@@ -129,7 +129,10 @@ func scanRun(cmd *cobra.Command, opts *scanOptions) error {
 	if err := out.finish(); err != nil {
 		return err
 	}
-	g.progressf("scan: run %d stored; %s indexed", run.RunID, countOf(run.TrialsIndexed, "trial", "trials"))
+	if run.RunID != 0 {
+		g.progressf("scan: run %d stored", run.RunID)
+	}
+	g.progressf("scan: %s indexed", countOf(run.TrialsIndexed, "trial", "trials"))
 	g.progressf("scan: %s", compare.ScanCaution)
 	if opts.ReportDir != "" {
 		index, err := plotrender.WriteReport(opts.ReportDir, audits, plotrender.ReportOptions{Level: opts.audit.Level, Scan: true})

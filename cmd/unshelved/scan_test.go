@@ -144,9 +144,16 @@ func TestScanDemo(t *testing.T) {
 		t.Errorf("question page missing or not marked registry-internal (%v)", err)
 	}
 
-	code, stdout, stderr = runCLI(t, "", "--db", db, "--format", "csv", "scan", "--review", "Q-TINN-01")
+	code, stdout, stderr = runCLI(t, "", "--db", db, "--format", "csv", "scan", "--review", "Q-TINN-01", "--no-store")
 	if code != exitOK || !strings.HasPrefix(stdout, "question_id,") || strings.Count(stdout, "\n") != 2 {
 		t.Errorf("scan CSV: %d\n%s\n%s", code, stdout, stderr)
+	}
+	if s, err := store.Open(t.Context(), db); err == nil {
+		runs, _ := s.Runs(t.Context(), "scan")
+		s.Close()
+		if len(runs) != 1 {
+			t.Errorf("scan --no-store stored a run: %d scan runs", len(runs))
+		}
 	}
 	code, stdout, stderr = runCLI(t, "", "--db", db, "--format", "json", "summary", "--scan")
 	if code != exitOK {

@@ -140,8 +140,11 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		opts.scan.audit = opts.audit
 		var ro compare.ScanRunOptions
 		if ro, err = opts.scan.runOptions(); err == nil {
+			ro.NoStore = opts.audit.NoStore
 			run, err = compare.RunScanSummary(ctx, db, ro, so)
 		}
+		g.progressf("summary --scan: each question counts as a review; its linked trials play the published studies, its unlinked trials the registry additions")
+		g.progressf("summary --scan: %s", compare.ScanCaution)
 	} else {
 		run, err = compare.RunSummaryOpts(ctx, db, opts.audit.compareOptions(), so, version,
 			compare.RunOptions{Workers: opts.audit.Workers, NoStore: opts.audit.NoStore})
