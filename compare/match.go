@@ -460,6 +460,9 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 	case "SECONDARY":
 		parts.Primary = 0.7
 		reasons = append(reasons, "secondary outcome")
+	case "":
+		parts.Primary = 0.5
+		reasons = append(reasons, "outcome type not stated")
 	default:
 		parts.Primary = 0.5
 		reasons = append(reasons, strings.ToLower(o.Type)+" outcome")

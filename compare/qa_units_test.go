@@ -38,3 +38,22 @@ func TestPercentChangeIsNotPercentUnit(t *testing.T) {
 		}
 	}
 }
+
+// An outcome without a type (neutral CSV has no primary/secondary column)
+// is said so in the reasons, not written as a bare " outcome".
+func TestUntypedOutcomeReason(t *testing.T) {
+	rv := layoutReview("symptom score", "points", 12)
+	o := layoutOutcome("Zorblax Symptom Score", "Week 12", "MEAN", "STANDARD_DEVIATION", "points", []string{"Quenitrol", "Placebo"},
+		map[string][]arm{"": {{"Quenitrol", "60", "24.8", "8.6"}, {"Placebo", "62", "29.9", "8.2"}}}, []string{""})
+	o.Type = ""
+	rp := ProposeForReview(rv, nil, []ingest.Trial{layoutTrial("NCT99990778", o)}, MatchOptions{})
+	reasons := rp.Trials[0].Outcomes[0].Reasons
+	for _, r := range reasons {
+		if strings.TrimSpace(r) == "outcome" {
+			t.Errorf("bare reason %q in %q", r, reasons)
+		}
+	}
+	if !strings.Contains(strings.Join(reasons, "; "), "outcome type not stated") {
+		t.Errorf("reasons %q: want \"outcome type not stated\"", reasons)
+	}
+}
