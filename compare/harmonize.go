@@ -253,11 +253,17 @@ func RegistryEffectWith(rv ingest.Review, t ingest.Trial, l ingest.Link, opts Ha
 			}
 			if conv != nil {
 				before := a
-				a.Mean = conv.Scale*a.Mean + conv.Offset
+				// A change from baseline is a difference of two levels:
+				// the offset of a conversion cancels in it.
+				offset, formula := conv.Offset, fmt.Sprintf("value_%s = %g * value_%s + %g; SD scales by %g", conv.To, conv.Scale, conv.From, conv.Offset, math.Abs(conv.Scale))
+				if conv.Offset != 0 && changeFlags(rv, o) != nil {
+					offset, formula = 0, fmt.Sprintf("change_%s = %g * change_%s (the offset %g cancels in a change from baseline); SD scales by %g", conv.To, conv.Scale, conv.From, conv.Offset, math.Abs(conv.Scale))
+				}
+				a.Mean = conv.Scale*a.Mean + offset
 				a.SD = math.Abs(conv.Scale) * a.SD
 				d = append(d, analysis.Derivation{
 					Method:  "unit_conversion",
-					Formula: fmt.Sprintf("value_%s = %g * value_%s + %g; SD scales by %g", conv.To, conv.Scale, conv.From, conv.Offset, math.Abs(conv.Scale)),
+					Formula: formula,
 					Inputs:  []analysis.NamedValue{{Name: "mean", Value: before.Mean}, {Name: "sd", Value: before.SD}},
 					Output:  []analysis.NamedValue{{Name: "mean", Value: a.Mean}, {Name: "sd", Value: a.SD}},
 					Source:  conv.Source,

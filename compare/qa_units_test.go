@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"math"
 	"strings"
 	"testing"
 
@@ -55,5 +56,33 @@ func TestUntypedOutcomeReason(t *testing.T) {
 	}
 	if !strings.Contains(strings.Join(reasons, "; "), "outcome type not stated") {
 		t.Errorf("reasons %q: want \"outcome type not stated\"", reasons)
+	}
+}
+
+// A change from baseline in HbA1c posted in % converts to mmol/mol by the
+// scale alone (10.929, the IFCC-NGSP master equation's slope): the offset
+// of the equation belongs to levels, not to changes. Hand computation:
+// -0.80 % -> -8.7432 mmol/mol, -0.20 % -> -2.1858; the difference
+// -6.5574 is the same either way, but the arm means (compared with a
+// paper's arms, and shown in the derivations) were -32.24 and -25.68.
+func TestChangeFromBaselineConvertsByScaleOnly(t *testing.T) {
+	rv := layoutReview("Change in HbA1c", "mmol/mol", 24)
+	o := layoutOutcome("Change From Baseline in HbA1c at Week 24", "Baseline to Week 24", "MEAN", "STANDARD_DEVIATION", "percentage of haemoglobin",
+		[]string{"Quenitrol", "Placebo"}, map[string][]arm{"": {{"Quenitrol", "60", "-0.80", "0.90"}, {"Placebo", "62", "-0.20", "0.85"}}}, []string{""})
+	tr := layoutTrial("NCT99990779", o)
+	l := ingest.Link{TreatGroups: []string{"OG000"}, CtrlGroups: []string{"OG001"}, UnitFrom: "percentage of haemoglobin"}
+	e, err := RegistryEffect(rv, tr, l)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e.armMeans == nil || math.Abs(e.armMeans[0]-(-8.7432)) > 1e-9 || math.Abs(e.armMeans[1]-(-2.1858)) > 1e-9 || math.Abs(e.Effect-(-6.5574)) > 1e-9 {
+		t.Errorf("arm means %v, effect %v: want -8.7432, -2.1858 and -6.5574", e.armMeans, e.Effect)
+	}
+	// The same trial in the review without its id, arms in mmol/mol as a
+	// paper would round them, is recognised.
+	st := armsStudy("Paper", -8.7, 9.8, 60, -2.2, 9.3, 62)
+	rp := ProposeForReview(rv, []ingest.ReviewStudy{st}, []ingest.Trial{tr}, MatchOptions{})
+	if got := rp.Trials[0]; got.Class != ClassIncluded {
+		t.Errorf("class %s, want included; reasons %q", got.Class, got.Reasons[0])
 	}
 }
