@@ -273,6 +273,7 @@ func reviewBias(a ReviewAudit, opts Options) BiasReport {
 		ev.Overstatement, ev.CILow, ev.CIHigh = a.Shift.OverstatementSD, a.Shift.OverstatementCILow, a.Shift.OverstatementCIHigh
 	}
 	ev.MissingShare = a.Missing.Share
+	ev.PublishedWithoutN = a.Missing.PublishedWithoutN
 	return BiasFor(a.Studies[:a.KPublished], a.Measure, BiasOptions{
 		Level: opts.level(), Tau2: opts.tau2(), Direction: favourable(a.Better), Evidence: ev,
 		SkipSelection: opts.SkipSelection,

@@ -36,10 +36,13 @@ const MissingShareConcern = 0.20
 // with its confidence interval (nil when it could not be estimated); all
 // nil when no registry trial was added. MissingShare is the share of
 // randomized participants in eligible registered trials that posted no
-// results (nil when there are none or it is unknown).
+// results (nil when there are none or it is unknown). PublishedWithoutN
+// counts the published studies that give no group sizes and so are left
+// out of the share's denominator: with any, the share is an upper bound.
 type RegistryEvidence struct {
 	Overstatement, CILow, CIHigh *float64
 	MissingShare                 *float64
+	PublishedWithoutN            int
 }
 
 // GradeInput is the evidence Grade combines. Nil pointers mean the method
@@ -130,13 +133,18 @@ func Grade(in GradeInput) GradeHint {
 	}
 	if r.MissingShare != nil {
 		m := *r.MissingShare
+		share, bound := fmt.Sprintf("%.0f%%", 100*m), ""
+		if r.PublishedWithoutN > 0 {
+			share = "at most " + share
+			bound = fmt.Sprintf("; %d published studies give no group sizes and are not counted", r.PublishedWithoutN)
+		}
 		if m >= MissingShareConcern {
 			serious = true
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"%.0f%% of randomized participants are in eligible registered trials that posted no results (%.0f%% or more)", 100*m, 100*MissingShareConcern))
+				"%s of randomized participants are in eligible registered trials that posted no results (%.0f%% or more%s)", share, 100*MissingShareConcern, bound))
 		} else {
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"%.0f%% of randomized participants are in eligible registered trials that posted no results (below %.0f%%)", 100*m, 100*MissingShareConcern))
+				"%s of randomized participants are in eligible registered trials that posted no results (below %.0f%%%s)", share, 100*MissingShareConcern, bound))
 		}
 	}
 	usable, flagged := 0, 0
