@@ -125,8 +125,14 @@ func Grade(in GradeInput) GradeHint {
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
 				"adding registry results: overstatement of the benefit %.2f SD (%s, below %.2f SD)", o, ci, ShiftConcernSD))
 		default:
+			// Below the threshold: three decimals where two would round up
+			// to it ("0.10 SD, but 0.10 SD or more cannot be ruled out").
+			val := fmt.Sprintf("%.2f", o)
+			if val == fmt.Sprintf("%.2f", ShiftConcernSD) {
+				val = fmt.Sprintf("%.3f", o)
+			}
 			h.Reasons = append(h.Reasons, fmt.Sprintf(
-				"adding registry results: overstatement of the benefit %.2f SD, but an overstatement of %.2f SD or more cannot be ruled out (%s)", o, ShiftConcernSD, ci))
+				"adding registry results: overstatement of the benefit %s SD, but an overstatement of %.2f SD or more cannot be ruled out (%s)", val, ShiftConcernSD, ci))
 		}
 	} else {
 		h.Reasons = append(h.Reasons, "no registry results were added, so the registry gives no direct comparison")

@@ -20,3 +20,13 @@ func TestGradeMissingShareUpperBound(t *testing.T) {
 		t.Errorf("reasons %q: no upper bound when every published study gives its sizes", h.Reasons)
 	}
 }
+
+// An overstatement just below the 0.10 SD threshold is not written as
+// "0.10 SD" beside "0.10 SD or more cannot be ruled out".
+func TestGradeOverstatementBelowThresholdNotRoundedUp(t *testing.T) {
+	o, lo, hi := 0.0959, -0.004, 0.24
+	h := Grade(GradeInput{K: 4, Registry: RegistryEvidence{Overstatement: &o, CILow: &lo, CIHigh: &hi}})
+	if !strings.Contains(h.Reasons[0], "0.096 SD") {
+		t.Errorf("reason %q: want the overstatement as 0.096 SD", h.Reasons[0])
+	}
+}
