@@ -467,10 +467,21 @@ type direction struct {
 // An estimate of exactly 0 needs no direction.
 func analysisDirection(o *ingest.Outcome, class, cat int, a ingest.Analysis, tg, cg string) direction {
 	est := a.ParamValue.Value
-	sign, where, text := statedSign(o, a, tg, cg)
+	stated := directionStatements(o, a, tg, cg)
+	var sign float64
+	var where, text string
+	if len(stated) > 0 {
+		sign, where, text = stated[0].sign, stated[0].where, stated[0].text
+	}
 	diff, rawOK := rawDifference(o, class, cat, tg, cg)
 	if est == 0 {
 		return direction{sign: 1, stated: sign != 0, why: "the posted estimate is 0: its direction does not matter"}
+	}
+	for _, s := range stated {
+		if s.sign != sign {
+			return direction{why: fmt.Sprintf("direction unknown: the record's statements contradict each other: %q in its %s puts %s first, %q in its %s puts %s first; neither is guessed (check the record with its sponsor, or leave the trial out)",
+				stated[0].clause, where, sideName(sign), s.clause, s.where, sideName(s.sign))}
+		}
 	}
 	if sign != 0 {
 		d := direction{sign: sign, stated: true, why: fmt.Sprintf("direction stated in the record's %s (%q)", where, text)}
@@ -530,28 +541,61 @@ var (
 // analysis's texts. It returns +1 when the statement puts the experimental
 // group first ("Velmorazine 10 mg minus Placebo", "Drug minus Placebo"),
 // -1 when it puts the comparator first, 0 when no text says; where names
-// the field and text quotes it.
+// the field and text quotes it. It reports the first statement only;
+// directionStatements lists them all.
 func statedSign(o *ingest.Outcome, a ingest.Analysis, tg, cg string) (float64, string, string) {
+	if s := directionStatements(o, a, tg, cg); len(s) > 0 {
+		return s[0].sign, s[0].where, s[0].text
+	}
+	return 0, "", ""
+}
+
+// statement is one statement of direction found in a record.
+type statement struct {
+	sign                float64
+	where, text, clause string // field, its whole text, the statement itself
+}
+
+// directionStatements lists every statement of the estimate's direction
+// in the analysis's texts, in field order, each occurrence of each
+// separator read, so that a record contradicting itself can be seen.
+func directionStatements(o *ingest.Outcome, a ingest.Analysis, tg, cg string) []statement {
 	tt, ct := groupTitle(o, tg), groupTitle(o, cg)
 	fields := []struct{ name, text string }{
 		{"estimate comment", a.EstimateComment}, {"group description", a.GroupDescription}, {"parameter type", a.ParamType},
 		{"statistical comment", a.StatisticalComment}, {"analysis description", a.OtherDescription},
 	}
+	var out []statement
 	for _, f := range fields {
 		low := " " + strings.ToLower(strings.ReplaceAll(f.text, `\`, "")) + " "
 		for _, sep := range directionSeparators {
-			i := strings.Index(low, sep)
-			if i <= 0 {
-				continue
-			}
-			left := clauseEnd(low[:i])
-			right := clauseStart(low[i+len(sep):])
-			if s := sideSign(left, right, tt, ct, a, tg); s != 0 {
-				return s, f.name, strings.TrimSpace(f.text)
+			for from := 0; ; {
+				j := strings.Index(low[from:], sep)
+				if j < 0 {
+					break
+				}
+				i := from + j
+				from = i + len(sep)
+				if i <= 0 {
+					continue
+				}
+				left := clauseEnd(low[:i])
+				right := clauseStart(low[i+len(sep):])
+				if s := sideSign(left, right, tt, ct, a, tg); s != 0 {
+					out = append(out, statement{s, f.name, strings.TrimSpace(f.text), strings.TrimSpace(left) + sep + strings.TrimSpace(right)})
+				}
 			}
 		}
 	}
-	return 0, "", ""
+	return out
+}
+
+// sideName names the group a statement of the given sign puts first.
+func sideName(sign float64) string {
+	if sign > 0 {
+		return "the experimental group"
+	}
+	return "the comparator"
 }
 
 // clauseEnd keeps the part of s after its last clause break.
