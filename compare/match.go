@@ -205,8 +205,11 @@ func prepareReview(rv ingest.Review, studies []ingest.ReviewStudy) *reviewTerms 
 // measures and groups that fit a review, and classes every fitting trial as
 // included, missed-publication, registry-only or no-results. Trials that do
 // not fit (another condition or intervention, no comparator of the review's
-// kind, not randomised, completed after the search date) are listed in
-// Excluded with the failed criteria and are not proposed. It is a pure
+// kind, not interventional, completed after the search date, or not
+// randomised and without results) are listed in Excluded with the failed
+// criteria and are not proposed. Trials with results that are not
+// randomised or are crossover are proposed with their Design, never
+// accepted automatically. It is a pure
 // function: candidates are typically the survivors of a TrialIndex search
 // plus the trials the review's studies cite.
 func ProposeForReview(rv ingest.Review, studies []ingest.ReviewStudy, candidates []ingest.Trial, opts MatchOptions) ReviewProposals {
@@ -297,6 +300,10 @@ func proposeTrial(rt *reviewTerms, t ingest.Trial, opts MatchOptions) (*TrialPro
 		return nil, &ExcludedTrial{TrialID: t.TrialID, Failed: fit.failed, Reasons: fit.reasons}
 	}
 	hasResults := len(t.Outcomes) > 0 || (t.HasResults != nil && *t.HasResults)
+	if !hasResults && fit.notRandomized != "" && tp.Class == "" {
+		// Nothing to decide on, and it is not missing randomized evidence.
+		return nil, &ExcludedTrial{TrialID: t.TrialID, Failed: []string{"design"}, Reasons: append(fit.reasons, fit.notRandomized+" and no results posted")}
+	}
 	if !hasResults {
 		if tp.Class == "" {
 			tp.Class = ClassNoResults
@@ -637,6 +644,10 @@ type trialFitResult struct {
 	score   float64
 	failed  []string
 	reasons []string
+	// notRandomized is set when the allocation is not randomized: such a
+	// trial with results is proposed for a person to decide (never
+	// accepted automatically); without results it is excluded.
+	notRandomized string
 }
 
 // Penalties for criteria the record leaves unknown (not failures).
@@ -719,7 +730,8 @@ func trialFit(rt *reviewTerms, t ingest.Trial) trialFitResult {
 		r.score *= fitUnknown
 		r.reasons = append(r.reasons, "allocation not stated")
 	default:
-		fail("design", "not randomized ("+t.Allocation+")")
+		r.notRandomized = "not randomized (allocation " + t.Allocation + ")"
+		r.reasons = append(r.reasons, r.notRandomized+": proposed for a person to decide, never accepted automatically")
 	}
 
 	// Completion before the search date.

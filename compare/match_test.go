@@ -1,7 +1,9 @@
 package compare
 
 import (
+	"fmt"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 
@@ -168,18 +170,20 @@ func TestDateAfter(t *testing.T) {
 	}
 }
 
-// TestAcceptAboveNeverTakesCrossover: a crossover record that fits the
-// review perfectly is proposed with its design class and a reason, and
-// --accept-above does not accept it; the same record as a parallel trial
-// is accepted.
+// TestAcceptAboveNeverTakesCrossover: a crossover, non-randomized or
+// single-group record that fits the review perfectly is proposed with its
+// design class and a reason, undecided, and --accept-above (even 0.01)
+// does not accept it; the same record as a randomized parallel trial is
+// accepted. A non-randomized record without results is excluded (nothing
+// to decide on, and not missing randomized evidence).
 func TestAcceptAboveNeverTakesCrossover(t *testing.T) {
 	weeks := 12.0
 	rv := ingest.Review{ReviewID: "R1", Measure: "MD", Outcome: "Itch intensity (numeric rating scale)", Unit: "points",
 		Better: "lower", TimepointWeeks: &weeks, SearchDate: "2024-01-31",
 		Conditions: []string{"pruritus"}, Interventions: []string{"exampline"}, Comparator: "placebo"}
 	yes := true
-	trial := func(model string) ingest.Trial {
-		return ingest.Trial{TrialID: "NCT99990015", StudyType: "INTERVENTIONAL", Allocation: "RANDOMIZED", InterventionModel: model,
+	trial := func(alloc, model string) ingest.Trial {
+		return ingest.Trial{TrialID: "NCT99990015", StudyType: "INTERVENTIONAL", Allocation: alloc, InterventionModel: model,
 			OverallStatus: "COMPLETED", Conditions: []string{"Pruritus"}, HasResults: &yes, PrimaryCompletionDate: ingest.Date{Text: "2022-05-31"},
 			Arms: []ingest.Arm{{Label: "Exampline 10 mg", InterventionNames: []string{"Drug: Exampline"}}, {Label: "Placebo", InterventionNames: []string{"Drug: Placebo"}}},
 			Outcomes: []ingest.Outcome{{Index: 0, Type: "PRIMARY", Title: "Itch Intensity at Week 12", TimeFrame: "Week 12",
@@ -192,20 +196,36 @@ func TestAcceptAboveNeverTakesCrossover(t *testing.T) {
 		}
 	}
 	for _, tc := range []struct {
-		model, design string
-		accepted      bool
-	}{{"PARALLEL", DesignRandomized, true}, {"CROSSOVER", DesignCrossover, false}} {
-		rp := ProposeForReview(rv, nil, []ingest.Trial{trial(tc.model)}, MatchOptions{AcceptAbove: DefaultAcceptAbove})
-		if len(rp.Trials) != 1 || len(rp.Trials[0].Outcomes) == 0 {
-			t.Fatalf("%s: proposals %+v", tc.model, rp)
+		alloc, model, design string
+		accepted             bool
+	}{{"RANDOMIZED", "PARALLEL", DesignRandomized, true}, {"RANDOMIZED", "CROSSOVER", DesignCrossover, false},
+		{"NON_RANDOMIZED", "PARALLEL", DesignNotRandomized, false}, {"NA", "SINGLE_GROUP", DesignNotRandomized, false},
+		{"NON_RANDOMIZED", "CROSSOVER", DesignNotRandomized, false}} {
+		for _, above := range []float64{DefaultAcceptAbove, 0.01} {
+			name := fmt.Sprintf("%s/%s above %v", tc.alloc, tc.model, above)
+			rp := ProposeForReview(rv, nil, []ingest.Trial{trial(tc.alloc, tc.model)}, MatchOptions{AcceptAbove: above})
+			if len(rp.Trials) != 1 || len(rp.Trials[0].Outcomes) == 0 {
+				t.Fatalf("%s: proposals %+v", name, rp)
+			}
+			tp := rp.Trials[0]
+			if tp.Design != tc.design || tp.Outcomes[0].AutoAccepted != tc.accepted || tp.Outcomes[0].Score <= DefaultAcceptAbove {
+				t.Errorf("%s: design %q, score %v, auto-accepted %v; want %q, above %v, %v", name, tp.Design, tp.Outcomes[0].Score,
+					tp.Outcomes[0].AutoAccepted, tc.design, DefaultAcceptAbove, tc.accepted)
+			}
+			if !tc.accepted && !strings.Contains(strings.Join(tp.Reasons, "; "), tc.design+": ") ||
+				!tc.accepted && !strings.Contains(strings.Join(tp.Reasons, "; "), "never accepted automatically") {
+				t.Errorf("%s: reasons %q do not give the class %s and why", name, tp.Reasons, tc.design)
+			}
+			links := rp.Links()
+			if len(links) == 0 || (links[0].Decision == "accept") != tc.accepted || links[0].AutoAccepted != tc.accepted {
+				t.Errorf("%s: links %+v: want decision accepted %v", name, links, tc.accepted)
+			}
 		}
-		tp := rp.Trials[0]
-		if tp.Design != tc.design || tp.Outcomes[0].AutoAccepted != tc.accepted || tp.Outcomes[0].Score <= DefaultAcceptAbove {
-			t.Errorf("%s: design %q, score %v, auto-accepted %v; want %q, above %v, %v", tc.model, tp.Design, tp.Outcomes[0].Score,
-				tp.Outcomes[0].AutoAccepted, tc.design, DefaultAcceptAbove, tc.accepted)
-		}
-		if !tc.accepted && !strings.Contains(strings.Join(tp.Reasons, "; "), "never accepted automatically") {
-			t.Errorf("%s: reasons %q do not say why", tc.model, tp.Reasons)
+		noResults := trial(tc.alloc, tc.model)
+		noResults.Outcomes, noResults.HasResults = nil, nil
+		rp := ProposeForReview(rv, nil, []ingest.Trial{noResults}, MatchOptions{})
+		if excluded := len(rp.Excluded) == 1 && slices.Contains(rp.Excluded[0].Failed, "design"); excluded != (tc.design == DesignNotRandomized) {
+			t.Errorf("%s/%s without results: proposals %+v, excluded %+v", tc.alloc, tc.model, rp.Trials, rp.Excluded)
 		}
 	}
 }

@@ -60,11 +60,12 @@ func TestScanOutcomeChoiceRealRecords(t *testing.T) {
 		{q: ingest.Review{ReviewID: "Q-CF2", Measure: "MD", Outcome: "Body mass index", Unit: "kg/m2", Better: "higher",
 			TimepointWeeks: w(104), SearchDate: "2024-01-01", Conditions: []string{"cystic fibrosis related diabetes"}, Interventions: []string{"repaglinide"}, Comparator: "placebo"},
 			trial: "NCT00763412", notAccepted: "low-score"},
-		// Paediatric COVID-19 remdesivir cohorts: not randomized, no
-		// comparator: excluded before any outcome is considered.
+		// Paediatric COVID-19 remdesivir cohorts: no comparator arm:
+		// excluded before any outcome is considered (not being randomized
+		// alone would only keep it from automatic acceptance).
 		{q: ingest.Review{ReviewID: "Q-COV", Measure: "MD", Outcome: "Viral load", Unit: "log10 copies/mL", Better: "lower",
 			TimepointWeeks: w(2), SearchDate: "2024-01-01", Conditions: []string{"COVID-19"}, Interventions: []string{"remdesivir"}, Comparator: "placebo"},
-			trial: "NCT04431453", excluded: "NCT04431453", excludes: "design"},
+			trial: "NCT04431453", excluded: "NCT04431453", excludes: "comparator"},
 	} {
 		res, err := ScanQuestion(tc.q, all, nil, ScanOptions{Audit: Options{SkipSelection: true}})
 		if err != nil {

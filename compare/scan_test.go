@@ -159,7 +159,8 @@ func TestPublicationLink(t *testing.T) {
 	}
 }
 
-// TestScanAcceptRules: a crossover trial is never accepted automatically,
+// TestScanAcceptRules: a crossover or non-randomized trial is never
+// accepted automatically (even above 0.01),
 // a threshold above every score accepts nothing, and links-file rows
 // decide for their trials (a rejection leaves the trial out; an accepted
 // row that does not convert is listed with its reason).
@@ -168,16 +169,17 @@ func TestScanAcceptRules(t *testing.T) {
 	q := c.Questions[1]
 	trials := questionTrials(c, 1)
 	trials[0].InterventionModel = "CROSSOVER"
-	res, err := ScanQuestion(q, trials, nil, ScanOptions{})
+	trials[1].Allocation = "NON_RANDOMIZED"
+	res, err := ScanQuestion(q, trials, nil, ScanOptions{AcceptAbove: 0.01})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if res.Flow.Accepted != 11 || res.Flow.NotAccepted[DesignCrossover] != 1 {
-		t.Errorf("crossover: accepted %d, not accepted %v", res.Flow.Accepted, res.Flow.NotAccepted)
+	if res.Flow.Accepted != 10 || res.Flow.NotAccepted[DesignCrossover] != 1 || res.Flow.NotAccepted[DesignNotRandomized] != 1 {
+		t.Errorf("crossover and not randomized: accepted %d, not accepted %v", res.Flow.Accepted, res.Flow.NotAccepted)
 	}
 	for _, st := range res.Trials {
-		if st.TrialID == trials[0].TrialID {
-			t.Errorf("crossover trial %s pooled", st.TrialID)
+		if st.TrialID == trials[0].TrialID || st.TrialID == trials[1].TrialID {
+			t.Errorf("crossover or non-randomized trial %s pooled", st.TrialID)
 		}
 	}
 	// Secondary outcomes score at most 1 - 0.05 (1 - 0.7) = 0.985.
