@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"encoding/json"
 	"strings"
 	"testing"
 
@@ -264,6 +265,31 @@ func TestQuantile7(t *testing.T) {
 	for _, c := range []struct{ p, want float64 }{{0.025, 1.1}, {0.25, 2}, {0.5, 4}, {0.975, 15.2}, {0, 1}, {1, 16}} {
 		if got := quantile7(x, c.p); !scalar.EqualWithinAbsOrRel(got, c.want, 1e-12, 1e-12) {
 			t.Errorf("quantile7(%v) = %v, want %v", c.p, got, c.want)
+		}
+	}
+}
+
+// The cautions travel with every summary, in Go and in JSON, even an empty
+// one (common practice, no source: asymmetry or a shift is not proof of
+// bias; registry results are unreviewed; defer to the review authors).
+func TestSummaryCarriesCautions(t *testing.T) {
+	for _, audits := range [][]ReviewAudit{nil, {{ReviewID: "R1"}}} {
+		s := Summarize(audits, SummaryOptions{})
+		b, err := json.Marshal(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var back struct {
+			Cautions []string `json:"cautions"`
+		}
+		if err := json.Unmarshal(b, &back); err != nil {
+			t.Fatal(err)
+		}
+		joined := strings.Join(back.Cautions, "\n")
+		for _, want := range []string{"not proof of publication bias", "not peer reviewed", "defer to the review authors"} {
+			if !strings.Contains(joined, want) {
+				t.Errorf("%d audits: summary JSON cautions lack %q: %q", len(audits), want, back.Cautions)
+			}
 		}
 	}
 }
