@@ -89,17 +89,17 @@ type Summary struct {
 	Truth                 string           `json:"truth"`
 	TruthThreshold        float64          `json:"truth_threshold"`
 	Warnings              []string         `json:"warnings"`
-	// Cautions always apply to these figures (SummaryCautions).
+	// Cautions always apply to these figures (the package-level Cautions).
 	Cautions []string `json:"cautions"`
 }
 
-// SummaryCautions are printed with every cross-review summary: the figures
-// inform meta-research and editorial judgement, not a verdict on any one
-// review.
-var SummaryCautions = []string{
-	"a shift between published-only and registry-augmented estimates is not proof of publication bias: heterogeneity, chance, small-study effects and differences in populations or timepoints can cause it",
-	"registry results are posted by sponsors and investigators and are not peer reviewed",
-	"defer to the review authors, their GRADE assessment and local practice before drawing clinical or editorial conclusions",
+// Cautions are printed wherever output may inform editorial or clinical
+// decisions: with the audit and summary tables and in the summary JSON
+// (common practice, no source).
+var Cautions = []string{
+	"Registry results are posted by sponsors and are not peer reviewed; check each added trial's record.",
+	"A shift, or funnel-plot asymmetry, is not proof of publication bias: heterogeneity, chance and small-study effects can cause it.",
+	"Defer to the review authors, their GRADE assessment and local practice before drawing clinical or editorial conclusions.",
 }
 
 // OverstatementDistribution summarizes oriented overstatements in SD
@@ -191,7 +191,7 @@ func sdScale(a ReviewAudit) float64 {
 func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 	o := opts.resolve()
 	s := Summary{Reviews: len(audits), Truth: o.Truth, TruthThreshold: o.Threshold, Warnings: []string{},
-		Detection: []Detection{}, AdjustedError: []AdjustedError{}, Cautions: append([]string(nil), SummaryCautions...)}
+		Detection: []Detection{}, AdjustedError: []AdjustedError{}, Cautions: append([]string(nil), Cautions...)}
 	var over []float64
 	var positive, concl, known, sig, dir, mid, undirected int
 	var diffs, seDiffs []float64

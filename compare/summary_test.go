@@ -285,7 +285,7 @@ func TestSummaryCarriesCautions(t *testing.T) {
 		if err := json.Unmarshal(b, &back); err != nil {
 			t.Fatal(err)
 		}
-		joined := strings.Join(back.Cautions, "\n")
+		joined := strings.ToLower(strings.Join(back.Cautions, "\n"))
 		for _, want := range []string{"not proof of publication bias", "not peer reviewed", "defer to the review authors"} {
 			if !strings.Contains(joined, want) {
 				t.Errorf("%d audits: summary JSON cautions lack %q: %q", len(audits), want, back.Cautions)

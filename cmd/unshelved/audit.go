@@ -386,15 +386,15 @@ func estimateCell(e compare.Estimate) string {
 	return fmt.Sprintf("%s [%s, %s]", round(*e.Estimate, 2), lo, hi)
 }
 
-// cautions are printed wherever output may inform editorial or clinical
-// decisions.
-var cautions = []string{
-	"",
-	"Cautions:",
-	"- Registry results are posted by sponsors and are not peer reviewed; check each added trial's record.",
-	"- A shift, or funnel-plot asymmetry, is not proof of publication bias: heterogeneity, chance and small-study effects can cause it.",
-	"- Defer to the review authors, their GRADE assessment and local practice before drawing clinical or editorial conclusions.",
-}
+// cautions are the table form of compare.Cautions, printed wherever output
+// may inform editorial or clinical decisions.
+var cautions = func() []string {
+	lines := []string{"", "Cautions:"}
+	for _, c := range compare.Cautions {
+		lines = append(lines, "- "+c)
+	}
+	return lines
+}()
 
 // auditExtraCSV gives the audit CSV columns added after direction_changed.
 func auditExtraCSV(a compare.ReviewAudit) []string {
