@@ -2,7 +2,6 @@ package store
 
 import (
 	"context"
-	"database/sql"
 	"path/filepath"
 	"reflect"
 	"sort"
@@ -54,15 +53,8 @@ func TestFullTrialCoversEveryField(t *testing.T) {
 func TestMigrateFromVersion1(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "old.db")
-	raw, err := sql.Open("sqlite3", dsn(path, false))
-	if err != nil {
-		t.Fatal(err)
-	}
-	ms, err := migrations()
-	if err != nil {
-		t.Fatal(err)
-	}
-	if _, err := raw.ExecContext(ctx, ms[0].sql+"; PRAGMA user_version = 1"); err != nil {
+	raw := oldWorkspace(t, ctx, path, 1)
+	if _, err := raw.ExecContext(ctx, "PRAGMA user_version = 1"); err != nil {
 		t.Fatal(err)
 	}
 	if _, err := raw.ExecContext(ctx, `INSERT INTO trials VALUES ('NCT99001501', 'ctgov', '', 'old', '', '', '', '', '', '', '',

@@ -16,19 +16,7 @@ import (
 func TestMigrateLinksKeepsDecisions(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v3.db")
-	raw, err := sql.Open("sqlite3", dsn(path, false))
-	if err != nil {
-		t.Fatal(err)
-	}
-	ms, err := migrations()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, m := range ms[:3] {
-		if _, err := raw.ExecContext(ctx, m.sql); err != nil {
-			t.Fatalf("%s: %v", m.name, err)
-		}
-	}
+	raw := oldWorkspace(t, ctx, path, 3)
 	for _, q := range []string{
 		"PRAGMA user_version = 3",
 		`INSERT INTO reviews VALUES ('R1', 'Review', 'MD', 'score', 'points', 'lower', 12, '2024-01-01', 'placebo', NULL, 'r.csv', 'h', '1', 'now')`,
@@ -74,4 +62,25 @@ func TestMigrateLinksKeepsDecisions(t *testing.T) {
 	if problems, err := db.Check(ctx); err != nil || len(problems) > 0 {
 		t.Errorf("check after migrate: %v %v", problems, err)
 	}
+}
+
+// oldWorkspace creates a workspace file at path holding only the first n
+// migrations (user_version is left for the caller to set), opened raw so a
+// test can write rows the way that schema version did.
+func oldWorkspace(t *testing.T, ctx context.Context, path string, n int) *sql.DB {
+	t.Helper()
+	raw, err := sql.Open("sqlite3", dsn(path, false))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ms, err := migrations()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range ms[:n] {
+		if _, err := raw.ExecContext(ctx, m.sql); err != nil {
+			t.Fatalf("%s: %v", m.name, err)
+		}
+	}
+	return raw
 }

@@ -146,15 +146,7 @@ func (db *DB) Reviews(ctx context.Context) ([]ingest.Review, error) {
 // ReviewIDs returns the ids of every stored review, sorted (the order of
 // Reviews).
 func (db *DB) ReviewIDs(ctx context.Context) ([]string, error) {
-	var ids []string
-	err := eachRow(ctx, db.read, `SELECT review_id FROM reviews ORDER BY review_id`, nil, func(r *sql.Rows) error {
-		var id string
-		if err := r.Scan(&id); err != nil {
-			return err
-		}
-		ids = append(ids, id)
-		return nil
-	})
+	ids, err := db.stringColumn(ctx, `SELECT review_id FROM reviews ORDER BY review_id`)
 	if err != nil {
 		return nil, fmt.Errorf("list review ids: %w", err)
 	}

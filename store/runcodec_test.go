@@ -3,7 +3,6 @@ package store
 import (
 	"bytes"
 	"context"
-	"database/sql"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -140,19 +139,7 @@ func TestUnpackRejectsCorruptData(t *testing.T) {
 func TestMigrateRunResultsToVersion5(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v3.db")
-	raw, err := sql.Open("sqlite3", dsn(path, false))
-	if err != nil {
-		t.Fatal(err)
-	}
-	ms, err := migrations()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, m := range ms[:3] {
-		if _, err := raw.ExecContext(ctx, m.sql); err != nil {
-			t.Fatal(err)
-		}
-	}
+	raw := oldWorkspace(t, ctx, path, 3)
 	old := map[string]string{"R2": `{"review_id":"R2","shift":{"absolute":-0.25}}`, "R1": `{"review_id":"R1","shift":{"absolute":0.5}}`}
 	if _, err := raw.ExecContext(ctx, `PRAGMA user_version = 3;
 		INSERT INTO runs (kind, options, version, seed, status, started_at) VALUES ('audit', '{"level":0.95}', 'old', 1, 'complete', '2026-01-01T00:00:00Z');
@@ -164,7 +151,7 @@ func TestMigrateRunResultsToVersion5(t *testing.T) {
 	}
 	db := mustOpenPath(t, path)
 	var got []string
-	err = db.EachRunResult(ctx, 1, func(id string, js []byte) error {
+	err := db.EachRunResult(ctx, 1, func(id string, js []byte) error {
 		if string(js) != old[id] {
 			t.Errorf("%s: %s, want %s", id, js, old[id])
 		}

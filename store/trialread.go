@@ -539,19 +539,25 @@ func denomList(t *ingest.Trial, op int, cp sql.NullInt64) (*[]ingest.Denom, erro
 
 // TrialIDs returns the ids of all stored trials, sorted.
 func (db *DB) TrialIDs(ctx context.Context) ([]string, error) {
-	var ids []string
-	err := eachRow(ctx, db.read, `SELECT trial_id FROM trials ORDER BY trial_id`, nil, func(r *sql.Rows) error {
-		var id string
-		if err := r.Scan(&id); err != nil {
-			return err
-		}
-		ids = append(ids, id)
-		return nil
-	})
+	ids, err := db.stringColumn(ctx, `SELECT trial_id FROM trials ORDER BY trial_id`)
 	if err != nil {
 		return nil, fmt.Errorf("list trials: %w", err)
 	}
 	return ids, nil
+}
+
+// stringColumn returns the single text column of every row of query.
+func (db *DB) stringColumn(ctx context.Context, query string) ([]string, error) {
+	var out []string
+	err := eachRow(ctx, db.read, query, nil, func(r *sql.Rows) error {
+		var v string
+		if err := r.Scan(&v); err != nil {
+			return err
+		}
+		out = append(out, v)
+		return nil
+	})
+	return out, err
 }
 
 // TrialBySecondaryID returns, sorted, the ids of the trials that list id
