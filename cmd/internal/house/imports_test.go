@@ -68,7 +68,7 @@ const (
 	layerFixtures  = "compare/internal (test workspaces)"
 	layerCmd       = "cmd"
 	layerData      = "testdata (embedded files)"
-	layerHouse     = "internal/house"
+	layerHouse     = "cmd/internal/house"
 )
 
 // layerOf places one of our packages (path relative to the module).
@@ -89,12 +89,12 @@ func layerOf(rel string) string {
 		return layerRender
 	case under("compare"):
 		return layerCompare
+	case under("cmd/internal/house"):
+		return layerHouse
 	case under("cmd"):
 		return layerCmd
 	case under("testdata"):
 		return layerData
-	case under("internal/house"):
-		return layerHouse
 	}
 	return ""
 }
