@@ -41,10 +41,15 @@ func TestIndexFromTextsEqualsSummaries(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := NewTrialIndex(sums)
-	got, err := indexWorkspace(t.Context(), db)
+	b := NewTrialIndexBuilder()
+	err = db.IndexTexts(t.Context(), func(id string, side int, text string) error {
+		b.Add(id, side, text)
+		return nil
+	})
 	if err != nil {
 		t.Fatal(err)
 	}
+	got := b.Index()
 	if got.Len() != want.Len() || got.Len() != len(c.Trials)+c.Background {
 		t.Fatalf("indexed %d trials, summaries %d", got.Len(), want.Len())
 	}

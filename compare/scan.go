@@ -46,7 +46,8 @@ type ScanOptions struct {
 	HighestDose bool
 }
 
-func (o ScanOptions) acceptAbove() float64 {
+// AcceptAboveOrDefault is AcceptAbove, or DefaultScanAcceptAbove when it is zero.
+func (o ScanOptions) AcceptAboveOrDefault() float64 {
 	if o.AcceptAbove <= 0 {
 		return DefaultScanAcceptAbove
 	}
@@ -172,7 +173,7 @@ func ScanQuestion(q ingest.Review, candidates []ingest.Trial, links []ingest.Lin
 	res := ScanResult{QuestionID: q.ReviewID, Title: q.Title, Measure: q.Measure, Unit: q.Unit, Better: q.Better,
 		Comparison: ScanComparison, Caution: ScanCaution, Trials: []ScanTrial{}, Rejected: []Rejected{}, Warnings: []string{},
 		Missing: Missing{Trials: []MissingTrial{}}, Flow: ScanFlow{NotAccepted: map[string]int{}}}
-	rp := ProposeForReview(q, nil, candidates, MatchOptions{AcceptAbove: opts.acceptAbove(), HighestDose: opts.HighestDose})
+	rp := ProposeForReview(q, nil, candidates, MatchOptions{AcceptAbove: opts.AcceptAboveOrDefault(), HighestDose: opts.HighestDose})
 	res.Flow.Examined = rp.Flow.Examined
 	byID := make(map[string]ingest.Trial, len(candidates))
 	for _, t := range candidates {

@@ -1,9 +1,7 @@
 package compare
 
 import (
-	"context"
 	"fmt"
-	"reflect"
 	"strings"
 	"testing"
 
@@ -113,48 +111,6 @@ func TestShiftIntervalOnePlusOne(t *testing.T) {
 	// shift -0.25, overstatement 0.25/0.5 = 0.5 SD.
 	if a.Shift.OverstatementSD == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.OverstatementSD, 0.5, 1e-9, 1e-9) {
 		t.Errorf("overstatement %v, want 0.5", deref(a.Shift.OverstatementSD))
-	}
-}
-
-// TestShiftIntervalDeterministic: the audit passes the studies' effects and
-// SEs to analysis.ShiftInterval unchanged, and the result does not depend
-// on the number of workers or on the other reviews.
-func TestShiftIntervalDeterministic(t *testing.T) {
-	var inputs []AuditInput
-	for i := range 6 {
-		inputs = append(inputs, constructedInput(fmt.Sprintf("R%d", i),
-			[][2]float64{{0.1, 0.2}, {0.5, 0.25}, {0.3, 0.3}, {0.9, 0.2}},
-			[][2]float64{{-0.2 + 0.1*float64(i), 0.3}, {0.1, 0.2}}))
-	}
-	opts := Options{SkipBias: true}
-	one, _, err := AuditAll(context.Background(), inputs, opts, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	two, _, err := AuditAll(context.Background(), inputs, opts, 3)
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i := range one {
-		if !reflect.DeepEqual(one[i].Shift, two[i].Shift) {
-			t.Errorf("%s: shift differs between 1 and 3 workers: %+v vs %+v", one[i].ReviewID, one[i].Shift, two[i].Shift)
-		}
-		var y, seY []float64
-		for _, s := range one[i].Studies {
-			y, seY = append(y, s.Effect), append(seY, s.SE)
-		}
-		want, err := analysis.ShiftInterval(y, seY, one[i].KPublished, 0.95)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if lo, hi := one[i].Shift.CILow, one[i].Shift.CIHigh; lo == nil || *lo != want.Low || *hi != want.High {
-			t.Errorf("%s: interval %v to %v, want %v to %v", one[i].ReviewID, deref(lo), deref(hi), want.Low, want.High)
-		}
-	}
-	ctx, cancel := context.WithCancel(context.Background())
-	cancel()
-	if _, _, err := AuditAll(ctx, inputs, opts, 2); err == nil {
-		t.Errorf("cancelled context: no error")
 	}
 }
 

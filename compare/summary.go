@@ -1,8 +1,6 @@
 package compare
 
 import (
-	"context"
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -12,7 +10,6 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/analysis/bias"
-	"unshelved/store"
 )
 
 // Truth rules of SummaryOptions.Truth: what counts as a real
@@ -38,7 +35,8 @@ type SummaryOptions struct {
 	CI        string // CIHKSJ (zero, floored), CIHKSJUntruncated or CIWald
 }
 
-func (o SummaryOptions) resolve() SummaryOptions {
+// Resolved is o with its defaults filled in.
+func (o SummaryOptions) Resolved() SummaryOptions {
 	if o.Truth == "" {
 		o.Truth = TruthThreshold
 	}
@@ -189,7 +187,7 @@ func sdScale(a ReviewAudit) float64 {
 // overstatement reuses analysis.Pool on the per-review oriented subgroup
 // differences divided by each review's SD scale.
 func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
-	o := opts.resolve()
+	o := opts.Resolved()
 	s := Summary{Reviews: len(audits), Truth: o.Truth, TruthThreshold: o.Threshold, Warnings: []string{},
 		Detection: []Detection{}, AdjustedError: []AdjustedError{}, Cautions: append([]string(nil), Cautions...)}
 	var over []float64
@@ -501,14 +499,6 @@ func Wilson(x, n int, level float64) (est, lo, hi float64) {
 	return p, lo, hi
 }
 
-// SummaryRun is a stored summary run.
-type SummaryRun struct {
-	RunID   int64
-	Summary Summary
-	Audits  []ReviewAudit // the audits summarized, in review order
-	Failed  []error
-}
-
 // ShiftPoints returns, for the audits with registry additions and an
 // oriented overstatement, the published-only random-effects estimate
 // oriented and in SD units (favourable · estimate / SD, so that positive is
@@ -527,92 +517,6 @@ func ShiftPoints(audits []ReviewAudit) (publishedSD, overstatementSD []float64, 
 		labels = append(labels, a.ReviewID)
 	}
 	return publishedSD, overstatementSD, labels
-}
-
-// RunSummary audits every review with auditOpts (not stored as an audit
-// run), summarizes them with opts, and records the run in the store with
-// kind "summary": its options (both sets) as JSON, version and
-// auditOpts.Seed; the summary JSON is saved as the run's single result
-// under the empty review id. Status as for RunAudit.
-func RunSummary(ctx context.Context, db *store.DB, auditOpts Options, opts SummaryOptions, version string, workers int) (SummaryRun, error) {
-	return RunSummaryOpts(ctx, db, auditOpts, opts, version, RunOptions{Workers: workers})
-}
-
-// RunSummaryOpts is RunSummary with the run options; with NoStore the
-// workspace is left untouched and RunID is zero.
-func RunSummaryOpts(ctx context.Context, db *store.DB, auditOpts Options, opts SummaryOptions, version string, ro RunOptions) (SummaryRun, error) {
-	o := opts.resolve()
-	var run SummaryRun
-	if !ro.NoStore {
-		optJSON, err := json.Marshal(map[string]any{"audit": auditOpts.record(), "summary": summaryRecord(o)})
-		if err != nil {
-			return SummaryRun{}, fmt.Errorf("encode options: %w", err)
-		}
-		if run.RunID, err = db.StartRun(ctx, "summary", string(optJSON), version, auditOpts.Seed); err != nil {
-			return SummaryRun{}, err
-		}
-	}
-	err := func() error {
-		inputs, err := newChunkedInputs(ctx, db, nil)
-		if err != nil {
-			return err
-		}
-		err = AuditEach(ctx, len(inputs.ids), inputs.input, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
-			if r.Err != nil {
-				run.Failed = append(run.Failed, r.Err)
-			} else {
-				run.Audits = append(run.Audits, r.Audit)
-			}
-			return nil
-		})
-		if err != nil {
-			return err
-		}
-		run.Summary = Summarize(run.Audits, o)
-		if ro.NoStore {
-			return nil
-		}
-		b, err := CompactJSON(run.Summary)
-		if err != nil {
-			return fmt.Errorf("encode summary: %w", err)
-		}
-		return db.SaveRunResult(ctx, run.RunID, "", string(b))
-	}()
-	if ro.NoStore {
-		return run, err
-	}
-	return run, finishRun(db, run.RunID, ctx, err)
-}
-
-func summaryRecord(o SummaryOptions) map[string]any {
-	return map[string]any{"truth": o.Truth, "truth_threshold": o.Threshold, "level": o.Level, "tau2": string(o.Tau2), "ci": o.CI}
-}
-
-// StoredSummary reads the summary saved by run id (kind "summary").
-func StoredSummary(ctx context.Context, db *store.DB, runID int64) (store.Run, Summary, error) {
-	runs, err := db.Runs(ctx, "summary")
-	if err != nil {
-		return store.Run{}, Summary{}, err
-	}
-	for _, r := range runs {
-		if r.ID != runID {
-			continue
-		}
-		res, err := db.RunResults(ctx, runID)
-		if err != nil {
-			return r, Summary{}, err
-		}
-		js, ok := res[""]
-		if !ok {
-			return r, Summary{}, fmt.Errorf("summary run %d (%s) holds no result", runID, r.Status)
-		}
-		var s Summary
-		if err := json.Unmarshal([]byte(js), &s); err != nil {
-			return r, Summary{}, fmt.Errorf("decode summary run %d: %w", runID, err)
-		}
-		return r, s, nil
-	}
-	return store.Run{}, Summary{}, fmt.Errorf("no summary run %d in the workspace", runID)
 }
 
 // quantile7 is the sample quantile of sorted x at probability p by linear

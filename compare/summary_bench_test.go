@@ -7,6 +7,7 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/internal/batchgen"
+	"unshelved/compare/workspace"
 )
 
 // BenchmarkAuditSummary5000 audits 5,000 generated reviews of 10 to 14
@@ -22,7 +23,7 @@ func BenchmarkAuditSummary5000(b *testing.B) {
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		audits, failed, err := compare.AuditAll(context.Background(), batch.Inputs, compare.Options{Seed: 1}, runtime.GOMAXPROCS(0))
+		audits, failed, err := workspace.AuditAll(context.Background(), batch.Inputs, compare.Options{Seed: 1}, runtime.GOMAXPROCS(0))
 		if err != nil || len(failed) > 0 {
 			b.Fatal(err, failed)
 		}

@@ -6,6 +6,7 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/internal/batchgen"
+	"unshelved/compare/workspace"
 )
 
 // TestSummaryRecoversSimulatedOverstatement audits a generated batch of 200
@@ -17,7 +18,7 @@ import (
 // (batchgen.Review, truncated-normal moments), known by construction.
 func TestSummaryRecoversSimulatedOverstatement(t *testing.T) {
 	b := batchgen.Generate(batchgen.Settings{Reviews: 200, Seed: 5})
-	audits, failed, err := compare.AuditAll(context.Background(), b.Inputs, compare.Options{SkipSelection: testing.Short()}, 2)
+	audits, failed, err := workspace.AuditAll(context.Background(), b.Inputs, compare.Options{SkipSelection: testing.Short()}, 2)
 	if err != nil {
 		t.Fatal(err)
 	}

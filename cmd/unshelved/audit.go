@@ -11,6 +11,7 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/compare"
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -205,8 +206,8 @@ func auditRun(cmd *cobra.Command, opts *auditOptions) error {
 	if !opts.Methods {
 		out = newAuditOutput(g, opts.Level, opts.Indent)
 	}
-	run, err := compare.RunAuditEach(cmd.Context(), db, opts.Reviews, opts.compareOptions(), version,
-		compare.RunOptions{Workers: opts.Workers, NoStore: opts.NoStore, JSON: out != nil && out.wantsJSON()}, func(r compare.AuditResult) error {
+	run, err := workspace.RunAuditEach(cmd.Context(), db, opts.Reviews, opts.compareOptions(), version,
+		workspace.RunOptions{Workers: opts.Workers, NoStore: opts.NoStore, JSON: out != nil && out.wantsJSON()}, func(r workspace.AuditResult) error {
 			if r.Err != nil {
 				g.reasonf("not audited: %v", r.Err)
 				return nil

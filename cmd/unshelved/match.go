@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"unshelved/compare"
+	"unshelved/compare/workspace"
 	"unshelved/ingest"
 	"unshelved/ingest/fetch"
 	"unshelved/store"
@@ -123,7 +124,7 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 // selected review that has no candidate trial in the workspace.
 func fetchForEmptyReviews(cmd *cobra.Command, g *globals, db *store.DB, opts *matchOptions) error {
 	ctx := cmd.Context()
-	dry, err := compare.Match(ctx, db, compare.MatchOptions{ReviewIDs: opts.Reviews, HighestDose: opts.HighestDose})
+	dry, err := workspace.Match(ctx, db, compare.MatchOptions{ReviewIDs: opts.Reviews, HighestDose: opts.HighestDose})
 	if err != nil {
 		return err
 	}
@@ -169,7 +170,7 @@ func anyOf(terms []string) string {
 // proposeLinks runs automatic matching, writes the links file and prints
 // the per-review summary.
 func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOptions) error {
-	rep, err := compare.Match(ctx, db, compare.MatchOptions{
+	rep, err := workspace.Match(ctx, db, compare.MatchOptions{
 		ReviewIDs:   opts.Reviews,
 		AcceptAbove: opts.AcceptAbove,
 		HighestDose: opts.HighestDose,
@@ -205,7 +206,7 @@ func linkColumns() []string {
 // linkRows lists one row per proposed outcome, best first within each
 // trial and trials by best score; trials without a proposed outcome get
 // one row with empty outcome columns.
-func linkRows(rep compare.MatchReport) [][]string {
+func linkRows(rep workspace.MatchReport) [][]string {
 	var rows [][]string
 	for _, rp := range rep.Reviews {
 		for _, tp := range rp.Trials {
@@ -227,7 +228,7 @@ func linkRows(rep compare.MatchReport) [][]string {
 
 // matchGrid is the per-review summary: candidates per class, proposed
 // outcomes and automatic acceptances.
-func matchGrid(rep compare.MatchReport) grid {
+func matchGrid(rep workspace.MatchReport) grid {
 	cols := []string{"review_id", "examined", "excluded", "included", "possibly_included", "missed_publication", "registry_only",
 		"no_results", "no_results_enrollment", "proposed_outcomes", "matched", "converted", "auto_accepted"}
 	var rows [][]string
@@ -260,7 +261,7 @@ func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string, 
 	for _, p := range bad {
 		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
 	}
-	saved, problems, err := compare.ApplyLinks(ctx, db, links)
+	saved, problems, err := workspace.ApplyLinks(ctx, db, links)
 	if err != nil {
 		return err
 	}

@@ -8,6 +8,7 @@ import (
 
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
+	"unshelved/compare/workspace"
 	"unshelved/ingest"
 	"unshelved/store"
 )
@@ -90,8 +91,8 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 // --quiet). A workspace without reviews is an error.
 func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, int, error) {
 	g := opts.g
-	run, err := compare.RunAuditOpts(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version,
-		compare.RunOptions{Workers: opts.Audit.Workers, NoStore: opts.Audit.NoStore})
+	run, err := workspace.RunAuditOpts(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version,
+		workspace.RunOptions{Workers: opts.Audit.Workers, NoStore: opts.Audit.NoStore})
 	if err != nil {
 		return "", nil, 0, err
 	}
@@ -109,7 +110,7 @@ func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string,
 		return "", nil, 0, err
 	}
 	aopts := opts.Audit.compareOptions()
-	prov, err := compare.LoadProvenance(cmd.Context(), db, run.Audits,
+	prov, err := workspace.LoadProvenance(cmd.Context(), db, run.Audits,
 		compare.RunInfo{Workspace: g.dbPath(cmd), RunID: run.RunID, Version: version, Options: aopts}, true)
 	if err != nil {
 		return "", nil, 0, fmt.Errorf("provenance of the report pages: %w", err)

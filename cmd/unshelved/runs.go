@@ -13,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"unshelved/compare"
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -425,7 +426,7 @@ func newDiffOutput(g *globals, indent bool, first, second int64) *diffOutput {
 
 func (o *diffOutput) add(d reviewDiff) error {
 	if o.json != nil {
-		js, err := compare.CompactJSON(d)
+		js, err := workspace.CompactJSON(d)
 		if err != nil {
 			return err
 		}

@@ -8,6 +8,7 @@ import (
 
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
+	"unshelved/compare/workspace"
 	"unshelved/ingest"
 )
 
@@ -74,9 +75,9 @@ func addScanFlags(cmd *cobra.Command, opts *scanOptions) {
 }
 
 // runOptions reads the links file and builds the scan's run options.
-func (o *scanOptions) runOptions() (compare.ScanRunOptions, error) {
+func (o *scanOptions) runOptions() (workspace.ScanRunOptions, error) {
 	g := o.audit.g
-	ro := compare.ScanRunOptions{IDs: o.Reviews, Workers: o.audit.Workers, Version: version,
+	ro := workspace.ScanRunOptions{IDs: o.Reviews, Workers: o.audit.Workers, Version: version,
 		Scan: compare.ScanOptions{Audit: o.audit.compareOptions(), AcceptAbove: o.AcceptAbove, HighestDose: o.HighestDose}}
 	if o.Links == "" {
 		return ro, nil
@@ -122,7 +123,7 @@ func scanRun(cmd *cobra.Command, opts *scanOptions) error {
 		}
 		return out.add(r)
 	}
-	run, err := compare.RunScan(cmd.Context(), db, ro)
+	run, err := workspace.RunScan(cmd.Context(), db, ro)
 	if err != nil {
 		return err
 	}

@@ -11,6 +11,7 @@ import (
 	"unshelved/analysis"
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -121,7 +122,7 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 		}
 		var out []storedSummary
 		for _, id := range ids {
-			r, s, err := compare.StoredSummary(ctx, db, id)
+			r, s, err := workspace.StoredSummary(ctx, db, id)
 			if err != nil {
 				return err
 			}
@@ -135,19 +136,19 @@ func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 	so := compare.SummaryOptions{
 		Truth: opts.Truth, Threshold: opts.Threshold, Level: opts.audit.Level, Tau2: analysis.Tau2Method(opts.audit.Tau2), CI: opts.audit.CI,
 	}
-	var run compare.SummaryRun
+	var run workspace.SummaryRun
 	if opts.Scan {
 		opts.scan.audit = opts.audit
-		var ro compare.ScanRunOptions
+		var ro workspace.ScanRunOptions
 		if ro, err = opts.scan.runOptions(); err == nil {
 			ro.NoStore = opts.audit.NoStore
-			run, err = compare.RunScanSummary(ctx, db, ro, so)
+			run, err = workspace.RunScanSummary(ctx, db, ro, so)
 		}
 		g.progressf("summary --scan: each question counts as a review; its linked trials play the published studies, its unlinked trials the registry additions")
 		g.progressf("summary --scan: %s", compare.ScanCaution)
 	} else {
-		run, err = compare.RunSummaryOpts(ctx, db, opts.audit.compareOptions(), so, version,
-			compare.RunOptions{Workers: opts.audit.Workers, NoStore: opts.audit.NoStore})
+		run, err = workspace.RunSummaryOpts(ctx, db, opts.audit.compareOptions(), so, version,
+			workspace.RunOptions{Workers: opts.audit.Workers, NoStore: opts.audit.NoStore})
 	}
 	if err != nil {
 		return err

@@ -1,4 +1,4 @@
-package compare_test
+package workspace_test
 
 import (
 	"bufio"
@@ -10,6 +10,7 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/internal/batchgen"
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -52,8 +53,8 @@ func BenchmarkAuditEndToEnd(b *testing.B) {
 			b.Fatal(err)
 		}
 		w := bufio.NewWriter(f)
-		run, err := compare.RunAuditEach(ctx, db, nil, compare.Options{Seed: compare.DefaultSeed}, "bench",
-			compare.RunOptions{Workers: runtime.GOMAXPROCS(0), JSON: true}, func(r compare.AuditResult) error {
+		run, err := workspace.RunAuditEach(ctx, db, nil, compare.Options{Seed: compare.DefaultSeed}, "bench",
+			workspace.RunOptions{Workers: runtime.GOMAXPROCS(0), JSON: true}, func(r workspace.AuditResult) error {
 				if _, err := w.Write(r.JSON); err != nil {
 					return err
 				}

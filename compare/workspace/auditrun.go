@@ -1,4 +1,4 @@
-package compare
+package workspace
 
 import (
 	"bytes"
@@ -9,6 +9,7 @@ import (
 	"strings"
 	"sync"
 
+	"unshelved/compare"
 	"unshelved/ingest"
 	"unshelved/store"
 )
@@ -16,7 +17,7 @@ import (
 // AuditResult is one review's audit as AuditEach hands it on.
 type AuditResult struct {
 	Index int // position in the input order
-	Audit ReviewAudit
+	Audit compare.ReviewAudit
 	// JSON is the compact JSON text of Audit (HTML characters unescaped),
 	// filled when StreamOptions.JSON or a packer asks for it.
 	JSON []byte
@@ -47,7 +48,7 @@ type StreamOptions struct {
 // read on the worker goroutines. A review that cannot be audited is
 // emitted with its Err set; an error from input or emit, or the context's
 // when it is cancelled, stops the audit and is returned.
-func AuditEach(ctx context.Context, n int, input func(ctx context.Context, i int) (AuditInput, error), opts Options, so StreamOptions, emit func(AuditResult) error) error {
+func AuditEach(ctx context.Context, n int, input func(ctx context.Context, i int) (compare.AuditInput, error), opts compare.Options, so StreamOptions, emit func(AuditResult) error) error {
 	if n == 0 {
 		return ctx.Err()
 	}
@@ -132,7 +133,7 @@ type workerResult struct {
 }
 
 // auditOne loads, audits, encodes and packs review i.
-func auditOne(ctx context.Context, i int, input func(context.Context, int) (AuditInput, error), opts Options, so StreamOptions) (w workerResult) {
+func auditOne(ctx context.Context, i int, input func(context.Context, int) (compare.AuditInput, error), opts compare.Options, so StreamOptions) (w workerResult) {
 	w.Index = i
 	if so.Packer != nil && i == 0 {
 		defer func() { so.Packer.SetDictionary(w.JSON) }()
@@ -142,9 +143,9 @@ func auditOne(ctx context.Context, i int, input func(context.Context, int) (Audi
 		w.fatal = err
 		return w
 	}
-	a, err := AuditReview(in, opts)
+	a, err := compare.AuditReview(in, opts)
 	if err != nil {
-		w.Err = &ReviewError{ReviewID: in.Review.ReviewID, Err: err}
+		w.Err = &compare.ReviewError{ReviewID: in.Review.ReviewID, Err: err}
 		return w
 	}
 	w.Audit = a
@@ -183,10 +184,10 @@ func CompactJSON(v any) ([]byte, error) {
 // failed; their errors come back as *ReviewError, also in input order. The
 // context is checked before each review; when it is cancelled AuditAll
 // returns its error and no audits.
-func AuditAll(ctx context.Context, inputs []AuditInput, opts Options, workers int) ([]ReviewAudit, []error, error) {
-	var out []ReviewAudit
+func AuditAll(ctx context.Context, inputs []compare.AuditInput, opts compare.Options, workers int) ([]compare.ReviewAudit, []error, error) {
+	var out []compare.ReviewAudit
 	var failed []error
-	err := AuditEach(ctx, len(inputs), func(ctx context.Context, i int) (AuditInput, error) {
+	err := AuditEach(ctx, len(inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
 		return inputs[i], ctx.Err()
 	}, opts, StreamOptions{Workers: workers}, func(r AuditResult) error {
 		if r.Err != nil {
@@ -206,12 +207,12 @@ func AuditAll(ctx context.Context, inputs []AuditInput, opts Options, workers in
 // their studies, links and the linked registry records: the records of
 // accepted links, and of links classed included or no-results that were
 // not rejected (for Discrepancies and Missing).
-func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditInput, error) {
+func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]compare.AuditInput, error) {
 	reviews, err := selectReviews(ctx, db, ids)
 	if err != nil {
 		return nil, err
 	}
-	out := make([]AuditInput, 0, len(reviews))
+	out := make([]compare.AuditInput, 0, len(reviews))
 	for _, rv := range reviews {
 		in, err := loadAuditInput(ctx, db, rv)
 		if err != nil {
@@ -223,10 +224,10 @@ func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]AuditIn
 }
 
 // loadAuditInput reads one review's input for LoadAuditInputs.
-func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
+func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (compare.AuditInput, error) {
 	ins, err := loadAuditInputChunk(ctx, db, []ingest.Review{rv})
 	if err != nil {
-		return AuditInput{}, err
+		return compare.AuditInput{}, err
 	}
 	return ins[0], nil
 }
@@ -235,15 +236,15 @@ func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditI
 // studies and links, then in one read the registry records of all their
 // accepted links and of the links classed included or no-results that
 // were not rejected (records not in the workspace are left out).
-func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Review) ([]AuditInput, error) {
+func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Review) ([]compare.AuditInput, error) {
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	ins := make([]AuditInput, len(reviews))
+	ins := make([]compare.AuditInput, len(reviews))
 	var ids []string
 	seen := map[string]bool{}
 	for i, rv := range reviews {
-		in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
+		in := compare.AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
 		var err error
 		if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
 			return nil, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
@@ -280,8 +281,8 @@ func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Rev
 // wantTrial reports whether an audit needs the registry record of a link:
 // accepted (also as a duplicate), or classed included or no-results and not rejected.
 func wantTrial(l ingest.Link) bool {
-	return Accepted(l.Decision) ||
-		(!strings.EqualFold(l.Decision, "reject") && (l.Class == ClassIncluded || l.Class == ClassNoResults))
+	return compare.Accepted(l.Decision) ||
+		(!strings.EqualFold(l.Decision, "reject") && (l.Class == compare.ClassIncluded || l.Class == compare.ClassNoResults))
 }
 
 // inputChunk is the number of reviews whose inputs are read together.
@@ -318,12 +319,12 @@ func newChunkedInputs(ctx context.Context, db *store.DB, ids []string) (*chunked
 
 type loadedChunk struct {
 	once   sync.Once
-	inputs []AuditInput
+	inputs []compare.AuditInput
 	err    error
 	left   int
 }
 
-func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
+func (c *chunkedInputs) input(ctx context.Context, i int) (compare.AuditInput, error) {
 	k := i / inputChunk
 	lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.ids))
 	c.mu.Lock()
@@ -346,11 +347,11 @@ func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
 		ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, reviews)
 	})
 	if ch.err != nil {
-		return AuditInput{}, ch.err
+		return compare.AuditInput{}, ch.err
 	}
 	in := ch.inputs[i-lo]
 	c.mu.Lock()
-	ch.inputs[i-lo] = AuditInput{}
+	ch.inputs[i-lo] = compare.AuditInput{}
 	if ch.left--; ch.left == 0 {
 		delete(c.chunks, k)
 	}
@@ -361,7 +362,7 @@ func (c *chunkedInputs) input(ctx context.Context, i int) (AuditInput, error) {
 // AuditRun is a stored audit run and what it produced.
 type AuditRun struct {
 	RunID  int64 // zero when the run was not stored
-	Audits []ReviewAudit
+	Audits []compare.ReviewAudit
 	Failed []error // *ReviewError per review that could not be audited
 	// Reviews is the number of reviews audited and Bytes the size of
 	// their stored results.
@@ -385,13 +386,13 @@ type RunOptions struct {
 // ctx's), or "failed" on any other error. A run cut short is never marked
 // complete. Reviews that fail on their own (no usable study) do not fail
 // the run; they are listed in Failed.
-func RunAudit(ctx context.Context, db *store.DB, ids []string, opts Options, version string, workers int) (AuditRun, error) {
+func RunAudit(ctx context.Context, db *store.DB, ids []string, opts compare.Options, version string, workers int) (AuditRun, error) {
 	return RunAuditOpts(ctx, db, ids, opts, version, RunOptions{Workers: workers})
 }
 
 // RunAuditOpts is RunAudit with the run options (not storing the run).
-func RunAuditOpts(ctx context.Context, db *store.DB, ids []string, opts Options, version string, ro RunOptions) (AuditRun, error) {
-	var audits []ReviewAudit
+func RunAuditOpts(ctx context.Context, db *store.DB, ids []string, opts compare.Options, version string, ro RunOptions) (AuditRun, error) {
+	var audits []compare.ReviewAudit
 	run, err := RunAuditEach(ctx, db, ids, opts, version, ro, func(r AuditResult) error {
 		if r.Err == nil {
 			audits = append(audits, r.Audit)
@@ -406,12 +407,12 @@ func RunAuditOpts(ctx context.Context, db *store.DB, ids []string, opts Options,
 // review order as soon as it is ready (see AuditEach), and results are
 // stored as they come, so memory stays flat in the number of reviews.
 // AuditRun.Audits stays empty.
-func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts Options, version string, ro RunOptions, emit func(AuditResult) error) (AuditRun, error) {
+func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts compare.Options, version string, ro RunOptions, emit func(AuditResult) error) (AuditRun, error) {
 	var run AuditRun
 	so := StreamOptions{Workers: ro.Workers, JSON: ro.JSON}
 	var w *store.ResultWriter
 	if !ro.NoStore {
-		optJSON, err := json.Marshal(opts.record())
+		optJSON, err := json.Marshal(opts.Record())
 		if err != nil {
 			return run, fmt.Errorf("encode options: %w", err)
 		}

@@ -1,14 +1,17 @@
-package compare
+package workspace
 
 import (
 	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"maps"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 
+	"unshelved/compare"
 	"unshelved/ingest"
 	"unshelved/store"
 )
@@ -40,14 +43,14 @@ func Questions(ctx context.Context, db *store.DB, ids []string) ([]ingest.Review
 // ScanRun is a scan and what it produced.
 type ScanRun struct {
 	RunID         int64 // 0 when not stored
-	Results       []ScanResult
+	Results       []compare.ScanResult
 	Failed        []error // *ReviewError per question that could not be scanned
 	TrialsIndexed int
 }
 
 // ScanRunOptions say how RunScan runs.
 type ScanRunOptions struct {
-	Scan    ScanOptions
+	Scan    compare.ScanOptions
 	IDs     []string      // questions to scan; empty means every question
 	Links   []ingest.Link // links-file rows (all questions)
 	Workers int           // zero means GOMAXPROCS
@@ -59,7 +62,7 @@ type ScanRunOptions struct {
 	// Emit, when set, receives each result in question order as soon as
 	// it and every earlier one are done (results are then not kept in
 	// ScanRun.Results).
-	Emit func(ScanResult) error
+	Emit func(compare.ScanResult) error
 }
 
 // RunScan scans questions in the workspace: it indexes every stored
@@ -72,7 +75,7 @@ func RunScan(ctx context.Context, db *store.DB, o ScanRunOptions) (ScanRun, erro
 		return run, err
 	}
 	if o.Store {
-		optJSON, err := json.Marshal(map[string]any{"audit": o.Scan.Audit.record(), "accept_above": o.Scan.acceptAbove(),
+		optJSON, err := json.Marshal(map[string]any{"audit": o.Scan.Audit.Record(), "accept_above": o.Scan.AcceptAboveOrDefault(),
 			"highest_dose": o.Scan.HighestDose, "links_rows": len(o.Links)})
 		if err != nil {
 			return run, fmt.Errorf("encode options: %w", err)
@@ -103,7 +106,7 @@ func runScan(ctx context.Context, db *store.DB, questions []ingest.Review, o Sca
 		workers = runtime.GOMAXPROCS(0)
 	}
 	type slot struct {
-		res  ScanResult
+		res  compare.ScanResult
 		err  error
 		done chan struct{}
 	}
@@ -148,7 +151,7 @@ func runScan(ctx context.Context, db *store.DB, questions []ingest.Review, o Sca
 			break
 		}
 		if s.err != nil {
-			var re *ReviewError
+			var re *compare.ReviewError
 			if errors.As(s.err, &re) {
 				run.Failed = append(run.Failed, s.err)
 				slots[i] = nil
@@ -169,7 +172,7 @@ func runScan(ctx context.Context, db *store.DB, questions []ingest.Review, o Sca
 }
 
 // keepScan stores and emits (or keeps) one result.
-func keepScan(ctx context.Context, db *store.DB, o ScanRunOptions, run *ScanRun, r ScanResult) error {
+func keepScan(ctx context.Context, db *store.DB, o ScanRunOptions, run *ScanRun, r compare.ScanResult) error {
 	if o.Store {
 		var b strings.Builder
 		enc := json.NewEncoder(&b)
@@ -190,8 +193,8 @@ func keepScan(ctx context.Context, db *store.DB, o ScanRunOptions, run *ScanRun,
 
 // indexWorkspace builds the candidate index over every stored trial,
 // streaming the texts (no summaries are held).
-func indexWorkspace(ctx context.Context, db *store.DB) (*TrialIndex, error) {
-	b := NewTrialIndexBuilder()
+func indexWorkspace(ctx context.Context, db *store.DB) (*compare.TrialIndex, error) {
+	b := compare.NewTrialIndexBuilder()
 	err := db.IndexTexts(ctx, func(id string, side int, text string) error {
 		b.Add(id, side, text)
 		return nil
@@ -204,7 +207,7 @@ func indexWorkspace(ctx context.Context, db *store.DB) (*TrialIndex, error) {
 
 // scanOne loads a question's candidate records and scans it. A question
 // that cannot be scanned on its own is a *ReviewError.
-func scanOne(ctx context.Context, db *store.DB, ix *TrialIndex, q ingest.Review, links []ingest.Link, opts ScanOptions) (ScanResult, error) {
+func scanOne(ctx context.Context, db *store.DB, ix *compare.TrialIndex, q ingest.Review, links []ingest.Link, opts compare.ScanOptions) (compare.ScanResult, error) {
 	ids := map[string]bool{}
 	for _, id := range ix.Candidates(q) {
 		ids[id] = true
@@ -214,16 +217,16 @@ func scanOne(ctx context.Context, db *store.DB, ix *TrialIndex, q ingest.Review,
 	}
 	trials := make([]ingest.Trial, 0, len(ids))
 	seen := map[string]bool{}
-	for _, id := range sortedKeys(ids) {
+	for _, id := range slices.Sorted(maps.Keys(ids)) {
 		if err := ctx.Err(); err != nil {
-			return ScanResult{}, err
+			return compare.ScanResult{}, err
 		}
 		t, err := db.Trial(ctx, id)
 		if errors.Is(err, store.ErrNotFound) {
 			continue // a links-file id that is not in the workspace; ScanQuestion says so
 		}
 		if err != nil {
-			return ScanResult{}, fmt.Errorf("load trial %s: %w", id, err)
+			return compare.ScanResult{}, fmt.Errorf("load trial %s: %w", id, err)
 		}
 		if seen[strings.ToUpper(t.TrialID)] {
 			continue
@@ -231,17 +234,17 @@ func scanOne(ctx context.Context, db *store.DB, ix *TrialIndex, q ingest.Review,
 		seen[strings.ToUpper(t.TrialID)] = true
 		trials = append(trials, t)
 	}
-	res, err := ScanQuestion(q, trials, links, opts)
+	res, err := compare.ScanQuestion(q, trials, links, opts)
 	if err != nil {
-		return res, &ReviewError{ReviewID: q.ReviewID, Err: err}
+		return res, &compare.ReviewError{ReviewID: q.ReviewID, Err: err}
 	}
 	return res, nil
 }
 
 // ScanAudits are the audits behind scan results, for Summarize: questions
 // with linked and unlinked trials pooled, or linked trials alone.
-func ScanAudits(results []ScanResult) []ReviewAudit {
-	var out []ReviewAudit
+func ScanAudits(results []compare.ScanResult) []compare.ReviewAudit {
+	var out []compare.ReviewAudit
 	for _, r := range results {
 		if r.Audit != nil {
 			out = append(out, *r.Audit)
@@ -256,9 +259,9 @@ func ScanAudits(results []ScanResult) []ReviewAudit {
 // play the published studies, the unlinked ones the registry additions.
 // The summary is stored as a run of kind "summary" whose options say
 // "scan": true.
-func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts SummaryOptions) (SummaryRun, error) {
-	so := opts.resolve()
-	optJSON, err := json.Marshal(map[string]any{"scan": true, "audit": o.Scan.Audit.record(), "accept_above": o.Scan.acceptAbove(),
+func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts compare.SummaryOptions) (SummaryRun, error) {
+	so := opts.Resolved()
+	optJSON, err := json.Marshal(map[string]any{"scan": true, "audit": o.Scan.Audit.Record(), "accept_above": o.Scan.AcceptAboveOrDefault(),
 		"summary": summaryRecord(so)})
 	if err != nil {
 		return SummaryRun{}, fmt.Errorf("encode options: %w", err)
@@ -271,9 +274,9 @@ func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts Su
 	}
 	run := SummaryRun{RunID: runID}
 	err = func() error {
-		var audits []ReviewAudit
+		var audits []compare.ReviewAudit
 		o.Store = false
-		o.Emit = func(r ScanResult) error {
+		o.Emit = func(r compare.ScanResult) error {
 			if r.Audit != nil {
 				audits = append(audits, *r.Audit)
 			}
@@ -284,7 +287,7 @@ func RunScanSummary(ctx context.Context, db *store.DB, o ScanRunOptions, opts Su
 			return err
 		}
 		run.Failed, run.Audits = sr.Failed, audits
-		run.Summary = Summarize(audits, so)
+		run.Summary = compare.Summarize(audits, so)
 		if o.NoStore {
 			return nil
 		}

@@ -1,4 +1,4 @@
-package compare
+package workspace
 
 import (
 	"context"
@@ -7,6 +7,7 @@ import (
 	"runtime"
 	"strings"
 
+	"unshelved/compare"
 	"unshelved/ingest"
 	"unshelved/store"
 )
@@ -17,7 +18,7 @@ import (
 // no-results links for the discrepancy and missing-evidence figures). A
 // review that cannot be audited is an error naming it; use RunAudit to
 // keep going past such reviews and to record the run.
-func Audit(ctx context.Context, db *store.DB, ids []string, opts Options) ([]ReviewAudit, error) {
+func Audit(ctx context.Context, db *store.DB, ids []string, opts compare.Options) ([]compare.ReviewAudit, error) {
 	inputs, err := LoadAuditInputs(ctx, db, ids)
 	if err != nil {
 		return nil, err
@@ -57,8 +58,8 @@ func selectReviews(ctx context.Context, db *store.DB, ids []string) ([]ingest.Re
 	return reviews, nil
 }
 
-func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput, error) {
-	in := AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
+func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (compare.AuditInput, error) {
+	in := compare.AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
 	var err error
 	if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
 		return in, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
@@ -67,7 +68,7 @@ func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (AuditInput,
 		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
 	}
 	for _, l := range in.Links {
-		if !Accepted(l.Decision) {
+		if !compare.Accepted(l.Decision) {
 			continue
 		}
 		if _, ok := in.Trials[l.TrialID]; ok {

@@ -1,4 +1,4 @@
-package compare_test
+package workspace_test
 
 import (
 	"bytes"
@@ -11,6 +11,7 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/internal/batchgen"
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -26,7 +27,7 @@ func TestAuditEachStreams(t *testing.T) {
 	done := make(chan error, 1)
 	var order []int
 	go func() {
-		done <- compare.AuditEach(context.Background(), n, func(ctx context.Context, i int) (compare.AuditInput, error) {
+		done <- workspace.AuditEach(context.Background(), n, func(ctx context.Context, i int) (compare.AuditInput, error) {
 			if p := inFlight.Add(1); p > peak.Load() {
 				peak.Store(p)
 			}
@@ -38,7 +39,7 @@ func TestAuditEachStreams(t *testing.T) {
 				}
 			}
 			return b.Inputs[i], nil
-		}, compare.Options{SkipSelection: true}, compare.StreamOptions{Workers: 2}, func(r compare.AuditResult) error {
+		}, compare.Options{SkipSelection: true}, workspace.StreamOptions{Workers: 2}, func(r workspace.AuditResult) error {
 			inFlight.Add(-1)
 			order = append(order, r.Index)
 			if r.Index == 0 {
@@ -75,7 +76,7 @@ func TestAuditEachStreams(t *testing.T) {
 func TestAuditAllMatchesOneByOne(t *testing.T) {
 	b := batchgen.Generate(batchgen.Settings{Reviews: 30, Seed: 4})
 	opts := compare.Options{Bootstrap: 50, Seed: 3, SkipSelection: true}
-	audits, failed, err := compare.AuditAll(context.Background(), b.Inputs, opts, 3)
+	audits, failed, err := workspace.AuditAll(context.Background(), b.Inputs, opts, 3)
 	if err != nil || len(failed) > 0 {
 		t.Fatal(err, failed)
 	}
@@ -84,8 +85,8 @@ func TestAuditAllMatchesOneByOne(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		x, _ := compare.CompactJSON(want)
-		y, _ := compare.CompactJSON(audits[i])
+		x, _ := workspace.CompactJSON(want)
+		y, _ := workspace.CompactJSON(audits[i])
 		if !bytes.Equal(x, y) {
 			t.Fatalf("review %d differs from its own audit", i)
 		}
@@ -99,9 +100,9 @@ func TestAuditEachStopsOnEmitError(t *testing.T) {
 	stop := errors.New("reader went away")
 	var mu sync.Mutex
 	seen := 0
-	err := compare.AuditEach(context.Background(), len(b.Inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
+	err := workspace.AuditEach(context.Background(), len(b.Inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
 		return b.Inputs[i], nil
-	}, compare.Options{SkipBias: true}, compare.StreamOptions{Workers: 2}, func(r compare.AuditResult) error {
+	}, compare.Options{SkipBias: true}, workspace.StreamOptions{Workers: 2}, func(r workspace.AuditResult) error {
 		mu.Lock()
 		defer mu.Unlock()
 		seen++
@@ -133,9 +134,9 @@ func TestStoredSizePerReview(t *testing.T) {
 	}
 	w := db.NewResultWriter(runID)
 	var printed [][]byte
-	err = compare.AuditEach(ctx, len(b.Inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
+	err = workspace.AuditEach(ctx, len(b.Inputs), func(ctx context.Context, i int) (compare.AuditInput, error) {
 		return b.Inputs[i], nil
-	}, compare.Options{Seed: compare.DefaultSeed}, compare.StreamOptions{Workers: 2, Packer: w.Packer()}, func(r compare.AuditResult) error {
+	}, compare.Options{Seed: compare.DefaultSeed}, workspace.StreamOptions{Workers: 2, Packer: w.Packer()}, func(r workspace.AuditResult) error {
 		printed = append(printed, r.JSON)
 		return w.Add(ctx, r.Packed)
 	})

@@ -1,0 +1,5 @@
+package compare
+
+// ConstructedInput is constructedInput for the external tests.
+var ConstructedInput = constructedInput
+var Deref = deref
