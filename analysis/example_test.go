@@ -96,16 +96,27 @@ func ExampleSDFromCI() {
 
 // ExampleShiftInterval: five published studies and two registry trials
 // about 0.4 less favourable; the interval of how far adding them moves the
-// pooled estimate (base R computing the subgroup model with matrices, as in
-// testdata/reference/shift_interval.R, gives -0.0988, -0.1806 and -0.0170).
+// pooled estimate, centred on the shift of the two REML fits (base R, as
+// in testdata/reference/shift_interval.R, gives -0.1063, -0.1935 and
+// -0.0191).
 func ExampleShiftInterval() {
 	effects := []float64{0.52, 0.41, 0.47, 0.60, 0.38, 0.05, 0.12}
 	seEffects := []float64{0.12, 0.15, 0.10, 0.20, 0.14, 0.13, 0.16}
-	r, err := analysis.ShiftInterval(effects, seEffects, 5, 0.95)
+	tau2Pub, _, _, err := analysis.Tau2(effects[:5], seEffects[:5], analysis.Tau2REML, analysis.Settings{})
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("shift %.3f, 95%% CI %.3f to %.3f (t on %d df)\n", r.Estimate, r.Low, r.High, r.DF)
-	// Output: shift -0.099, 95% CI -0.181 to -0.017 (t on 5 df)
+	tau2Aug, _, _, err := analysis.Tau2(effects, seEffects, analysis.Tau2REML, analysis.Settings{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	r, err := analysis.ShiftInterval(effects, seEffects, 5, tau2Pub, tau2Aug, 0.95)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("shift %.4f, 95%% CI %.4f to %.4f (t on %d df)\n", r.Estimate, r.Low, r.High, r.DF)
+	// Output: shift -0.1063, 95% CI -0.1935 to -0.0191 (t on 5 df)
 }

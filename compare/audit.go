@@ -67,11 +67,13 @@ type Options struct {
 	// SkipBias leaves out the publication-bias battery; SkipSelection only
 	// its selection model (the slowest part).
 	SkipBias, SkipSelection bool
-	// Bootstrap is kept for older callers and recorded with the run; it
-	// has no effect since the shift interval became analytic
+	// Bootstrap > 0 adds a parametric-bootstrap check of the shift's
+	// interval with that many replicates (Shift.BootCILow/High); zero
+	// leaves it out. The interval itself is analytic
 	// (analysis.ShiftInterval).
 	Bootstrap int
-	// Seed is recorded with the run; no method draws random numbers.
+	// Seed fixes the bootstrap's draws (with the review id); recorded
+	// with the run.
 	Seed uint64
 	// Tolerance for outcome-reporting discrepancies; zero means
 	// DefaultDiscrepancy.
@@ -183,13 +185,22 @@ type Shift struct {
 	OverstatementSD *float64 `json:"overstatement_sd"`
 	// CILow and CIHigh are the confidence interval of the shift (effect
 	// scale, augmented minus published) at the audit's level, centred on
-	// CIEstimate, the shift under the subgroup model; CIMethod names the
-	// method (analysis.ShiftInterval). Nil when nothing was added or it
-	// cannot be estimated (the reason is in the warnings).
+	// the printed shift: CIEstimate, the interval's centre, equals
+	// Absolute. CIMethod names the method (analysis.ShiftInterval). Nil
+	// when nothing was added or it cannot be estimated (the reason is in
+	// the warnings).
 	CILow      *float64 `json:"ci_low"`
 	CIHigh     *float64 `json:"ci_high"`
 	CIMethod   string   `json:"ci_method"`
 	CIEstimate *float64 `json:"ci_estimate"`
+	// BootCILow and BootCIHigh are the parametric-bootstrap check of that
+	// interval (analysis.ShiftBootstrap, BootMethod), given only when
+	// Options.Bootstrap > 0 (BootReplicates drawn, BootFailed left out).
+	BootCILow      *float64 `json:"boot_ci_low"`
+	BootCIHigh     *float64 `json:"boot_ci_high"`
+	BootMethod     string   `json:"boot_method,omitempty"`
+	BootReplicates int      `json:"boot_replicates"`
+	BootFailed     int      `json:"boot_failed"`
 	// OverstatementCILow and OverstatementCIHigh are that interval on the
 	// oriented scale of OverstatementSD.
 	OverstatementCILow  *float64 `json:"overstatement_ci_low"`

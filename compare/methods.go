@@ -192,7 +192,7 @@ func MethodsFor(a ReviewAudit, opts Options, version string) Methods {
 	if a.KAdded > 0 {
 		t := "The shift is the augmented minus the published-only random-effects estimate."
 		if a.Shift.CIMethod != "" {
-			t += fmt.Sprintf(" Its %s confidence interval treats the published and the registry-only trials as two subgroups sharing one τ², estimated by the method of moments pooled within the subgroups %s; the variance of the contrast is scaled by the Knapp-Hartung factor floored at 1 %s, with t on k − 2 degrees of freedom.",
+			t += fmt.Sprintf(" Its %s confidence interval is centred on it: the shift is a linear contrast of the study effects with the weights of the two analyses, whose variance was taken from a model of the published and the registry-only trials as two subgroups sharing one τ², estimated by the method of moments pooled within the subgroups %s, scaled by the Knapp-Hartung factor floored at 1 %s, with t on k − 2 degrees of freedom.",
 				lv, c.cite("borenstein"), c.cite("kh2003", "rkf"))
 		} else {
 			t += " With fewer than 3 studies in all it has no interval."

@@ -2,6 +2,8 @@ package compare
 
 import (
 	"fmt"
+	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -63,8 +65,8 @@ func TestShiftIntervalConstructed(t *testing.T) {
 			if a.Shift.Absolute == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.Absolute, tc.c/2, tol, tol) {
 				t.Errorf("shift = %v, want %v", deref(a.Shift.Absolute), tc.c/2)
 			}
-			// Equal SEs: the subgroup-model estimate equals the plain shift.
-			if a.Shift.CIEstimate == nil || !scalar.EqualWithinAbsOrRel(*a.Shift.CIEstimate, tc.c/2, tol, tol) {
+			// The interval is centred on the printed shift.
+			if a.Shift.CIEstimate == nil || *a.Shift.CIEstimate != *a.Shift.Absolute {
 				t.Errorf("interval centre = %v, want %v", deref(a.Shift.CIEstimate), tc.c/2)
 			}
 			lo, hi := a.Shift.CILow, a.Shift.CIHigh
@@ -187,5 +189,86 @@ func TestGradeHintDirection(t *testing.T) {
 	}
 	if !found || len(a.Bias.GradeHint.Cautions) != 3 {
 		t.Errorf("reasons %q, cautions %q", a.Bias.GradeHint.Reasons, a.Bias.GradeHint.Cautions)
+	}
+}
+
+// TestShiftIntervalCoherent: over thousands of generated reviews (2 to 12
+// published studies, 1 to 3 registry trials, effects of either sign,
+// lower and higher is better, every tau² estimator), the printed shift is
+// the interval's centre and lies inside it, and the oriented overstatement
+// lies inside its interval.
+func TestShiftIntervalCoherent(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(13, 13))
+	methods := []analysis.Tau2Method{analysis.Tau2REML, analysis.Tau2DL, analysis.Tau2PM}
+	checked := 0
+	for n := range 2400 {
+		kPub, kAdd := 2+rng.IntN(11), 1+rng.IntN(3)
+		centre := 4 * (rng.Float64() - 0.5)
+		var pub, reg [][2]float64
+		for range kPub {
+			se := 0.05 + rng.Float64()
+			pub = append(pub, [2]float64{round3(centre + se*rng.NormFloat64() + 0.5*rng.NormFloat64()), round3(se)})
+		}
+		move := 4 * (rng.Float64() - 0.5)
+		for range kAdd {
+			se := 0.05 + rng.Float64()
+			reg = append(reg, [2]float64{round3(centre + move + se*rng.NormFloat64()), round3(se)})
+		}
+		in := constructedInput(fmt.Sprintf("G%d", n), pub, reg)
+		in.Review.Better = [2]string{"lower", "higher"}[n%2]
+		a, err := AuditReview(in, Options{SkipBias: true, Tau2: methods[n%3]})
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := a.Shift
+		if a.KAdded != kAdd || s.Absolute == nil || s.CILow == nil || s.CIHigh == nil || s.CIEstimate == nil || s.OverstatementSD == nil || s.OverstatementCILow == nil {
+			t.Fatalf("%s: %d added, shift %+v, warnings %q", a.ReviewID, a.KAdded, s, a.Warnings)
+		}
+		if *s.CIEstimate != *s.Absolute || !(*s.CILow < *s.Absolute && *s.Absolute < *s.CIHigh) {
+			t.Fatalf("%s: shift %v, interval %v to %v centred on %v", a.ReviewID, *s.Absolute, *s.CILow, *s.CIHigh, *s.CIEstimate)
+		}
+		if !(*s.OverstatementCILow < *s.OverstatementSD && *s.OverstatementSD < *s.OverstatementCIHigh) {
+			t.Fatalf("%s (%s is better): overstatement %v, interval %v to %v", a.ReviewID, a.Better, *s.OverstatementSD, *s.OverstatementCILow, *s.OverstatementCIHigh)
+		}
+		checked++
+	}
+	if checked < 2000 {
+		t.Errorf("only %d reviews checked", checked)
+	}
+}
+
+func round3(x float64) float64 { return math.Round(x*1000) / 1000 }
+
+// TestShiftBootstrapOption: Bootstrap > 0 adds the bootstrap check
+// interval, which holds the shift and changes with the seed; 0 leaves it
+// out. (TestShiftIntervalDeterministic checks it does not depend on the
+// workers or the other reviews.)
+func TestShiftBootstrapOption(t *testing.T) {
+	in := constructedInput("B", [][2]float64{{0.1, 0.2}, {0.5, 0.25}, {0.3, 0.3}, {0.9, 0.2}, {0.4, 0.15}},
+		[][2]float64{{-0.2, 0.3}, {0.1, 0.2}})
+	off, err := AuditReview(in, Options{SkipBias: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if off.Shift.BootCILow != nil || off.Shift.BootReplicates != 0 || off.Shift.BootMethod != "" {
+		t.Errorf("bootstrap 0: %+v", off.Shift)
+	}
+	opts := Options{SkipBias: true, Bootstrap: 300, Seed: 9}
+	alone, err := AuditReview(in, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := alone.Shift
+	if s.BootCILow == nil || s.BootCIHigh == nil || s.BootReplicates != 300 || s.BootMethod != analysis.ShiftBootMethod {
+		t.Fatalf("bootstrap 300: %+v", s)
+	}
+	if !(*s.BootCILow < *s.Absolute && *s.Absolute < *s.BootCIHigh) {
+		t.Errorf("bootstrap interval %v to %v does not hold the shift %v", *s.BootCILow, *s.BootCIHigh, *s.Absolute)
+	}
+	opts.Seed = 10
+	reseeded, _ := AuditReview(in, opts)
+	if *reseeded.Shift.BootCILow == *s.BootCILow {
+		t.Errorf("another seed gave the same interval")
 	}
 }

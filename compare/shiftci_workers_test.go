@@ -11,8 +11,9 @@ import (
 )
 
 // TestShiftIntervalDeterministic: the audit passes the studies' effects and
-// SEs to analysis.ShiftInterval unchanged, and the result does not depend
-// on the number of workers or on the other reviews.
+// SEs and the fits' tau² to analysis.ShiftInterval unchanged, and the
+// result, bootstrap check included, does not depend on the number of
+// workers or on the other reviews.
 func TestShiftIntervalDeterministic(t *testing.T) {
 	var inputs []compare.AuditInput
 	for i := range 6 {
@@ -20,7 +21,7 @@ func TestShiftIntervalDeterministic(t *testing.T) {
 			[][2]float64{{0.1, 0.2}, {0.5, 0.25}, {0.3, 0.3}, {0.9, 0.2}},
 			[][2]float64{{-0.2 + 0.1*float64(i), 0.3}, {0.1, 0.2}}))
 	}
-	opts := compare.Options{SkipBias: true}
+	opts := compare.Options{SkipBias: true, Bootstrap: 200, Seed: 4}
 	one, _, err := workspace.AuditAll(context.Background(), inputs, opts, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -28,6 +29,14 @@ func TestShiftIntervalDeterministic(t *testing.T) {
 	two, _, err := workspace.AuditAll(context.Background(), inputs, opts, 3)
 	if err != nil {
 		t.Fatal(err)
+	}
+	// One review alone gives the same bootstrap draws as among the others.
+	alone, err := compare.AuditReview(inputs[3], opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if alone.Shift.BootCILow == nil || !reflect.DeepEqual(alone.Shift, one[3].Shift) {
+		t.Errorf("review alone: %+v, among others %+v", alone.Shift, one[3].Shift)
 	}
 	for i := range one {
 		if !reflect.DeepEqual(one[i].Shift, two[i].Shift) {
@@ -37,7 +46,7 @@ func TestShiftIntervalDeterministic(t *testing.T) {
 		for _, s := range one[i].Studies {
 			y, seY = append(y, s.Effect), append(seY, s.SE)
 		}
-		want, err := analysis.ShiftInterval(y, seY, one[i].KPublished, 0.95)
+		want, err := analysis.ShiftInterval(y, seY, one[i].KPublished, *one[i].Published.Random.Tau2, *one[i].Augmented.Random.Tau2, 0.95)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -102,10 +102,10 @@ per review per line.`,
 }
 
 // defaultAuditOptions are the audit defaults: REML tau² with the HKSJ
-// interval at the 95% level, the fixed default seed, one worker per core.
-// Bootstrap stays at its old default only to be recorded; nothing uses it.
+// interval at the 95% level, no bootstrap check of the shift's interval,
+// the fixed default seed, one worker per core.
 func defaultAuditOptions(g *globals) auditOptions {
-	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 1000, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
+	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 0, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
 		Prefer: compare.PreferAnalysis}
 }
 
@@ -116,8 +116,8 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval and its p-value: hksj (Hartung-Knapp-Sidik-Jonkman, scale floored at 1), hksj-untruncated or wald; Wald throughout for reviews with fewer than 3 published studies")
 	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
 	cmd.Flags().Float64Var(&opts.Level, "level", d.Level, "confidence level")
-	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "no effect: the shift interval is analytic (kept for older scripts)")
-	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of any random draws (stored with the run)")
+	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "replicates of a parametric-bootstrap check of the shift's interval (shift.boot_ci_low/high; the interval itself is analytic); 0: no check")
+	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of the bootstrap's draws (stored with the run)")
 	cmd.Flags().IntVar(&opts.Workers, "workers", d.Workers, "reviews audited in parallel (results stay in review order)")
 	cmd.Flags().StringVar(&opts.Prefer, "prefer", d.Prefer, "for model-adjusted arm means, use the record's posted between-group analysis or the arms: analysis or arms")
 	cmd.Flags().BoolVar(&opts.AllowNonrandomized, "allow-nonrandomized", false, "use accepted links to not-randomized and crossover records (flagged) instead of refusing them")
@@ -155,9 +155,6 @@ func (o *auditOptions) validate(cmd *cobra.Command) error {
 	}
 	if o.Bootstrap < 0 {
 		return flagErrorf("--bootstrap must be 0 (off) or a positive number of replicates, not %d", o.Bootstrap)
-	}
-	if cmd.Flags().Changed("bootstrap") {
-		o.g.progressf("--bootstrap has no effect: the shift interval is analytic (subgroup model, Knapp-Hartung)")
 	}
 	return nil
 }

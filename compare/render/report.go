@@ -367,7 +367,7 @@ func verdict(a compare.ReviewAudit, level float64) []string {
 		out = append(out, "In standard-deviation units the shift is "+fmtFixed(*s, 2)+" SD.")
 	}
 	if a.Shift.CILow != nil && a.Shift.CIHigh != nil {
-		out = append(out, lv+" interval of the shift: "+fmtFixed(*a.Shift.CILow, 2)+" to "+fmtFixed(*a.Shift.CIHigh, 2)+" (subgroup model, Knapp-Hartung).")
+		out = append(out, lv+" interval of the shift: "+fmtFixed(*a.Shift.CILow, 2)+" to "+fmtFixed(*a.Shift.CIHigh, 2)+" (contrast of the two analyses, subgroup-model variance, Knapp-Hartung).")
 	}
 	if o := a.Shift.OverstatementSD; o != nil && a.KAdded > 0 {
 		t := "The published-only analysis overstates the benefit by " + fmtFixed(*o, 2) + " SD"
