@@ -487,7 +487,7 @@ func auditDetailTable(audits []compare.ReviewAudit, level float64) titled {
 			missing, whatIf, missed, fmt.Sprintf("%d of %d flagged", flagged, len(a.Discrepancies))})
 	}
 	t.Notes = []string{
-		fmt.Sprintf("Shift CI: %g%% interval from the subgroup model (tau² pooled within subgroups, Knapp-Hartung factor floored at 1, t on k - 2 df); none with fewer than 3 studies.", 100*level),
+		fmt.Sprintf("Shift CI: %g%% interval around the shift of the two analyses (variance from the subgroup model, tau² pooled within subgroups, Knapp-Hartung factor floored at 1, t on k - 2 df); none with fewer than 3 studies.", 100*level),
 		"Registry - published: each subgroup pooled with its own tau²; Q-between with 1 df. Same sign as the shift.",
 		"Missing trials: linked as eligible with no results posted; share of all randomized participants counted. Null what-if: each imputed as effect 0.",
 		"With missed publications: published studies plus accepted trials published but not in the review (a search gap, not publication bias), pooled apart from the registry-only trials.",
