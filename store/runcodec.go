@@ -109,7 +109,33 @@ type numberModel struct {
 	recent [repeatWindow]float64
 	n      int // numbers seen
 	byKey  map[string]*keyHistory
-	last   map[uint64]int // bit pattern -> its latest position in the stream (encoder only)
+}
+
+// lastSeen remembers, for the encoder, where a bit pattern last occurred
+// in the stream: a table of lastSlots entries indexed by a hash of the
+// bits, a newer pattern replacing an older one in its slot (a repeat
+// then goes unnoticed and is coded otherwise; the decoder does not care).
+type lastSeen struct {
+	bits [lastSlots]uint64
+	pos  [lastSlots]int32 // position + 1; 0: empty
+}
+
+const lastSlots = 1024
+
+func lastSlot(bits uint64) int { return int((bits * 0x9E3779B97F4A7C15) >> (64 - 10)) }
+
+// find returns the position of the latest number with these bits.
+func (l *lastSeen) find(bits uint64) (int, bool) {
+	i := lastSlot(bits)
+	if l.pos[i] == 0 || l.bits[i] != bits {
+		return 0, false
+	}
+	return int(l.pos[i] - 1), true
+}
+
+func (l *lastSeen) put(bits uint64, pos int) {
+	i := lastSlot(bits)
+	l.bits[i], l.pos[i] = bits, int32(pos+1)
 }
 
 // keyHistory holds the last values of one key, and their offsets from the
@@ -120,7 +146,7 @@ type keyHistory struct {
 }
 
 func newNumberModel() *numberModel {
-	return &numberModel{byKey: map[string]*keyHistory{}}
+	return &numberModel{byKey: make(map[string]*keyHistory, 128)}
 }
 
 func (m *numberModel) at(i int) float64 { return m.recent[(m.n-1-i+repeatWindow)%repeatWindow] }
@@ -138,14 +164,13 @@ func (m *numberModel) at(i int) float64 { return m.recent[(m.n-1-i+repeatWindow)
 //	8  x[-1] ± the square root of the quadratic extrapolation of the
 //	    squared offsets (the half-width of a confidence band around a
 //	    fitted line, t·sqrt(a + b·x + c·x²), at evenly spaced x)
-func (m *numberModel) predictions(key string) (pred [nPredictors]float64, ok [nPredictors]bool) {
+func (m *numberModel) predictions(h *keyHistory) (pred [nPredictors]float64, ok [nPredictors]bool) {
 	if m.n >= 2 {
 		x1, x2 := m.at(0), m.at(1)
 		pred[0], ok[0] = 2*x1-x2, true
 		pred[1], ok[1] = 2*x2-x1, true
 	}
-	h := m.byKey[key]
-	if h == nil {
+	if h.n == 0 {
 		return pred, ok
 	}
 	x, d := &h.x, &h.diff
@@ -176,18 +201,32 @@ func (m *numberModel) predictions(key string) (pred [nPredictors]float64, ok [nP
 	return pred, ok
 }
 
-func (m *numberModel) add(key string, x float64) {
+// history returns the history of key, new and empty the first time.
+func (m *numberModel) history(key string) *keyHistory {
+	h := m.byKey[key]
+	if h == nil {
+		h = new(keyHistory)
+		m.byKey[key] = h
+	}
+	return h
+}
+
+// historyOf is history for a key given as bytes.
+func (m *numberModel) historyOf(key []byte) *keyHistory {
+	if h := m.byKey[string(key)]; h != nil {
+		return h
+	}
+	return m.history(string(key))
+}
+
+// add appends x, a value of the key whose history is h, to the stream.
+func (m *numberModel) add(h *keyHistory, x float64) {
 	var prev float64
 	if m.n >= 1 {
 		prev = m.at(0)
 	}
 	m.recent[m.n%repeatWindow] = x
 	m.n++
-	h := m.byKey[key]
-	if h == nil {
-		h = new(keyHistory)
-		m.byKey[key] = h
-	}
 	copy(h.x[1:], h.x[:3])
 	copy(h.diff[1:], h.diff[:3])
 	h.x[0], h.diff[0] = x, x-prev
@@ -233,14 +272,20 @@ func packJSON(js []byte) ([]byte, error) {
 	if bytes.IndexByte(js, numberMark) >= 0 {
 		return nil, errors.New("pack result: control byte in JSON text")
 	}
-	tmpl := make([]byte, 0, len(js)/2)
+	// The template is built after room for its length, which goes
+	// right before it at the end; the numbers then follow it.
+	const room = binary.MaxVarintLen64
+	buf := make([]byte, room, room+len(js)+len(js)/4)
+	tmpl := buf[room:]
 	nums := make([]byte, 0, len(js)/8)
-	var sc jsonScanner
 	m := newNumberModel()
-	m.last = make(map[uint64]int, 512)
+	seen := new(lastSeen)
 	var scratchBuf [40]byte
 	scratch := scratchBuf[:0]
 	var last []byte // raw text of the last string
+	var key []byte  // raw text of the current key
+	var h *keyHistory
+	resolved := true // h is the history of key
 	for i := 0; i < len(js); {
 		c := js[i]
 		if c == '"' {
@@ -268,8 +313,8 @@ func packJSON(js []byte) ([]byte, error) {
 			continue
 		}
 		if !isNumberStart(c) {
-			if c == ':' {
-				sc.setKey(last)
+			if c == ':' && (h == nil || !bytes.Equal(last, key)) {
+				key, resolved = last, false
 			}
 			tmpl = append(tmpl, c)
 			i++
@@ -282,30 +327,67 @@ func packJSON(js []byte) ([]byte, error) {
 		tok := js[i:j]
 		i = j
 		tmpl = append(tmpl, numberMark)
-		x, err := strconv.ParseFloat(string(tok), 64)
-		if err != nil || !bytes.Equal(appendJSONFloat(scratch[:0], x), tok) {
-			nums = append(nums, tagText)
-			nums = binary.AppendUvarint(nums, uint64(len(tok)))
-			nums = append(nums, tok...)
-			continue
+		x, ok := smallInteger(tok)
+		if !ok {
+			var err error
+			x, err = strconv.ParseFloat(string(tok), 64)
+			if err != nil || !bytes.Equal(appendJSONFloat(scratch[:0], x), tok) {
+				nums = append(nums, tagText)
+				nums = binary.AppendUvarint(nums, uint64(len(tok)))
+				nums = append(nums, tok...)
+				continue
+			}
 		}
-		nums = appendNumber(nums, m, sc.key, x, tok)
-		m.last[math.Float64bits(x)] = m.n
-		m.add(sc.key, x)
+		if !resolved {
+			h, resolved = m.historyOf(key), true
+		}
+		nums = appendNumber(nums, m, seen, h, x, tok)
+		seen.put(math.Float64bits(x), m.n)
+		m.add(h, x)
 	}
-	out := binary.AppendUvarint(make([]byte, 0, len(tmpl)+len(nums)+4), uint64(len(tmpl)))
-	out = append(out, tmpl...)
+	// Every byte of js gives at most one of the template, so tmpl is
+	// still in buf.
+	var hdr [room]byte
+	w := binary.PutUvarint(hdr[:], uint64(len(tmpl)))
+	out := buf[room-w : room+len(tmpl)]
+	copy(out, hdr[:w])
 	return append(out, nums...), nil
 }
 
-// appendNumber appends the cheapest code of x, whose text is tok.
-func appendNumber(dst []byte, m *numberModel, key string, x float64, tok []byte) []byte {
+// smallInteger returns the value of tok when it is an integer of at most
+// 15 digits in the form encoding/json prints (no leading zero, no plus),
+// which a float64 holds exactly and appendJSONFloat prints back as tok.
+func smallInteger(tok []byte) (float64, bool) {
+	d := tok
+	if len(d) > 0 && d[0] == '-' {
+		d = d[1:]
+	}
+	if len(d) == 0 || len(d) > 15 || (d[0] == '0' && len(d) > 1) {
+		return 0, false
+	}
+	var n int64
+	for _, c := range d {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		n = n*10 + int64(c-'0')
+	}
+	x := float64(n)
+	if len(d) < len(tok) {
+		x = -x // "-0" is negative zero, as ParseFloat reads it
+	}
+	return x, true
+}
+
+// appendNumber appends the cheapest code of x, a value of the key whose
+// history is h, whose text is tok.
+func appendNumber(dst []byte, m *numberModel, seen *lastSeen, h *keyHistory, x float64, tok []byte) []byte {
 	bits := math.Float64bits(x)
-	if pos, ok := m.last[bits]; ok && m.n-1-pos < repeatWindow {
+	if pos, ok := seen.find(bits); ok && m.n-1-pos < repeatWindow {
 		return append(dst, byte(m.n-1-pos))
 	}
 	best, bestTag := uint64(math.MaxUint64), -1
-	pred, ok := m.predictions(key)
+	pred, ok := m.predictions(h)
 	for p := range pred {
 		if !ok[p] {
 			continue
@@ -370,7 +452,7 @@ func unpackJSON(p []byte) ([]byte, error) {
 			x = m.at(int(tag))
 		case tag >= tagPredicted && tag < tagRaw:
 			z, w := binary.Uvarint(nums)
-			pred, ok := m.predictions(sc.key)
+			pred, ok := m.predictions(m.history(sc.key))
 			if w <= 0 || !ok[tag-tagPredicted] {
 				return nil, bad
 			}
@@ -401,7 +483,7 @@ func unpackJSON(p []byte) ([]byte, error) {
 			return nil, bad
 		}
 		out = appendJSONFloat(out, x)
-		m.add(sc.key, x)
+		m.add(m.history(sc.key), x)
 	}
 	if len(nums) != 0 {
 		return nil, bad

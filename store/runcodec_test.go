@@ -8,6 +8,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -189,5 +190,37 @@ func TestMigrateRunResultsToVersion5(t *testing.T) {
 	sums, err := db.RunSummaries(ctx)
 	if err != nil || len(sums) != 2 || sums[0].Reviews != 2 || sums[1].Reviews != 2 || sums[1].Bytes <= 0 {
 		t.Errorf("run summaries %+v, %v", sums, err)
+	}
+}
+
+// TestSmallInteger checks the packer's shortcut for integers against the
+// general path: each token it accepts parses (strconv.ParseFloat) to the
+// same float64 bits and prints back (appendJSONFloat) as the same text.
+func TestSmallInteger(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	toks := []string{"0", "-0", "1", "-1", "999999999999999", "-999999999999999", "9007199254740993",
+		"1000000000000000", "01", "-", "", "1.5", "1e5", "12a", "+1"}
+	for range 3000 {
+		toks = append(toks, fmt.Sprint(rng.Int64N(2e15)-1e15), fmt.Sprint(rng.IntN(1000)))
+	}
+	accepted := 0
+	for _, tok := range toks {
+		x, ok := smallInteger([]byte(tok))
+		if !ok {
+			continue
+		}
+		accepted++
+		y, err := strconv.ParseFloat(tok, 64)
+		if err != nil || math.Float64bits(x) != math.Float64bits(y) || string(appendJSONFloat(nil, x)) != tok {
+			t.Errorf("%q: shortcut %v, ParseFloat %v (%v), printed back %q", tok, x, y, err, appendJSONFloat(nil, x))
+		}
+	}
+	for _, tok := range []string{"9007199254740993", "1000000000000000", "01", "-", "", "1.5", "1e5", "12a", "+1"} {
+		if _, ok := smallInteger([]byte(tok)); ok {
+			t.Errorf("%q taken as a small integer", tok)
+		}
+	}
+	if accepted < 6000 {
+		t.Errorf("only %d tokens accepted", accepted)
 	}
 }
