@@ -177,13 +177,19 @@ func (db *DB) LinkRecords(ctx context.Context, reviewID string) ([]LinkRecord, e
 	if reviewID != "" {
 		where, args = " WHERE review_id = ?", []any{reviewID}
 	}
+	return loadLinks(ctx, tx, where, args)
+}
+
+// loadLinks reads the links a WHERE clause on review_id selects, sorted by
+// review id, trial id and outcome index.
+func loadLinks(ctx context.Context, tx *sql.Tx, where string, args []any) ([]LinkRecord, error) {
 	var out []LinkRecord
 	type key struct {
 		review, trial string
 		outcome       int
 	}
 	index := make(map[key]int)
-	err = eachRow(ctx, tx, `SELECT review_id, trial_id, outcome_index, flip, unit_from, decision, class,
+	err := eachRow(ctx, tx, `SELECT review_id, trial_id, outcome_index, flip, unit_from, decision, class,
 		outcome_title, time_frame, score, reasons, auto_accepted, decided_at, source_path, source_sha256, source_position
 		FROM links`+where+` ORDER BY review_id, trial_id, outcome_index`, args, func(r *sql.Rows) error {
 		var rec LinkRecord

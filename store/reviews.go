@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"strings"
 
 	"unshelved/ingest"
 )
@@ -176,6 +177,11 @@ func loadReviews(ctx context.Context, tx *sql.Tx, id string) ([]ingest.Review, e
 	if id != "" {
 		where, args = " WHERE review_id = ?", []any{id}
 	}
+	return loadReviewsWhere(ctx, tx, where, args)
+}
+
+// loadReviewsWhere loads the reviews a WHERE clause on review_id selects.
+func loadReviewsWhere(ctx context.Context, tx *sql.Tx, where string, args []any) ([]ingest.Review, error) {
 	var out []ingest.Review
 	index := make(map[string]int)
 	err := eachRow(ctx, tx, `SELECT `+reviewColumns+` FROM reviews`+where+` ORDER BY review_id`, args,
@@ -220,10 +226,20 @@ func loadReviews(ctx context.Context, tx *sql.Tx, id string) ([]ingest.Review, e
 // ReviewStudies returns the studies of a review in file order. An unknown
 // review has no studies (an empty result, not an error).
 func (db *DB) ReviewStudies(ctx context.Context, reviewID string) ([]ingest.ReviewStudy, error) {
+	out, err := loadStudies(ctx, db.read, " WHERE review_id = ?", []any{reviewID})
+	if err != nil {
+		return nil, fmt.Errorf("list studies of review %s: %w", reviewID, err)
+	}
+	return out, nil
+}
+
+// loadStudies reads the studies a WHERE clause on review_id selects, by
+// review and in file order.
+func loadStudies(ctx context.Context, q querier, where string, args []any) ([]ingest.ReviewStudy, error) {
 	var out []ingest.ReviewStudy
-	err := eachRow(ctx, db.read, `SELECT review_id, study, registry_id, year, effect, se,
+	err := eachRow(ctx, q, `SELECT review_id, study, registry_id, year, effect, se,
 		treat_mean, treat_sd, treat_n, ctrl_mean, ctrl_sd, ctrl_n, note, source_path, source_sha256, source_position
-		FROM review_studies WHERE review_id = ? ORDER BY pos`, []any{reviewID}, func(r *sql.Rows) error {
+		FROM review_studies`+where+` ORDER BY review_id, pos`, args, func(r *sql.Rows) error {
 		var s ingest.ReviewStudy
 		var year, tn, cn sql.NullInt64
 		var effect, se, tm, tsd, cm, csd sql.NullFloat64
@@ -238,8 +254,66 @@ func (db *DB) ReviewStudies(ctx context.Context, reviewID string) ([]ingest.Revi
 		out = append(out, s)
 		return nil
 	})
+	return out, err
+}
+
+// ReviewData is a review with its studies and links.
+type ReviewData struct {
+	Review  ingest.Review
+	Studies []ingest.ReviewStudy // in file order
+	Links   []ingest.Link        // by trial id and outcome index
+}
+
+// ReviewsData reads the named reviews with their studies and links in
+// one read transaction and a fixed number of queries, in the order of
+// ids. A review that is not stored gives an error wrapping ErrNotFound.
+func (db *DB) ReviewsData(ctx context.Context, ids []string) ([]ReviewData, error) {
+	if len(ids) == 0 {
+		return nil, nil
+	}
+	tx, err := db.readTx(ctx)
 	if err != nil {
-		return nil, fmt.Errorf("list studies of review %s: %w", reviewID, err)
+		return nil, err
+	}
+	defer rollback(tx)
+	where := " WHERE review_id IN (?" + strings.Repeat(", ?", len(ids)-1) + ")"
+	args := make([]any, len(ids))
+	for i, id := range ids {
+		args[i] = id
+	}
+	reviews, err := loadReviewsWhere(ctx, tx, where, args)
+	if err != nil {
+		return nil, fmt.Errorf("load reviews: %w", err)
+	}
+	byID := make(map[string]*ReviewData, len(reviews))
+	for _, rv := range reviews {
+		byID[rv.ReviewID] = &ReviewData{Review: rv}
+	}
+	studies, err := loadStudies(ctx, tx, where, args)
+	if err != nil {
+		return nil, fmt.Errorf("load studies: %w", err)
+	}
+	for _, s := range studies {
+		if d := byID[s.ReviewID]; d != nil {
+			d.Studies = append(d.Studies, s)
+		}
+	}
+	links, err := loadLinks(ctx, tx, where, args)
+	if err != nil {
+		return nil, err
+	}
+	for _, l := range links {
+		if d := byID[l.ReviewID]; d != nil {
+			d.Links = append(d.Links, l.Link)
+		}
+	}
+	out := make([]ReviewData, len(ids))
+	for i, id := range ids {
+		d := byID[id]
+		if d == nil {
+			return nil, fmt.Errorf("load review %s: %w", id, ErrNotFound)
+		}
+		out[i] = *d
 	}
 	return out, nil
 }

@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"reflect"
 	"testing"
@@ -251,5 +252,63 @@ func TestSources(t *testing.T) {
 	}
 	if err := db.RecordSource(ctx, SourceFile{Path: "x"}); err == nil {
 		t.Error("RecordSource without hash accepted")
+	}
+}
+
+// TestReviewsData reads several reviews at once and requires what the
+// one-review reads give, in the order asked, and ErrNotFound for a review
+// that is not stored.
+func TestReviewsData(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpen(t)
+	var reviews []ingest.Review
+	var studies []ingest.ReviewStudy
+	var links []ingest.Link
+	for i, id := range []string{"R1", "R2", "R3", "R4"} {
+		reviews = append(reviews, testReview(id))
+		for j := range i + 1 {
+			studies = append(studies, testStudy(id, fmt.Sprintf("Study %d", 9-j), float64(j)-1))
+		}
+		for j := range i {
+			links = append(links, ingest.Link{ReviewID: id, TrialID: fmt.Sprintf("NCT9900%04d", 10-j), OutcomeIndex: j % 2,
+				Decision: "accept", TreatGroups: []string{"OG001"}, CtrlGroups: []string{"OG000", "OG002"}})
+		}
+	}
+	if err := db.SaveReviews(ctx, reviews, studies); err != nil {
+		t.Fatal(err)
+	}
+	if err := db.SaveLinks(ctx, links); err != nil {
+		t.Fatal(err)
+	}
+	ids := []string{"R3", "R1", "R4"}
+	got, err := db.ReviewsData(ctx, ids)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != len(ids) {
+		t.Fatalf("%d reviews for %d ids", len(got), len(ids))
+	}
+	for i, id := range ids {
+		rv, err := db.Review(ctx, id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		st, err := db.ReviewStudies(ctx, id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ls, err := db.Links(ctx, id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if want := (ReviewData{Review: rv, Studies: st, Links: ls}); !reflect.DeepEqual(got[i], want) {
+			t.Errorf("%s:\n got %+v\nwant %+v", id, got[i], want)
+		}
+		if len(st) == 0 || (id != "R1" && len(ls) == 0) {
+			t.Errorf("%s: %d studies, %d links read one by one", id, len(st), len(ls))
+		}
+	}
+	if _, err := db.ReviewsData(ctx, []string{"R2", "R9"}); !errors.Is(err, ErrNotFound) {
+		t.Errorf("unknown review: %v, want ErrNotFound", err)
 	}
 }
