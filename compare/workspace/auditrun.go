@@ -213,45 +213,38 @@ func LoadAuditInputs(ctx context.Context, db *store.DB, ids []string) ([]compare
 		return nil, err
 	}
 	out := make([]compare.AuditInput, 0, len(reviews))
-	for _, rv := range reviews {
-		in, err := loadAuditInput(ctx, db, rv)
+	for lo := 0; lo < len(reviews); lo += inputChunk {
+		ids := make([]string, 0, inputChunk)
+		for _, rv := range reviews[lo:min(lo+inputChunk, len(reviews))] {
+			ids = append(ids, rv.ReviewID)
+		}
+		ins, err := loadAuditInputChunk(ctx, db, ids)
 		if err != nil {
 			return nil, err
 		}
-		out = append(out, in)
+		out = append(out, ins...)
 	}
 	return out, nil
 }
 
-// loadAuditInput reads one review's input for LoadAuditInputs.
-func loadAuditInput(ctx context.Context, db *store.DB, rv ingest.Review) (compare.AuditInput, error) {
-	ins, err := loadAuditInputChunk(ctx, db, []ingest.Review{rv})
-	if err != nil {
-		return compare.AuditInput{}, err
-	}
-	return ins[0], nil
-}
-
-// loadAuditInputChunk reads the inputs of a few reviews: each review's
-// studies and links, then in one read the registry records of all their
-// accepted links and of the links classed included or no-results that
-// were not rejected (records not in the workspace are left out).
-func loadAuditInputChunk(ctx context.Context, db *store.DB, reviews []ingest.Review) ([]compare.AuditInput, error) {
+// loadAuditInputChunk reads the inputs of a few reviews: the reviews with
+// their studies and links in one read, then in another the registry
+// records of all their accepted links and of the links classed included
+// or no-results that were not rejected (records not in the workspace are
+// left out).
+func loadAuditInputChunk(ctx context.Context, db *store.DB, reviewIDs []string) ([]compare.AuditInput, error) {
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	ins := make([]compare.AuditInput, len(reviews))
+	data, err := db.ReviewsData(ctx, reviewIDs)
+	if err != nil {
+		return nil, err
+	}
+	ins := make([]compare.AuditInput, len(data))
 	var ids []string
 	seen := map[string]bool{}
-	for i, rv := range reviews {
-		in := compare.AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
-		var err error
-		if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
-			return nil, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
-		}
-		if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
-			return nil, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
-		}
+	for i, d := range data {
+		in := compare.AuditInput{Review: d.Review, Studies: d.Studies, Links: d.Links, Trials: map[string]ingest.Trial{}}
 		for _, l := range in.Links {
 			if wantTrial(l) && !seen[l.TrialID] {
 				seen[l.TrialID] = true
@@ -286,16 +279,19 @@ func wantTrial(l ingest.Link) bool {
 }
 
 // inputChunk is the number of reviews whose inputs are read together.
-const inputChunk = 16
+const inputChunk = 32
 
 // chunkedInputs hands out the inputs of reviews, reading them a chunk at a
-// time (the first worker to need a chunk reads it) and dropping each chunk
-// once all its inputs are taken, so that memory stays bounded.
+// time and dropping each chunk once all its inputs are taken, so that
+// memory stays bounded. The first worker to need a chunk reads it and
+// starts reading the next one in the background, so that the workers
+// rarely wait for a read.
 type chunkedInputs struct {
-	db     *store.DB
-	ids    []string // review ids; each chunk reads its reviews
-	mu     sync.Mutex
-	chunks map[int]*loadedChunk
+	db       *store.DB
+	ids      []string // review ids; each chunk reads its reviews
+	mu       sync.Mutex
+	chunks   map[int]*loadedChunk
+	prefetch sync.WaitGroup
 }
 
 // newChunkedInputs returns the inputs of the named reviews (all when ids
@@ -324,28 +320,45 @@ type loadedChunk struct {
 	left   int
 }
 
-func (c *chunkedInputs) input(ctx context.Context, i int) (compare.AuditInput, error) {
-	k := i / inputChunk
+// chunk returns chunk k, reading it if no one has yet, and whether this
+// call created it.
+func (c *chunkedInputs) chunk(ctx context.Context, k int) (*loadedChunk, bool) {
 	lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.ids))
 	c.mu.Lock()
 	ch := c.chunks[k]
-	if ch == nil {
+	created := ch == nil
+	if created {
 		ch = &loadedChunk{left: hi - lo}
 		c.chunks[k] = ch
 	}
 	c.mu.Unlock()
+	return ch, created
+}
+
+func (c *chunkedInputs) load(ctx context.Context, k int, ch *loadedChunk) {
 	ch.once.Do(func() {
-		reviews := make([]ingest.Review, 0, hi-lo)
-		for _, id := range c.ids[lo:hi] {
-			rv, err := c.db.Review(ctx, id)
-			if err != nil {
-				ch.err = err
-				return
-			}
-			reviews = append(reviews, rv)
-		}
-		ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, reviews)
+		lo, hi := k*inputChunk, min((k+1)*inputChunk, len(c.ids))
+		ch.inputs, ch.err = loadAuditInputChunk(ctx, c.db, c.ids[lo:hi])
 	})
+}
+
+// wait waits for the background reads to end.
+func (c *chunkedInputs) wait() { c.prefetch.Wait() }
+
+func (c *chunkedInputs) input(ctx context.Context, i int) (compare.AuditInput, error) {
+	k := i / inputChunk
+	lo := k * inputChunk
+	ch, created := c.chunk(ctx, k)
+	if created && (k+1)*inputChunk < len(c.ids) {
+		if next, ok := c.chunk(ctx, k+1); ok {
+			c.prefetch.Add(1)
+			go func() {
+				defer c.prefetch.Done()
+				c.load(ctx, k+1, next)
+			}()
+		}
+	}
+	c.load(ctx, k, ch)
 	if ch.err != nil {
 		return compare.AuditInput{}, ch.err
 	}
@@ -427,6 +440,7 @@ func RunAuditEach(ctx context.Context, db *store.DB, ids []string, opts compare.
 		if err != nil {
 			return err
 		}
+		defer inputs.wait()
 		err = AuditEach(ctx, len(inputs.ids), inputs.input, opts, so, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)

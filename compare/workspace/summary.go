@@ -44,6 +44,7 @@ func RunSummaryOpts(ctx context.Context, db *store.DB, auditOpts compare.Options
 		if err != nil {
 			return err
 		}
+		defer inputs.wait()
 		err = AuditEach(ctx, len(inputs.ids), inputs.input, auditOpts, StreamOptions{Workers: ro.Workers}, func(r AuditResult) error {
 			if r.Err != nil {
 				run.Failed = append(run.Failed, r.Err)
