@@ -334,6 +334,9 @@ func compareStudyHalfSteps(rv ingest.Review, s ingest.ReviewStudy, pub StudyEffe
 			note = "; both arms' means agree"
 		}
 	}
+	if level == matchNone {
+		return level, "", sizes // no caller shows why there is no match
+	}
 	why := fmt.Sprintf("%s: effect %s (SE %s) vs registry %s (SE %s) [%s], difference %s, rounding tolerance %s; group sizes %s vs %s (%s)%s",
 		s.Study, fmtNum(pub.Effect), fmtNum(pub.SE), fmtNum(reg.Effect), fmtNum(reg.SE), r.how,
 		fmtNum(reg.Effect-pub.Effect), fmtNum(tol), fmtSizes(pub.TreatN, pub.CtrlN), fmtSizes(reg.TreatN, reg.CtrlN), sizes, note)
