@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
-	"strings"
 
 	"unshelved/ingest"
 )
@@ -276,11 +275,8 @@ func (db *DB) ReviewsData(ctx context.Context, ids []string) ([]ReviewData, erro
 		return nil, err
 	}
 	defer rollback(tx)
-	where := " WHERE review_id IN (?" + strings.Repeat(", ?", len(ids)-1) + ")"
-	args := make([]any, len(ids))
-	for i, id := range ids {
-		args[i] = id
-	}
+	in, args := inList(ids)
+	where := " WHERE review_id IN (" + in + ")"
 	reviews, err := loadReviewsWhere(ctx, tx, where, args)
 	if err != nil {
 		return nil, fmt.Errorf("load reviews: %w", err)

@@ -149,6 +149,26 @@ func (r *trialRowScanner) Scan(dest ...any) error {
 	return nil
 }
 
+// inListStep rounds the length of IN lists up, so that reads of sets of
+// any size share a few statement texts (and the prepared statements
+// cached for them on each connection).
+const inListStep = 64
+
+// inList returns the placeholders of an IN list for ids (not empty) and
+// its arguments, padded to a multiple of inListStep by repeating the
+// first id (an IN list is a set: the repeats change nothing).
+func inList(ids []string) (string, []any) {
+	n := (len(ids) + inListStep - 1) / inListStep * inListStep
+	args := make([]any, n)
+	for i := range args {
+		args[i] = ids[0]
+	}
+	for i, id := range ids {
+		args[i] = id
+	}
+	return "?" + strings.Repeat(", ?", n-1), args
+}
+
 // loadTrials reads the stored trials with the given ids (those not
 // stored are left out), in the order of ids, with a fixed number of
 // queries whatever their count.
@@ -156,11 +176,7 @@ func loadTrials(ctx context.Context, tx *sql.Tx, ids []string) ([]*ingest.Trial,
 	if len(ids) == 0 {
 		return nil, nil
 	}
-	in := "?" + strings.Repeat(", ?", len(ids)-1)
-	args := make([]any, len(ids))
-	for i, id := range ids {
-		args[i] = id
-	}
+	in, args := inList(ids)
 	byID := make(map[string]*ingest.Trial, len(ids))
 	err := eachRow(ctx, tx, `SELECT trial_id, registry, org_study_id, brief_title, official_title, acronym,
 		organization_name, organization_class, overall_status, last_known_status, why_stopped, status_verified,
