@@ -1,10 +1,8 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"crypto/sha256"
-	"encoding/csv"
 	"encoding/hex"
 	"errors"
 	"fmt"
@@ -447,21 +445,8 @@ func readReviewFiles(g *globals, files []string, comma rune) ([]ingest.Review, [
 		if err != nil {
 			return nil, nil, err
 		}
-		var bad []*ingest.ParseError
-		switch kind, err := csvKind(data, comma); kind {
-		case "reviews":
-			var r []ingest.Review
-			r, bad, err = ingest.ReadReviews(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
-			reviews = append(reviews, r...)
-		case "studies":
-			var s []ingest.ReviewStudy
-			s, bad, err = ingest.ReadStudies(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
-			studies = append(studies, s...)
-		default:
-			problems = append(problems, fmt.Errorf("%s:1: %w", path, err))
-			failed = append(failed, path+" (1 problem)")
-			continue
-		}
+		r, st, bad, err := ingest.ReadReviewFile(data, comma, src)
+		reviews, studies = append(reviews, r...), append(studies, st...)
 		if err != nil {
 			return nil, nil, fmt.Errorf("read %s: %w", path, err)
 		}
@@ -550,37 +535,6 @@ func readWhole(g *globals, path string) ([]byte, ingest.Source, error) {
 	}
 	sum := sha256.Sum256(data)
 	return data, ingest.Source{Path: path, SHA256: hex.EncodeToString(sum[:])}, nil
-}
-
-// csvKind tells reviews.csv from studies.csv by the header row. When it
-// is neither it says why: another separator, or the columns missing and
-// misspelt against the format the header comes closer to.
-func csvKind(data []byte, comma rune) (string, error) {
-	if err := ingest.DelimiterError(data, comma); err != nil {
-		return "", err
-	}
-	r := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
-	r.Comma = comma
-	header, err := r.Read()
-	if err != nil {
-		return "", fmt.Errorf("no header row: %w", err)
-	}
-	cols := map[string]bool{}
-	for _, h := range header {
-		cols[strings.ToLower(strings.TrimSpace(h))] = true
-	}
-	switch {
-	case cols["review_id"] && cols["study"]:
-		return "studies", nil
-	case cols["review_id"] && cols["measure"]:
-		return "reviews", nil
-	}
-	kind, spec := "studies", ingest.StudiesColumns
-	if ingest.ReviewsColumns.Present(header) > ingest.StudiesColumns.Present(header) {
-		kind, spec = "reviews", ingest.ReviewsColumns
-	}
-	msg := spec.CheckHeader(header)
-	return "", fmt.Errorf("header names neither a reviews file (review_id, measure, ...) nor a studies file (review_id, study, ...); as a %s file it has %s", kind, msg)
 }
 
 func lineOf(s ingest.Source) string {

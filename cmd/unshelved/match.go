@@ -183,7 +183,7 @@ func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOpti
 		return err
 	}
 	var buf bytes.Buffer
-	if err := writeCSV(&buf, linkColumns(), linkRows(rep)); err != nil {
+	if err := ingest.WriteLinks(&buf, proposalLinks(rep)); err != nil {
 		return err
 	}
 	if opts.Links == "-" {
@@ -197,33 +197,31 @@ func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOpti
 	return render(g.IO.Out, g.Format, rep, matchGrid(rep))
 }
 
-// linkColumns returns the links file's columns; --apply reads the same file.
-func linkColumns() []string {
-	return []string{"review_id", "trial_id", "class", "outcome_index", "outcome_title", "time_frame",
-		"treat_groups", "ctrl_groups", "flip", "unit_from", "score", "reasons", "decision"}
-}
-
-// linkRows lists one row per proposed outcome, best first within each
-// trial and trials by best score; trials without a proposed outcome get
-// one row with empty outcome columns.
-func linkRows(rep workspace.MatchReport) [][]string {
-	var rows [][]string
+// proposalLinks lists one link per proposed outcome, best first within
+// each trial and trials by best score; a trial without a proposed outcome
+// gets one link naming no outcome (ingest.NoOutcomeIndex). Reasons join
+// the trial's and the outcome's.
+func proposalLinks(rep workspace.MatchReport) []ingest.Link {
+	var out []ingest.Link
 	for _, rp := range rep.Reviews {
 		for _, tp := range rp.Trials {
 			if len(tp.Outcomes) == 0 {
-				rows = append(rows, []string{rp.ReviewID, tp.TrialID, tp.Class, "", "", "", "", "", "", "",
-					full(tp.Score), strings.Join(tp.Reasons, "; "), ""})
+				score := tp.Score
+				out = append(out, ingest.Link{ReviewID: rp.ReviewID, TrialID: tp.TrialID, Class: tp.Class,
+					OutcomeIndex: ingest.NoOutcomeIndex, Score: &score, Reasons: strings.Join(tp.Reasons, "; ")})
 				continue
 			}
 			for _, op := range tp.Outcomes {
+				score := op.Score
 				reasons := append(append([]string(nil), tp.Reasons...), op.Reasons...)
-				rows = append(rows, []string{rp.ReviewID, tp.TrialID, tp.Class, strconv.Itoa(op.OutcomeIndex),
-					op.Title, op.TimeFrame, strings.Join(op.TreatGroups, ";"), strings.Join(op.CtrlGroups, ";"),
-					yesNo(op.Flip), op.UnitFrom, full(op.Score), strings.Join(reasons, "; "), op.Decision})
+				out = append(out, ingest.Link{ReviewID: rp.ReviewID, TrialID: tp.TrialID, Class: tp.Class,
+					OutcomeIndex: op.OutcomeIndex, OutcomeTitle: op.Title, TimeFrame: op.TimeFrame,
+					TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, Flip: op.Flip, UnitFrom: op.UnitFrom,
+					Score: &score, Reasons: strings.Join(reasons, "; "), Decision: op.Decision})
 			}
 		}
 	}
-	return rows
+	return out
 }
 
 // matchGrid is the per-review summary: candidates per class, proposed

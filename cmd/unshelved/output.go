@@ -15,6 +15,7 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 
 	"unshelved/analysis"
+	"unshelved/ingest"
 )
 
 // This file is the only place that renders results. Commands build report
@@ -208,7 +209,7 @@ func (s *csvStream) add(rows [][]string) error {
 	for _, r := range rows {
 		safe := make([]string, len(r))
 		for i, c := range r {
-			safe[i] = csvSafe(c)
+			safe[i] = ingest.GuardCell(c)
 		}
 		if err := s.cw.Write(safe); err != nil {
 			return err
@@ -281,25 +282,6 @@ func anySlice(s []string) []any {
 // formula are neutralised with a leading apostrophe.
 func writeCSV(w io.Writer, header []string, rows [][]string) error {
 	return newCSVStream(w, header).add(rows)
-}
-
-// csvSafe guards against spreadsheet formula injection: a cell starting
-// with =, +, @, tab or carriage return, or with - not followed by a
-// number, gets a leading apostrophe. Negative numbers stay numbers.
-func csvSafe(c string) string {
-	if c == "" {
-		return c
-	}
-	switch c[0] {
-	case '=', '+', '@', '\t', '\r':
-		return "'" + c
-	case '-':
-		if _, err := strconv.ParseFloat(c, 64); err == nil {
-			return c
-		}
-		return "'" + c
-	}
-	return c
 }
 
 // full formats a number at full precision for CSV; NaN and Inf are empty.

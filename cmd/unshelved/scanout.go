@@ -9,6 +9,7 @@ import (
 	"io"
 
 	"unshelved/compare"
+	"unshelved/ingest"
 	"unshelved/store"
 )
 
@@ -95,7 +96,7 @@ func (s *scanWriter) addJSON(r compare.ScanResult, js []byte) error {
 		}
 		row := scanCSVRow(r)
 		for i := range row {
-			row[i] = csvSafe(row[i])
+			row[i] = ingest.GuardCell(row[i])
 		}
 		if err := s.cw.Write(row); err != nil {
 			return err
