@@ -62,8 +62,6 @@ type Options struct {
 	// published-only analysis has fewer than MinStudiesHKSJ studies is
 	// compared on Wald intervals throughout (ReviewAudit.FewStudies).
 	CI string
-	// HKSJ is kept for older callers: true is the same as CI = CIHKSJ.
-	HKSJ bool
 	// SkipBias leaves out the publication-bias battery; SkipSelection only
 	// its selection model (the slowest part).
 	SkipBias, SkipSelection bool
@@ -83,11 +81,8 @@ type Options struct {
 	Harmonize HarmonizeOptions
 }
 
-// ciMethod resolves CI and HKSJ.
+// ciMethod resolves CI: CIHKSJ unless it names another valid method.
 func (o Options) ciMethod() string {
-	if o.HKSJ {
-		return CIHKSJ
-	}
 	if o.CI == CIWald || o.CI == CIHKSJUntruncated {
 		return o.CI
 	}

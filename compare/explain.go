@@ -441,12 +441,12 @@ func explainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link,
 		case strings.EqualFold(l.Decision, "accept"):
 			c.Why = "also accepted; one outcome per trial is pooled (the one above)"
 		case err != nil:
-			c.Why = "cannot be used: " + rejectText(err)
+			c.Why = "cannot be used: " + err.Error()
 		default:
 			c.Why = "not chosen: the link above ranks first"
 		}
 		if err != nil && !strings.HasPrefix(c.Why, "cannot") {
-			c.Why += "; cannot be used: " + rejectText(err)
+			c.Why += "; cannot be used: " + err.Error()
 		}
 		ex.Candidates = append(ex.Candidates, c)
 	}

@@ -51,12 +51,24 @@ type StudyEffect struct {
 type RejectError struct {
 	Reason string // short machine-friendly reason, e.g. "not-continuous"
 	Detail string // a sentence for people
+	Err    error  // the underlying error, if any (errors.Is/As reach it)
 }
 
 func (e *RejectError) Error() string { return e.Reason + ": " + e.Detail }
 
+// Unwrap returns the underlying error, nil when the rejection has none.
+func (e *RejectError) Unwrap() error { return e.Err }
+
+// reject builds a *RejectError; an error among args (the last one, if
+// several) becomes its Err.
 func reject(reason, format string, args ...any) error {
-	return &RejectError{Reason: reason, Detail: fmt.Sprintf(format, args...)}
+	e := &RejectError{Reason: reason, Detail: fmt.Sprintf(format, args...)}
+	for _, a := range args {
+		if err, ok := a.(error); ok {
+			e.Err = err
+		}
+	}
+	return e
 }
 
 // Rejection reasons, stable for scripts.

@@ -3,6 +3,7 @@ package compare
 import (
 	"errors"
 	"fmt"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -224,14 +225,16 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 	return rep, nil
 }
 
-// withSource prefixes an error with the file and line of the row.
+// withSource names the file and line of the row an error is about, as an
+// *ingest.ParseError, so a caller can tell with errors.As that the error
+// already says where it comes from.
 func withSource(src ingest.Source, err error) error {
 	if src.Path == "" {
 		return err
 	}
 	pos := strings.TrimPrefix(src.Position, "line ")
-	if pos == "" {
-		return fmt.Errorf("%s: %w", src.Path, err)
+	if line, convErr := strconv.Atoi(pos); convErr == nil && line > 0 {
+		return &ingest.ParseError{File: src.Path, Line: line, Err: err}
 	}
-	return fmt.Errorf("%s:%s: %w", src.Path, pos, err)
+	return &ingest.ParseError{File: src.Path, Position: pos, Err: err}
 }

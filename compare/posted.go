@@ -335,7 +335,7 @@ func chooseReading(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest
 	case posted.paired && crossover:
 		useAnalysis, cmp.Why = true, "used: the paired (within-participant) difference of a crossover record"
 	case !armsOK:
-		useAnalysis, cmp.Why = true, "used: the arms give no effect ("+rejectText(armsErr)+")"
+		useAnalysis, cmp.Why = true, "used: the arms give no effect ("+armsErr.Error()+")"
 	case !adjusted:
 		cmp.Why = "not used: the arms are raw means, which give the effect directly"
 	case opts.Prefer == PreferArms:
@@ -358,7 +358,7 @@ func chooseReading(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest
 				if posted.refusedDirection {
 					reason = ReasonDirection
 				}
-				return base, reject(reason, "%s; the posted between-group analysis cannot replace the arms: %s", rejectText(armsErr), posted.refused)
+				return base, reject(reason, "%s; the posted between-group analysis cannot replace the arms: %s", armsErr.Error(), posted.refused)
 			}
 			return base, armsErr
 		}
@@ -400,13 +400,6 @@ func chooseReading(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest
 	c := cmp
 	out.PostedAnalysis = &c
 	return out, nil
-}
-
-func rejectText(err error) string {
-	if re, ok := err.(*RejectError); ok {
-		return re.Reason + ": " + re.Detail
-	}
-	return err.Error()
 }
 
 // withSDChoice adds, for SMD reviews, a step saying which SD standardised

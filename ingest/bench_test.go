@@ -10,11 +10,12 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+	"unshelved/ingest/ingesttest"
 )
 
 func benchRecord(tb testing.TB) []byte {
 	tb.Helper()
-	return SyntheticStudy(rand.New(rand.NewPCG(1, 2)), "NCT99000042", 15, 2)
+	return ingesttest.SyntheticStudy(rand.New(rand.NewPCG(1, 2)), "NCT99000042", 15, 2)
 }
 
 func TestSyntheticStudy(t *testing.T) {
@@ -135,7 +136,7 @@ func BenchmarkScanRegistry(b *testing.B) {
 	var raw int64
 	for i := range n {
 		id := fmt.Sprintf("NCT99%06d", i)
-		rec := SyntheticStudy(r, id, 15, 2)
+		rec := ingesttest.SyntheticStudy(r, id, 15, 2)
 		raw += int64(len(rec))
 		f, err := w.Create(id[9:] + "/" + id + ".json")
 		if err != nil {

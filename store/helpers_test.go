@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"unshelved/ingest"
+	"unshelved/store/storetest"
 )
 
 // mustOpen opens a fresh database file in a temporary directory.
@@ -33,7 +34,7 @@ func mustOpenPath(t testing.TB, path string) *DB {
 func dump(t testing.TB, db *DB) string {
 	t.Helper()
 	var b bytes.Buffer
-	if err := db.Dump(context.Background(), &b); err != nil {
+	if err := storetest.Dump(context.Background(), db.Path(), &b); err != nil {
 		t.Fatalf("dump: %v", err)
 	}
 	return b.String()

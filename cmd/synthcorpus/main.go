@@ -27,8 +27,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
-
-	"unshelved/ingest"
+	"unshelved/ingest/ingesttest"
 )
 
 func main() {
@@ -129,7 +128,7 @@ func Record(seed uint64, i int, resultsShare float64) (id string, data []byte, r
 	if results {
 		outcomes = 15
 	}
-	return id, ingest.SyntheticStudy(r, id, outcomes, 2), results
+	return id, ingesttest.SyntheticStudy(r, id, outcomes, 2), results
 }
 
 type genRecord struct {

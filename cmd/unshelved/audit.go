@@ -20,7 +20,6 @@ type auditOptions struct {
 	Reviews   []string
 	Tau2      string
 	CI        string
-	HKSJ      bool
 	Level     float64
 	Bootstrap int
 	Seed      uint64
@@ -114,7 +113,6 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 	d := defaultAuditOptions(opts.g)
 	cmd.Flags().StringVar(&opts.Tau2, "tau2", d.Tau2, "tau² estimator for random effects: reml, dl or pm")
 	cmd.Flags().StringVar(&opts.CI, "ci", d.CI, "random-effects interval and its p-value: hksj (Hartung-Knapp-Sidik-Jonkman, scale floored at 1), hksj-untruncated or wald; Wald throughout for reviews with fewer than 3 published studies")
-	cmd.Flags().BoolVar(&opts.HKSJ, "hksj", false, "same as --ci hksj (kept for older scripts)")
 	cmd.Flags().Float64Var(&opts.Level, "level", d.Level, "confidence level")
 	cmd.Flags().IntVar(&opts.Bootstrap, "bootstrap", d.Bootstrap, "replicates of a parametric-bootstrap check of the shift's interval (shift.boot_ci_low/high; the interval itself is analytic); 0: no check")
 	cmd.Flags().Uint64Var(&opts.Seed, "seed", d.Seed, "seed of the bootstrap's draws (stored with the run)")
@@ -137,12 +135,6 @@ func (o *auditOptions) openDB(cmd *cobra.Command) (*store.DB, error) {
 func (o *auditOptions) validate(cmd *cobra.Command) error {
 	if err := checkTau2(o.Tau2); err != nil {
 		return err
-	}
-	if o.HKSJ {
-		if cmd.Flags().Changed("ci") && o.CI != compare.CIHKSJ {
-			return flagErrorf("--hksj contradicts --ci %s", o.CI)
-		}
-		o.CI = compare.CIHKSJ
 	}
 	if err := checkCI(o.CI); err != nil {
 		return err

@@ -143,4 +143,10 @@ func TestCIFlag(t *testing.T) {
 	if code, _, stderr := runCLI(t, "", "pool", path, "--ci", "wald", "--truncate-hksj"); code != exitUsage {
 		t.Errorf("--truncate-hksj with --ci wald: exit %d %s", code, stderr)
 	}
+	// --hksj is gone (--ci hksj is the default and says the same).
+	for _, cmd := range []string{"audit", "summary", "report", "scan"} {
+		if code, _, stderr := runCLI(t, "", cmd, "--hksj"); code != exitUsage || !strings.Contains(stderr, "unknown flag: --hksj") {
+			t.Errorf("%s --hksj: exit %d, stderr %q; want a usage error", cmd, code, stderr)
+		}
+	}
 }

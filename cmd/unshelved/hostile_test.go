@@ -10,7 +10,7 @@ import (
 	"strings"
 	"testing"
 
-	"unshelved/store"
+	"unshelved/store/storetest"
 )
 
 // The hostile-input suite: every reader gets broken or malicious input.
@@ -56,13 +56,8 @@ func gzipBytes(t *testing.T, data []byte) []byte {
 
 func dumpDB(t *testing.T, path string) string {
 	t.Helper()
-	db, err := store.Open(context.Background(), path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
 	var buf bytes.Buffer
-	if err := db.Dump(context.Background(), &buf); err != nil {
+	if err := storetest.Dump(context.Background(), path, &buf); err != nil {
 		t.Fatal(err)
 	}
 	return buf.String()

@@ -9,8 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
-
-	"unshelved/ingest"
+	"unshelved/ingest/ingesttest"
 )
 
 // writeCorpusZip writes a bulk zip of n invented records, share of them
@@ -28,7 +27,7 @@ func writeCorpusZip(tb testing.TB, dir string, n int, share float64, seed uint64
 		if r.Float64() < share {
 			outcomes = 15
 		}
-		rec := ingest.SyntheticStudy(r, id, outcomes, 2)
+		rec := ingesttest.SyntheticStudy(r, id, outcomes, 2)
 		raw += int64(len(rec))
 		f, err := zw.Create(id + ".json")
 		if err != nil {

@@ -14,7 +14,7 @@ import (
 	"sync"
 	"testing"
 
-	"unshelved/ingest"
+	"unshelved/ingest/ingesttest"
 	"unshelved/store"
 )
 
@@ -158,7 +158,7 @@ func TestContainersGiveSameDatabase(t *testing.T) {
 	dir := t.TempDir()
 	// Invented records with results too, so every table takes part.
 	for i := range 12 {
-		records = append(records, ingest.SyntheticStudy(rand.New(rand.NewPCG(4, uint64(i))), fmt.Sprintf("NCT9%07d", i), 3*(i%2), 2))
+		records = append(records, ingesttest.SyntheticStudy(rand.New(rand.NewPCG(4, uint64(i))), fmt.Sprintf("NCT9%07d", i), 3*(i%2), 2))
 	}
 	var page bytes.Buffer
 	page.WriteString(`{"studies":[`)
@@ -257,7 +257,7 @@ func TestRedownloadRecognisesEntries(t *testing.T) {
 	entries := map[string][]byte{}
 	for i := range 8 {
 		id := fmt.Sprintf("NCT98%06d", i)
-		entries["NCT98/"+id+".json"] = ingest.SyntheticStudy(rand.New(rand.NewPCG(7, uint64(i))), id, 2*(i%2), 2)
+		entries["NCT98/"+id+".json"] = ingesttest.SyntheticStudy(rand.New(rand.NewPCG(7, uint64(i))), id, 2*(i%2), 2)
 	}
 	first := writeFile(t, dir, "first.zip", string(zipBytes(t, entries)))
 	changed := "NCT98/NCT98000003.json"
@@ -266,7 +266,7 @@ func TestRedownloadRecognisesEntries(t *testing.T) {
 		t.Fatal("synthetic record has no briefTitle to change")
 	}
 	entries[changed] = []byte(strings.Replace(rec, `"briefTitle": "`, `"briefTitle": "Revised: `, 1))
-	entries["NCT98/NCT98000100.json"] = ingest.SyntheticStudy(rand.New(rand.NewPCG(7, 100)), "NCT98000100", 2, 2)
+	entries["NCT98/NCT98000100.json"] = ingesttest.SyntheticStudy(rand.New(rand.NewPCG(7, 100)), "NCT98000100", 2, 2)
 	second := writeFile(t, dir, "second.zip", string(zipBytes(t, entries)))
 
 	db := filepath.Join(dir, "w.db")

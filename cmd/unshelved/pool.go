@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"strings"
 
@@ -117,8 +118,8 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 		Measure: opts.Measure, Level: opts.Level, Tau2: analysis.Tau2Method(opts.Tau2), CI: opts.CI,
 	})
 	if err != nil {
-		if strings.HasPrefix(err.Error(), opts.File+":") {
-			return err
+		if pe := (*ingest.ParseError)(nil); errors.As(err, &pe) {
+			return err // names the file and line already
 		}
 		return fmt.Errorf("%s: %w", opts.File, err)
 	}

@@ -51,9 +51,6 @@ and seed. --run N shows a stored summary instead of computing one;
 			if err := checkTau2(opts.audit.Tau2); err != nil {
 				return err
 			}
-			if opts.audit.HKSJ {
-				opts.audit.CI = compare.CIHKSJ
-			}
 			if err := checkCI(opts.audit.CI); err != nil {
 				return err
 			}

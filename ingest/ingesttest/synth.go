@@ -1,4 +1,6 @@
-package ingest
+// Package ingesttest builds invented registry records for tests and
+// benchmark corpora (cmd/synthcorpus). Nothing in the tool imports it.
+package ingesttest
 
 import (
 	"encoding/json"
