@@ -51,7 +51,8 @@ var unitSpellings = map[string]string{
 	"pounds": "lb", "pound": "lb", "lbs": "lb",
 	// concentrations
 	"millimolesperliter": "mmol/l", "millimoles/liter": "mmol/l", "millimoles/litre": "mmol/l", "mmol/litre": "mmol/l",
-	"mmol/liter": "mmol/l", "millimole/liter": "mmol/l", "millimole/litre": "mmol/l", "mm": "mm",
+	"mmol/liter": "mmol/l", "millimole/liter": "mmol/l", "millimole/litre": "mmol/l", "millimolar": "mmol/l",
+	"micromolar": "umol/l", "nanomolar": "nmol/l",
 	"milligramsperdeciliter": "mg/dl", "milligrams/deciliter": "mg/dl", "milligrams/decilitre": "mg/dl", "mg/decilitre": "mg/dl",
 	"mg/deciliter": "mg/dl", "mg%": "mg/dl", "milligram/deciliter": "mg/dl", "milligram/decilitre": "mg/dl",
 	"mmol/molhb": "mmol/mol", "millimoles/mole": "mmol/mol", "millimole/mole": "mmol/mol",
@@ -67,12 +68,16 @@ var unitSpellings = map[string]string{
 	"pointsonascale": "points", "pointonascale": "points", "scaleunits": "points", "scalescore": "points", "unitsonthescale": "points",
 }
 
-// normUnit reduces a unit spelling to a comparison key: lower case; no
+// normUnit reduces a unit spelling to a comparison key: molar symbols
+// first, case-sensitively (molarUnits: "mM" is mmol/L); then lower case; no
 // spaces; "per" and "/" unified; "^2", "²" and "2" alike; then the
 // unitSpellings table ("mm Hg" and "mmHg" are both "mmhg", "mg/dL" is
 // "mg/dl", "Kg/m^2" is "kg/m2", "units on a scale" is "points"). A range
 // in brackets after a scale unit ("points (0-100)") is dropped.
 func normUnit(u string) string {
+	if k, ok := molarUnits[strings.TrimSpace(u)]; ok {
+		return k
+	}
 	u = strings.ToLower(strings.TrimSpace(u))
 	if i := strings.IndexAny(u, "(["); i > 0 && scaleWords(u[:i]) {
 		u = strings.TrimSpace(u[:i])
@@ -83,6 +88,14 @@ func normUnit(u string) string {
 		return k
 	}
 	return u
+}
+
+// molarUnits are the molar-concentration symbols, read before lower-casing
+// because case alone tells them apart from lengths and masses: "mM" is
+// millimolar (mmol/L), "mm" a millimetre (SI: M = mol/L, common practice,
+// no source).
+var molarUnits = map[string]string{
+	"mM": "mmol/l", "µM": "umol/l", "μM": "umol/l", "uM": "umol/l", "nM": "nmol/l",
 }
 
 // scaleWords reports whether a unit text names a rating-scale score.
@@ -176,7 +189,7 @@ func findConversion(from, to, outcomeText string) (*unitConversion, error) {
 // physicalUnits are units of measurement (as opposed to scale scores) whose
 // mismatch with a review's unit is worth a flag.
 var physicalUnits = map[string]bool{
-	"mg/dl": true, "mmol/l": true, "umol/l": true, "mmol/mol": true, "%": true, "g/dl": true, "g/l": true,
+	"mg/dl": true, "mmol/l": true, "umol/l": true, "nmol/l": true, "mmol/mol": true, "%": true, "g/dl": true, "g/l": true,
 	"ng/ml": true, "pg/ml": true, "iu/l": true, "u/l": true, "kg": true, "lb": true, "g": true, "mg": true, "cm": true,
 	"mm": true, "m": true, "kg/m2": true, "mmhg": true, "bpm": true, "ml": true, "l": true, "ml/min": true,
 	"ml/min/1.73m2": true, "db": true, "dbsl": true, "dbhl": true, "dba": true, "hz": true, "khz": true, "seconds": true, "minutes": true, "hours": true, "days": true, "s": true, "min": true, "h": true,

@@ -37,6 +37,14 @@ func TestUnitSpellingPairs(t *testing.T) {
 		{"kg", "lb", false},
 		{"points", "dB SL", false},
 		{"mmHg", "mm", false},
+		// Millimolar is a concentration, not a millimetre.
+		{"mM", "mmol/L", true},
+		{"mM", "millimolar", true},
+		{"mM", "mm", false},
+		{"mM", "millimeters", false},
+		{"µM", "µmol/L", true},
+		{"nM", "nmol/L", true},
+		{"nM", "nm", false},
 	} {
 		if got := normUnit(tc.a) == normUnit(tc.b); got != tc.same {
 			t.Errorf("%q (%q) vs %q (%q): same %v, want %v", tc.a, normUnit(tc.a), tc.b, normUnit(tc.b), got, tc.same)
@@ -90,5 +98,19 @@ func TestAnalyteSynonyms(t *testing.T) {
 		if !scalar.EqualWithinAbsOrRel(c.Scale, tc.scale, 1e-12, 1e-12) || c.Source == "" {
 			t.Errorf("%q %s->%s: scale %v (source %q), want %v", tc.outcome, tc.from, tc.to, c.Scale, c.Source, tc.scale)
 		}
+	}
+}
+
+// TestMillimolarIsAConcentration: a registry unit "mM" fits a review in
+// mmol/L without conversion and never fits one in millimetres.
+func TestMillimolarIsAConcentration(t *testing.T) {
+	if c, err := findConversion("mM", "mmol/L", "fasting plasma glucose"); c != nil || err != nil {
+		t.Errorf("mM to mmol/L: %v, %v; want the same unit", c, err)
+	}
+	if _, err := findConversion("mM", "mm", "lesion diameter"); err == nil {
+		t.Errorf("mM to mm: no error")
+	}
+	if !physicalUnit("mM") {
+		t.Errorf("mM not recognised as a unit of measurement")
 	}
 }
