@@ -85,6 +85,9 @@ type studyMatch struct {
 	study string
 	why   string // the compared values
 	sizes string // equal, near, off or unknown
+	// tied lists the other studies the trial reads the same as (matchSame),
+	// as well as study.
+	tied []string
 }
 
 // readingsFor reads a registry outcome in every way the review could have
@@ -380,7 +383,8 @@ func fmtSizes(t, c int) string {
 }
 
 // bestStudyMatch compares every reading with every study and returns the
-// strongest match (the first study in file order on ties).
+// strongest match (the first study in file order on ties; other studies
+// it reads the same as are in tied).
 func bestStudyMatch(rv ingest.Review, studies []ingest.ReviewStudy, readings []registryReading) studyMatch {
 	var best studyMatch
 	for _, s := range studies {
@@ -390,8 +394,11 @@ func bestStudyMatch(rv ingest.Review, studies []ingest.ReviewStudy, readings []r
 		}
 		for _, r := range readings {
 			level, why, sizes := compareStudy(rv, s, pub, r)
-			if level > best.level {
+			switch {
+			case level > best.level:
 				best = studyMatch{level: level, study: s.Study, why: why, sizes: sizes}
+			case level == best.level && level == matchSame && s.Study != best.study && !slices.Contains(best.tied, s.Study):
+				best.tied = append(best.tied, s.Study)
 			}
 		}
 	}
@@ -427,17 +434,54 @@ func recogniseIncluded(rt *reviewTerms, t ingest.Trial, ops []OutcomeProposal) s
 // possibly-included on a near match. It reports whether it set a class.
 func classifyIncluded(rt *reviewTerms, t ingest.Trial, tp *TrialProposal) bool {
 	m := recogniseIncluded(rt, t, tp.Outcomes)
-	switch m.level {
-	case matchSame:
+	tp.recognised = m.level > matchNone
+	switch {
+	case m.level == matchSame && len(m.tied) > 0:
+		// Two studies of the review read alike: which one the trial is
+		// cannot be told from the numbers.
+		tp.Class, tp.IncludedAs = ClassPossiblyIncluded, m.study
+		tp.Reasons = append([]string{fmt.Sprintf("ambiguous: reads like %s and like %s of the review; a person must decide which, if any (%s)",
+			m.study, strings.Join(m.tied, ", "), m.why)}, tp.Reasons...)
+	case m.level == matchSame:
 		tp.Class, tp.IncludedAs = ClassIncluded, m.study
 		tp.Reasons = append([]string{fmt.Sprintf("in the review as %s: effect, SE and group sizes agree with the registry results (%s)", m.study, m.why)}, tp.Reasons...)
-	case matchPossible:
+	case m.level == matchPossible:
 		tp.Class, tp.IncludedAs = ClassPossiblyIncluded, m.study
 		tp.Reasons = append([]string{fmt.Sprintf("possibly in the review as %s: a near match, a person must decide (%s)", m.study, m.why)}, tp.Reasons...)
 	default:
 		return false
 	}
 	return true
+}
+
+// resolveIncludedTies: a published study is one trial. When several
+// registry trials read the same as one study (matchSame, not just near),
+// none of them can be claimed as it: each becomes possibly-included, with
+// a reason naming the others, and a person decides. A single exact match
+// keeps its claim beside near matches (those are possibly-included
+// already).
+func resolveIncludedTies(tps []TrialProposal) {
+	claims := map[string][]int{}
+	for i, tp := range tps {
+		if tp.recognised && tp.Class == ClassIncluded {
+			claims[tp.IncludedAs] = append(claims[tp.IncludedAs], i)
+		}
+	}
+	for study, idx := range claims {
+		if len(idx) < 2 {
+			continue
+		}
+		ids := make([]string, len(idx))
+		for j, i := range idx {
+			ids[j] = tps[i].TrialID
+		}
+		for _, i := range idx {
+			tp := &tps[i]
+			tp.Class = ClassPossiblyIncluded
+			tp.Reasons = append([]string{fmt.Sprintf("ambiguous: %d registry trials (%s) read the same as the review's study %s, which is one trial; which one it is, if any, cannot be told from the numbers: a person must decide",
+				len(idx), strings.Join(ids, ", "), study)}, tp.Reasons...)
+		}
+	}
 }
 
 // DuplicateOfPublished reports whether an accepted registry link reads the

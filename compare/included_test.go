@@ -391,3 +391,37 @@ func TestIncludedSMD(t *testing.T) {
 		}
 	}
 }
+
+// TestIncludedTiesAreAmbiguous: a published study is one trial. Three
+// registry records with identical results that all read the same as one
+// study are not all claimed as it: each is possibly-included, naming the
+// others. And one record that reads the same as two identical studies is
+// not claimed as the first of them.
+func TestIncludedTiesAreAmbiguous(t *testing.T) {
+	tc := visitLayouts()[0]
+	var trials []ingest.Trial
+	for _, id := range []string{"NCT99180101", "NCT99180102", "NCT99180103"} {
+		tr := tc.trial
+		tr.TrialID = id
+		trials = append(trials, tr)
+	}
+	// One record alone is recognised as the study (the layout test).
+	if rp := ProposeForReview(tc.review, []ingest.ReviewStudy{tc.same}, trials[:1], MatchOptions{}); rp.Trials[0].Class != tc.wantSame {
+		t.Fatalf("one record: class %s, want %s", rp.Trials[0].Class, tc.wantSame)
+	}
+	rp := ProposeForReview(tc.review, []ingest.ReviewStudy{tc.same}, trials, MatchOptions{AcceptAbove: DefaultAcceptAbove})
+	if rp.Flow.Included != 0 || rp.Flow.PossiblyIncluded != 3 {
+		t.Errorf("three identical records: flow %+v, want 0 included and 3 possibly included", rp.Flow)
+	}
+	for _, tp := range rp.Trials {
+		if tp.Class != ClassPossiblyIncluded || tp.IncludedAs != tc.same.Study || !strings.Contains(tp.Reasons[0], "ambiguous: 3 registry trials (NCT99180101, NCT99180102, NCT99180103) read the same as") {
+			t.Errorf("%s: class %s as %q, first reason %q", tp.TrialID, tp.Class, tp.IncludedAs, tp.Reasons[0])
+		}
+	}
+	twin := tc.same
+	twin.Study = "Twin of " + tc.same.Study
+	rp = ProposeForReview(tc.review, []ingest.ReviewStudy{tc.same, twin}, trials[:1], MatchOptions{})
+	if tp := rp.Trials[0]; tp.Class != ClassPossiblyIncluded || !strings.Contains(tp.Reasons[0], "ambiguous: reads like") || !strings.Contains(tp.Reasons[0], twin.Study) {
+		t.Errorf("two identical studies: class %s, first reason %q", tp.Class, tp.Reasons[0])
+	}
+}

@@ -115,6 +115,9 @@ type TrialProposal struct {
 	Design   string            `json:"design"`
 	Reasons  []string          `json:"reasons"`
 	Outcomes []OutcomeProposal `json:"outcomes"`
+	// recognised: IncludedAs comes from the trial's numbers (not a cited
+	// registry id); see resolveIncludedTies.
+	recognised bool
 }
 
 // ExcludedTrial is a trial that was examined and does not fit the review.
@@ -234,6 +237,7 @@ func ProposeForReview(rv ingest.Review, studies []ingest.ReviewStudy, candidates
 		}
 		out.Trials = append(out.Trials, *tp)
 	}
+	resolveIncludedTies(out.Trials)
 	sort.SliceStable(out.Trials, func(i, j int) bool {
 		a, b := out.Trials[i], out.Trials[j]
 		if a.Score != b.Score {
