@@ -306,18 +306,32 @@ func methodsFor(a compare.ReviewAudit) []method {
 	case string(analysis.Tau2PM):
 		tau = "Paule-Mandel tau²: Paule RC, Mandel J. J Res Natl Bur Stand 1982;87:377-85."
 	}
-	return []method{
+	out := []method{
 		{"Random-effects pooling (tau² estimator " + strings.ToUpper(a.Published.Random.Tau2Method) + "), fixed effect by inverse variance", tau},
 		{"Confidence interval and p-value of the pooled estimate", ci},
 		{"Prediction interval for the effect in a new study", "Higgins JPT, Thompson SG, Spiegelhalter DJ. A re-evaluation of random-effects meta-analysis. J R Stat Soc A 2009;172:137-59."},
-		{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."},
-		{"Rank correlation test (Begg & Mazumdar 1994)", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."},
-		{"Trim-and-fill", "Duval S, Tweedie R. Trim and fill: a simple funnel-plot-based method of testing and adjusting for publication bias in meta-analysis. Biometrics 2000;56:455-63."},
-		{"PET-PEESE conditional estimate", "Stanley TD, Doucouliagos H. Meta-regression approximations to reduce publication selection bias. Res Synth Methods 2014;5:60-78."},
-		{"Step-function selection model", "Vevea JL, Hedges LV. A general linear model for estimating effect size in the presence of publication bias. Psychometrika 1995;60:419-35."},
-		{"Conversions of posted registry results (SD from SE or CI, combining arms, medians and ranges)", "Higgins JPT, Li T, Deeks JJ (eds). Chapter 6: Choosing effect measures and computing estimates of effect. Cochrane Handbook for Systematic Reviews of Interventions, version 6."},
-		{"Mean difference, Hedges' g and their variances", "Borenstein M, Hedges LV, Higgins JPT, Rothstein HR. Introduction to Meta-Analysis. Wiley 2009, ch. 4."},
 	}
+	// The bias battery's methods are cited only where they ran.
+	if b := a.Bias; b != nil {
+		for _, m := range []struct {
+			ran bool
+			m   method
+		}{
+			{b.Egger != nil, method{"Egger's regression test for funnel asymmetry", "Egger M, Davey Smith G, Schneider M, Minder C. Bias in meta-analysis detected by a simple, graphical test. BMJ 1997;315:629-34."}},
+			{b.Begg != nil, method{"Rank correlation test (Begg & Mazumdar 1994)", "Begg CB, Mazumdar M. Operating characteristics of a rank correlation test for publication bias. Biometrics 1994;50:1088-101."}},
+			{b.TrimFill != nil, method{"Trim-and-fill", "Duval S, Tweedie R. Trim and fill: a simple funnel-plot-based method of testing and adjusting for publication bias in meta-analysis. Biometrics 2000;56:455-63."}},
+			{b.PETPEESE != nil, method{"PET-PEESE conditional estimate", "Stanley TD, Doucouliagos H. Meta-regression approximations to reduce publication selection bias. Res Synth Methods 2014;5:60-78."}},
+			{b.Selection != nil, method{"Step-function selection model", "Vevea JL, Hedges LV. A general linear model for estimating effect size in the presence of publication bias. Psychometrika 1995;60:419-35."}},
+		} {
+			if m.ran {
+				out = append(out, m.m)
+			}
+		}
+	}
+	return append(out,
+		method{"Conversions of posted registry results (SD from SE or CI, combining arms, medians and ranges)", "Higgins JPT, Li T, Deeks JJ (eds). Chapter 6: Choosing effect measures and computing estimates of effect. Cochrane Handbook for Systematic Reviews of Interventions, version 6."},
+		method{"Mean difference, Hedges' g and their variances", "Borenstein M, Hedges LV, Higgins JPT, Rothstein HR. Introduction to Meta-Analysis. Wiley 2009, ch. 4."},
+	)
 }
 
 // verdict states the conclusion changes in words.

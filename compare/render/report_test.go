@@ -65,7 +65,7 @@ func TestWriteReportDemo(t *testing.T) {
 		s := string(page)
 		for _, want := range []string{"<svg", "Forest plot", "Contour-enhanced funnel plot", "Egger", "Begg", "Trim-and-fill",
 			"PET-PEESE", "Selection model", "GRADE-style hint", "DerSimonian", "Higgins JPT, Thompson SG, Spiegelhalter DJ",
-			"Duval S, Tweedie R", "Vevea JL, Hedges LV", "Stanley TD, Doucouliagos H", "Begg CB, Mazumdar M", "Borenstein M",
+			"Duval S, Tweedie R", "Stanley TD, Doucouliagos H", "Begg CB, Mazumdar M", "Borenstein M",
 			"Cochrane Handbook", "not peer reviewed", "not proof of publication bias", "GRADE assessment and local practice"} {
 			if !strings.Contains(s, want) {
 				t.Errorf("%s: page lacks %q", a.ReviewID, want)
@@ -310,5 +310,46 @@ func TestReportPIntervalProperty(t *testing.T) {
 	}
 	if checked < 9*n/10 || skipped > checked/10 {
 		t.Errorf("checked %d rows, skipped %d", checked, skipped)
+	}
+}
+
+// TestReportCitesOnlyMethodsRun: the page's list of methods names the
+// selection model only when it ran, and the bias tests only when the
+// battery ran.
+func TestReportCitesOnlyMethodsRun(t *testing.T) {
+	// The demo's selection model cannot run (no study in its upper
+	// p-value interval); give the first review one that ran.
+	noSel := loadDemoAudits(t)[0]
+	if noSel.Bias == nil || noSel.Bias.Selection != nil {
+		t.Fatal("the demo audit's bias battery changed")
+	}
+	full := noSel
+	b := *noSel.Bias
+	b.Selection = &compare.SelectionJSON{Cutpoints: []float64{0.025}, Estimate: fptr(0.3), SE: fptr(0.1), CILow: fptr(0.1), CIHigh: fptr(0.5),
+		Tau2: fptr(0.01), Weights: []*float64{fptr(1), fptr(0.5)}, WeightsSE: []*float64{nil, fptr(0.2)}, Counts: []int{3, 4},
+		LRT: fptr(1.6), LRTDF: 1, LRTP: fptr(0.2), Converged: true}
+	full.Bias = &b
+	noBias := full
+	noBias.Bias = nil
+	for _, tc := range []struct {
+		name         string
+		a            compare.ReviewAudit
+		vevea, duval bool
+	}{{"all ran", full, true, true}, {"no selection model", noSel, false, true}, {"no bias battery", noBias, false, false}} {
+		dir := t.TempDir()
+		if _, err := WriteReport(dir, []compare.ReviewAudit{tc.a}, ReportOptions{}); err != nil {
+			t.Fatal(err)
+		}
+		page, err := os.ReadFile(filepath.Join(dir, PageName(tc.a.ReviewID)))
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := string(page)
+		if got := strings.Contains(s, "Vevea JL, Hedges LV"); got != tc.vevea {
+			t.Errorf("%s: cites the selection model %v, want %v", tc.name, got, tc.vevea)
+		}
+		if got := strings.Contains(s, "Duval S, Tweedie R"); got != tc.duval {
+			t.Errorf("%s: cites trim-and-fill %v, want %v", tc.name, got, tc.duval)
+		}
 	}
 }
