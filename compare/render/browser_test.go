@@ -3,6 +3,7 @@ package render
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"image"
 	"image/color"
 	"image/png"
@@ -243,5 +244,41 @@ func TestBrowserHostileText(t *testing.T) {
 	}
 	if red > 100 {
 		t.Errorf("%d pure red sample pixels: the injected box was drawn", red)
+	}
+}
+
+// pdfPages counts the page objects of a PDF written by chromium.
+func pdfPages(pdf []byte) int {
+	return len(regexp.MustCompile(`/Type\s*/Page[^s]`).FindAll(pdf, -1))
+}
+
+// TestBrowserPrintsClosedDetails: under the report's stylesheet a closed
+// <details> section prints as if open (same number of pages), on a page
+// whose closed section is long enough to take pages of its own.
+func TestBrowserPrintsClosedDetails(t *testing.T) {
+	bin := chromium(t)
+	var rows strings.Builder
+	for i := range 300 {
+		fmt.Fprintf(&rows, "<tr><td>NCT99%06d</td><td>screening</td><td>another condition</td></tr>", i)
+	}
+	dir := t.TempDir()
+	pages := map[string]int{}
+	for _, open := range []string{"", " open"} {
+		html := "<!doctype html><html><head><meta charset=\"utf-8\"><style>" + reportCSS + "</style></head><body><h1>Review</h1>" +
+			"<details class=\"excluded\"" + open + "><summary>Excluded trials</summary><table><tbody>" + rows.String() + "</tbody></table></details></body></html>"
+		page := filepath.Join(dir, "page"+strings.TrimSpace(open)+".html")
+		if err := os.WriteFile(page, []byte(html), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		out := filepath.Join(dir, "page"+strings.TrimSpace(open)+".pdf")
+		headless(t, bin, page, "--no-pdf-header-footer", "--print-to-pdf="+out)
+		pdf, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		pages[open] = pdfPages(pdf)
+	}
+	if pages[" open"] < 3 || pages[""] != pages[" open"] {
+		t.Errorf("printed pages: closed section %d, open %d; want equal and at least 3", pages[""], pages[" open"])
 	}
 }
