@@ -1,7 +1,6 @@
 package compare
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -10,7 +9,6 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // DiscrepancyTolerance says when a published value and the registry value
@@ -418,9 +416,9 @@ func linkRank(links []ingest.Link) {
 	})
 }
 
-// explainTrialInReview explains one trial's links in one review: the
+// ExplainTrialInReview explains one trial's links in one review: the
 // first after linkRank in full, the others as candidates.
-func explainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link, hopts HarmonizeOptions) Explanation {
+func ExplainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link, hopts HarmonizeOptions) Explanation {
 	linkRank(links)
 	ex := ExplainLinkWith(rv, t, links[0], hopts)
 	for _, l := range links[1:] {
@@ -451,57 +449,4 @@ func explainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link,
 		ex.Candidates = append(ex.Candidates, c)
 	}
 	return ex
-}
-
-// Explain is ExplainWith with the default harmonization options.
-func Explain(ctx context.Context, db *store.DB, trialID, reviewID string) ([]Explanation, error) {
-	return ExplainWith(ctx, db, trialID, reviewID, HarmonizeOptions{})
-}
-
-// ExplainWith traces a trial's use in every review it is linked to (in
-// one review when reviewID is not empty), in review id order: one
-// explanation per review, of the accepted link (else the best candidate),
-// with the other candidate outcomes one line each. A trial with no link
-// gives one explanation of the record alone, with Rejected saying so.
-func ExplainWith(ctx context.Context, db *store.DB, trialID, reviewID string, hopts HarmonizeOptions) ([]Explanation, error) {
-	t, err := db.Trial(ctx, trialID)
-	if errors.Is(err, store.ErrNotFound) {
-		return nil, fmt.Errorf("trial %q is not in the workspace", trialID)
-	}
-	if err != nil {
-		return nil, fmt.Errorf("load trial %s: %w", trialID, err)
-	}
-	links, err := db.Links(ctx, reviewID)
-	if err != nil {
-		return nil, fmt.Errorf("load links: %w", err)
-	}
-	byReview := map[string][]ingest.Link{}
-	var order []string
-	for _, l := range links {
-		if !strings.EqualFold(l.TrialID, t.TrialID) {
-			continue
-		}
-		if _, ok := byReview[l.ReviewID]; !ok {
-			order = append(order, l.ReviewID)
-		}
-		byReview[l.ReviewID] = append(byReview[l.ReviewID], l)
-	}
-	sort.Strings(order)
-	var out []Explanation
-	for _, id := range order {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		rv, err := db.Review(ctx, id)
-		if err != nil {
-			return nil, fmt.Errorf("load review %s: %w", id, err)
-		}
-		out = append(out, explainTrialInReview(rv, t, byReview[id], hopts))
-	}
-	if len(out) == 0 {
-		ex := ExplainLinkWith(ingest.Review{ReviewID: reviewID}, t, ingest.Link{OutcomeIndex: -1}, hopts)
-		ex.Rejected = "no-link: the trial is not linked to " + map[bool]string{true: "any review", false: "review " + reviewID}[reviewID == ""]
-		out = append(out, ex)
-	}
-	return out, nil
 }

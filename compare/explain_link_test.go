@@ -21,7 +21,7 @@ func TestExplainAcceptedLinkFirst(t *testing.T) {
 		{TrialID: tr.TrialID, OutcomeIndex: 0, TreatGroups: []string{"OG000"}, CtrlGroups: []string{"OG001"}, Score: &lo, Decision: "accept"},
 		{TrialID: tr.TrialID, OutcomeIndex: 1, TreatGroups: []string{"OG001"}, CtrlGroups: []string{"OG000"}, Score: &lo, Decision: "reject", AutoAccepted: false},
 	}
-	ex := explainTrialInReview(mdReview, tr, links, HarmonizeOptions{})
+	ex := ExplainTrialInReview(mdReview, tr, links, HarmonizeOptions{})
 	if ex.Link.OutcomeIndex != 0 || ex.Link.Decision != "accept" || ex.Link.DecidedBy != "person" {
 		t.Errorf("explained link %+v, want the accepted outcome 0 decided by a person", ex.Link)
 	}

@@ -4,7 +4,7 @@ import (
 	"testing"
 
 	"unshelved/compare/internal/corpus"
-	"unshelved/store"
+	"unshelved/ingest"
 )
 
 // benchWorld builds 100 reviews against 100,000 registry trials: the 1,800
@@ -40,7 +40,7 @@ func BenchmarkMatch(b *testing.B) {
 // summaries (what Match does once per run after store.TrialSummaries).
 func BenchmarkTrialIndex(b *testing.B) {
 	w := benchWorld(b)
-	sums := make([]store.TrialSummary, 0, w.ix.Len())
+	sums := make([]ingest.TrialSummary, 0, w.ix.Len())
 	for _, t := range w.c.Trials {
 		sums = append(sums, corpus.Summary(t))
 	}

@@ -6,7 +6,6 @@ import (
 
 	"unshelved/compare/internal/corpus"
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // corpusWorld is a generated corpus with its summaries indexed, as Match
@@ -22,7 +21,7 @@ type corpusWorld struct {
 func newCorpusWorld(tb testing.TB, s corpus.Settings) *corpusWorld {
 	tb.Helper()
 	w := &corpusWorld{c: corpus.New(s), byID: map[string]ingest.Trial{}, bySec: map[string]string{}, bgByID: map[string]int{}}
-	sums := make([]store.TrialSummary, 0, len(w.c.Trials)+w.c.Background)
+	sums := make([]ingest.TrialSummary, 0, len(w.c.Trials)+w.c.Background)
 	for _, t := range w.c.Trials {
 		w.byID[t.TrialID] = t
 		for _, s := range t.SecondaryIDs {

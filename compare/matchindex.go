@@ -7,7 +7,6 @@ import (
 	"strings"
 
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // TrialIndex is an in-memory inverted index over trial summaries: from
@@ -25,7 +24,7 @@ type TrialIndex struct {
 }
 
 // NewTrialIndex indexes summaries (any order).
-func NewTrialIndex(summaries []store.TrialSummary) *TrialIndex {
+func NewTrialIndex(summaries []ingest.TrialSummary) *TrialIndex {
 	ix := &TrialIndex{ids: make([]string, len(summaries)), cond: map[string][]int32{}, intv: map[string][]int32{}}
 	add := func(m map[string][]int32, seen map[string]bool, pos int32, texts ...string) {
 		for _, tx := range texts {
@@ -74,7 +73,7 @@ func NewTrialIndexBuilder() *TrialIndexBuilder {
 }
 
 // Add indexes one text of a trial on the condition side, the intervention
-// side or both (store.IndexCondition, store.IndexIntervention).
+// side or both (ingest.IndexCondition, ingest.IndexIntervention).
 func (b *TrialIndexBuilder) Add(trialID string, side int, text string) {
 	p, ok := b.pos[trialID]
 	if !ok {
@@ -87,10 +86,10 @@ func (b *TrialIndexBuilder) Add(trialID string, side int, text string) {
 			continue
 		}
 		s := stem(w)
-		if side&store.IndexCondition != 0 {
+		if side&ingest.IndexCondition != 0 {
 			b.ix.cond[s] = appendPos(b.ix.cond[s], p)
 		}
-		if side&store.IndexIntervention != 0 {
+		if side&ingest.IndexIntervention != 0 {
 			b.ix.intv[s] = appendPos(b.ix.intv[s], p)
 		}
 	}

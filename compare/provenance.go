@@ -7,7 +7,6 @@ import (
 	"time"
 
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // Provenance is where one review page's numbers come from: the workspace
@@ -95,7 +94,7 @@ type RunInfo struct {
 // made from in with the options of run. screened, when not nil, is
 // matching's look at the workspace for this review (its examined and
 // excluded trials); sources are the workspace's ingested files.
-func ReviewProvenance(a ReviewAudit, in AuditInput, run RunInfo, screened *ReviewProposals, sources []store.SourceFile) Provenance {
+func ReviewProvenance(a ReviewAudit, in AuditInput, run RunInfo, screened *ReviewProposals, sources []ingest.SourceFile) Provenance {
 	p := Provenance{Workspace: run.Workspace, RunID: run.RunID, Seed: run.Options.Seed, Version: run.Version,
 		Options: run.Options.Flags(), SearchDate: in.Review.SearchDate, Sources: registrySources(in.Trials, sources),
 		Flow: ReviewFlow{ExcludedBy: map[string]int{}}, Excluded: []FlowExclusion{}}
@@ -213,8 +212,8 @@ func exclusionOf(id string, links []ingest.Link, auditRejected map[string]Reject
 }
 
 // registrySources groups trials by the file they were read from.
-func registrySources(trials map[string]ingest.Trial, files []store.SourceFile) []RegistrySource {
-	known := map[string]store.SourceFile{}
+func registrySources(trials map[string]ingest.Trial, files []ingest.SourceFile) []RegistrySource {
+	known := map[string]ingest.SourceFile{}
 	for _, f := range files {
 		known[f.SHA256+"\x00"+f.Path] = f
 	}

@@ -5,7 +5,6 @@ import (
 	"time"
 
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // flowInput is a review whose registry trials fall in every bucket of the
@@ -61,7 +60,7 @@ func TestReviewProvenanceFlow(t *testing.T) {
 		t.Fatal(err)
 	}
 	ingested := time.Date(2026, 11, 20, 9, 30, 0, 0, time.UTC)
-	files := []store.SourceFile{{Path: "registry/page-1.jsonl.gz", SHA256: "aa11", Format: "ctgov-jsonl", Finished: ingested},
+	files := []ingest.SourceFile{{Path: "registry/page-1.jsonl.gz", SHA256: "aa11", Format: "ctgov-jsonl", Finished: ingested},
 		{Path: "registry/page-2.jsonl.gz", SHA256: "bb22", Format: "ctgov-jsonl", Finished: ingested.AddDate(0, 0, 1)}}
 	run := RunInfo{Workspace: "/data/ws.db", RunID: 7, Version: "9.9.9", Options: Options{Tau2: "dl", CI: CIWald, Seed: 42}}
 	p := ReviewProvenance(a, in, run, screened, files)

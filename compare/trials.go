@@ -9,7 +9,6 @@ import (
 	"time"
 
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // FunderTrial is one trial of the funders' view.
@@ -159,7 +158,7 @@ func lastDayOfMonth(t time.Time) bool { return t.AddDate(0, 0, 1).Day() == 1 }
 
 // sponsorMatch says which organisation of s the sponsor filter matches:
 // the lead sponsor first, then the first collaborator in record order.
-func sponsorMatch(s store.TrialSummary, filter string) (field string, org ingest.Org) {
+func sponsorMatch(s ingest.TrialSummary, filter string) (field string, org ingest.Org) {
 	f := strings.ToLower(strings.TrimSpace(filter))
 	if f == "" {
 		return "", s.LeadSponsor
@@ -203,7 +202,7 @@ func ruleApplies(studyType string, phases []string, hasDate bool) *bool {
 // publication=yes. Months count from the primary completion date; a trial
 // from a registry other than ClinicalTrials.gov without one counts from
 // its completion date (CompletionUsed says so).
-func FunderView(trials []store.TrialSummary, opts FunderOptions) FunderReport {
+func FunderView(trials []ingest.TrialSummary, opts FunderOptions) FunderReport {
 	asOf := time.Date(opts.AsOf.Year(), opts.AsOf.Month(), opts.AsOf.Day(), 0, 0, 0, 0, time.UTC)
 	rep := FunderReport{AsOf: asOf.Format("2006-01-02"), Trials: []FunderTrial{}, Warnings: []string{}, asOf: asOf}
 	for _, s := range trials {

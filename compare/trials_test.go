@@ -7,7 +7,6 @@ import (
 	"time"
 
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 func day(s string) time.Time {
@@ -66,12 +65,12 @@ func TestAddMonthsAndDates(t *testing.T) {
 func TestFunderView(t *testing.T) {
 	yes := true
 	n := 120
-	sum := func(id, pc, posted string, refs int, pub string) store.TrialSummary {
-		return store.TrialSummary{TrialID: id, PrimaryCompletionDate: ingest.Date{Text: pc}, ResultsFirstPosted: ingest.Date{Text: posted},
+	sum := func(id, pc, posted string, refs int, pub string) ingest.TrialSummary {
+		return ingest.TrialSummary{TrialID: id, PrimaryCompletionDate: ingest.Date{Text: pc}, ResultsFirstPosted: ingest.Date{Text: posted},
 			ResultReferences: refs, Publication: pub, HasResults: &yes, Enrollment: &n}
 	}
 	asOf := day("2026-12-01")
-	rep := FunderView([]store.TrialSummary{
+	rep := FunderView([]ingest.TrialSummary{
 		sum("A", "2023-02-28", "2024-02-28", 0, ""), // due 2024-02-28: on time, 12 months
 		sum("B", "2023-02-28", "2024-02-29", 0, ""), // a day late, still 12 whole months
 		sum("C", "2020-01", "", 0, ""),              // month precision: 2020-01-31; nothing after 24 months
@@ -107,11 +106,11 @@ func TestFunderView(t *testing.T) {
 
 // funderFixture is a hand-built set of trials; the expected counts in the
 // tests below were worked out by hand from the dates in the comments.
-func funderFixture() []store.TrialSummary {
+func funderFixture() []ingest.TrialSummary {
 	acme := ingest.Org{Name: "Acme Pharma", Class: "INDUSTRY"}
 	uni := ingest.Org{Name: "Uni Hospital", Class: "OTHER"}
-	tr := func(id string, lead ingest.Org, studyType string, phases []string, pc, posted string) store.TrialSummary {
-		return store.TrialSummary{TrialID: id, Registry: ingest.RegistryCTGov, LeadSponsor: lead, StudyType: studyType, Phases: phases,
+	tr := func(id string, lead ingest.Org, studyType string, phases []string, pc, posted string) ingest.TrialSummary {
+		return ingest.TrialSummary{TrialID: id, Registry: ingest.RegistryCTGov, LeadSponsor: lead, StudyType: studyType, Phases: phases,
 			PrimaryCompletionDate: ingest.Date{Text: pc}, ResultsFirstPosted: ingest.Date{Text: posted}}
 	}
 	t1 := tr("T1", acme, "INTERVENTIONAL", []string{"PHASE3"}, "2023-02-28", "2024-02-28") // due 2024-02-28: on time, 12 months
@@ -119,10 +118,10 @@ func funderFixture() []store.TrialSummary {
 	t6 := tr("T6", uni, "INTERVENTIONAL", []string{"NA"}, "2024-11-30", "2026-02-15") // due 2025-11-30: late, 14 months
 	t6.Collaborators = []ingest.Org{{Name: "Other Trust", Class: "OTHER"}, acme}
 	// A neutral-CSV trial: no class, study type or phase; completion date only.
-	t7 := store.TrialSummary{TrialID: "T7", Registry: "isrctn", LeadSponsor: ingest.Org{Name: "Uni Hospital"},
+	t7 := ingest.TrialSummary{TrialID: "T7", Registry: "isrctn", LeadSponsor: ingest.Org{Name: "Uni Hospital"},
 		CompletionDate: ingest.Date{Text: "2022-06"}, Publication: "yes"} // 2022-06-30, due 2023-06-30: overdue 41 months
 	t7.LeadSponsor.Class = ""
-	return []store.TrialSummary{
+	return []ingest.TrialSummary{
 		t1,
 		tr("T2", acme, "INTERVENTIONAL", []string{"PHASE2"}, "2023-02-28", "2024-02-29"), // a day late, 12 months
 		tr("T3", acme, "INTERVENTIONAL", []string{"PHASE2", "PHASE3"}, "2020-01", ""),    // 2020-01-31, due 2021-01-31: overdue 70 months
@@ -184,9 +183,9 @@ func TestMonthsOverdue(t *testing.T) {
 		{"2019-08-31", "2020-09-30", ptr(1)},  // the last day of September reaches the 31st
 		{"2019-08", "2021-08-31", ptr(12)},    // month precision: 2019-08-31
 	} {
-		s := store.TrialSummary{TrialID: "X", Registry: ingest.RegistryCTGov, StudyType: "INTERVENTIONAL", Phases: []string{"PHASE3"},
+		s := ingest.TrialSummary{TrialID: "X", Registry: ingest.RegistryCTGov, StudyType: "INTERVENTIONAL", Phases: []string{"PHASE3"},
 			PrimaryCompletionDate: ingest.Date{Text: tc.pc}}
-		got := FunderView([]store.TrialSummary{s}, FunderOptions{AsOf: day(tc.asOf)}).Trials[0].MonthsOverdue
+		got := FunderView([]ingest.TrialSummary{s}, FunderOptions{AsOf: day(tc.asOf)}).Trials[0].MonthsOverdue
 		if !eqPtr(got, tc.want) {
 			t.Errorf("completion %s as of %s: months_overdue %v, want %v", tc.pc, tc.asOf, val(got), val(tc.want))
 		}

@@ -4,12 +4,14 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
+	"unshelved/ingest"
 )
 
-// Sides of a trial text for the candidate index (IndexTexts).
+// Sides of a trial text for the candidate index (IndexTexts), as ingest
+// names them.
 const (
-	IndexCondition    = 1 << iota // conditions, keywords, condition terms
-	IndexIntervention             // intervention names, other names, intervention terms
+	IndexCondition    = ingest.IndexCondition
+	IndexIntervention = ingest.IndexIntervention
 )
 
 // IndexTexts streams, in one snapshot, the texts of every stored trial that

@@ -6,20 +6,12 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"time"
+	"unshelved/ingest"
 )
 
-// SourceFile is one input file that was ingested completely.
-type SourceFile struct {
-	Path     string
-	SHA256   string // hex SHA-256 of the file's bytes
-	Size     int64  // bytes
-	Format   string // e.g. "ctgov-json", "ctgov-zip", "registry-csv", "reviews-csv"
-	Records  int    // records stored (inserted, replaced, unchanged or older)
-	Rejected int    // records refused by the parser or the store
-	Started  time.Time
-	Finished time.Time
-}
+// SourceFile is ingest.SourceFile, the record of one input file that was
+// ingested completely.
+type SourceFile = ingest.SourceFile
 
 // SourceKnown reports whether a file with this SHA-256 was recorded by
 // RecordSource, i.e. fully ingested before, under any path.

@@ -30,47 +30,9 @@ type TrialFilter struct {
 	HasResults *bool
 }
 
-// TrialSummary is the registration-level view of a trial used by the
-// funders' table and by the candidate search.
-type TrialSummary struct {
-	TrialID       string
-	Registry      string
-	BriefTitle    string
-	OfficialTitle string
-	Acronym       string
-	OverallStatus string
-	StudyType     string
-	Allocation    string
-	Phases        []string
-
-	LeadSponsor   ingest.Org
-	Collaborators []ingest.Org
-
-	Conditions             []string
-	Keywords               []string
-	ConditionTerms         []string
-	InterventionTerms      []string
-	InterventionNames      []string
-	InterventionOtherNames []string
-	ArmTypes               []string // one per arm, in arm order ("" when not stated)
-
-	Enrollment     *int
-	EnrollmentType string
-
-	StartDate             ingest.Date
-	PrimaryCompletionDate ingest.Date
-	CompletionDate        ingest.Date
-	ResultsFirstPosted    ingest.Date
-	LastUpdatePosted      ingest.Date
-
-	HasResults  *bool
-	Publication string
-
-	ResultReferences  int      // references typed RESULT
-	DerivedReferences int      // references typed DERIVED
-	PMIDs             []string // PMIDs of all references, in record order
-	Outcomes          int      // posted outcome measures
-}
+// TrialSummary is ingest.TrialSummary, the registration-level view of a
+// trial that TrialSummaries returns.
+type TrialSummary = ingest.TrialSummary
 
 // likePattern returns a LIKE pattern matching s anywhere, with LIKE's
 // wildcards in s escaped by a backslash.

@@ -501,7 +501,7 @@ func explainRun(cmd *cobra.Command, opts *auditOptions) error {
 	if len(opts.Reviews) == 1 {
 		review = opts.Reviews[0]
 	}
-	exps, err := compare.ExplainWith(cmd.Context(), db, opts.Explain, review,
+	exps, err := workspace.ExplainWith(cmd.Context(), db, opts.Explain, review,
 		compare.HarmonizeOptions{Prefer: opts.Prefer, AllowNonrandomized: opts.AllowNonrandomized})
 	if err != nil {
 		return err
