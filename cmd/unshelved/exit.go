@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"strings"
 )
 
 // Exit codes. Scripts rely on these; keep them stable.
@@ -40,26 +39,6 @@ func (e *rejectedError) Error() string {
 		what = [2]string{"record rejected", "records rejected"}
 	}
 	return countOf(e.n, what[0], what[1])
-}
-
-// notLoadedError reports input files of which nothing was stored because
-// rows were rejected: a load is all or nothing.
-type notLoadedError struct {
-	failed   []string // files with problems, as "studies.csv (1 problem)"
-	clean    []string // files without problems, not loaded either
-	problems int
-}
-
-func (e *notLoadedError) Error() string {
-	msg := "nothing was loaded from " + strings.Join(e.failed, ", ")
-	if len(e.clean) > 0 {
-		msg += " nor, as loading is all or nothing, from " + strings.Join(e.clean, ", ")
-	}
-	what := "problems"
-	if e.problems == 1 {
-		what = "problem"
-	}
-	return msg + "; the workspace is unchanged (earlier versions of these reviews stay): fix the " + what + " listed above and load the files again"
 }
 
 // countOf writes "1 review" or "3 reviews".

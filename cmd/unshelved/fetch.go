@@ -2,20 +2,18 @@ package main
 
 import (
 	"bufio"
-	"context"
-	"errors"
 	"fmt"
 	"os"
-	"path/filepath"
-	"slices"
-	"sort"
 	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
+	"unshelved/compare/workspace"
+	"unshelved/ingest"
 	"unshelved/ingest/fetch"
+	"unshelved/store"
 )
 
 type fetchOptions struct {
@@ -121,53 +119,11 @@ func readIDsFile(path string) ([]string, error) {
 	return ids, nil
 }
 
-// fetchReport is the result of fetch: the download and, unless
-// --no-ingest, the ingest summary.
-type fetchReport struct {
-	Dir        string         `json:"dir"`
-	StateFiles []string       `json:"state_files"`
-	Pages      int            `json:"pages"`
-	NewPages   int            `json:"new_pages"`
-	Studies    int            `json:"studies"`
-	Total      *int           `json:"total_count"`
-	Resumed    bool           `json:"resumed"`
-	Complete   bool           `json:"already_complete"`
-	Requests   int            `json:"requests"`
-	Retries    int            `json:"retries"`
-	Ingest     *ingestSummary `json:"ingest"`
-}
-
-// maxIDsPerQuery bounds the NCT numbers sent in one filter.ids parameter,
-// keeping request URLs short (about 12 characters each); longer lists are
-// fetched as several selections.
-const maxIDsPerQuery = 200
-
-// splitIDs splits a query with many ids into queries of at most
-// maxIDsPerQuery ids each, in sorted order so that a re-run makes the
-// same selections.
-func splitIDs(q fetch.Query) []fetch.Query {
-	if len(q.IDs) <= maxIDsPerQuery {
-		return []fetch.Query{q}
-	}
-	ids := append([]string(nil), q.IDs...)
-	sort.Strings(ids)
-	ids = slices.Compact(ids)
-	var out []fetch.Query
-	for len(ids) > 0 {
-		n := min(maxIDsPerQuery, len(ids))
-		c := q
-		c.IDs = ids[:n]
-		out = append(out, c)
-		ids = ids[n:]
-	}
-	return out
-}
-
 func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
 	g := opts.g
 	dir := opts.Out
 	if dir == "" {
-		dir = filepath.Join(filepath.Dir(g.dbPath(cmd)), "registry")
+		dir = workspace.RegistryDir(g.dbPath(cmd))
 	}
 	rep, err := fetchAndIngest(cmd, g, opts.Query, dir, opts)
 	if err != nil {
@@ -183,75 +139,45 @@ func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
 }
 
 // fetchAndIngest downloads the query's pages into dir and ingests them
-// (unless opts.NoIngest); match --fetch uses it too. Nothing is ingested
-// unless every page of every selection was fetched.
-func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, opts *fetchOptions) (fetchReport, error) {
-	ctx := cmd.Context()
+// (unless opts.NoIngest) into db, or into the workspace it creates when db
+// is nil; match --fetch uses it too. Nothing is ingested unless every page
+// of every selection was fetched.
+func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, opts *fetchOptions) (workspace.FetchReport, error) {
+	o := fetchWorkflowOptions(g, opts)
+	o.Open = func() (*store.DB, error) {
+		db, err := g.createDB(cmd) // fetch ingests, so it may create the workspace as ingest does
+		if err == nil && db.ReadOnly() {
+			db.Close()
+			return nil, readOnlyError(db.Path(), false)
+		}
+		return db, err
+	}
+	return workspace.FetchAndIngest(cmd.Context(), q, dir, o)
+}
+
+// fetchWorkflowOptions builds the workspace's fetch options from the
+// flags, with a progress bar for the download and one for the ingest.
+func fetchWorkflowOptions(g *globals, opts *fetchOptions) workspace.FetchOptions {
 	fo := fetch.Options{BaseURL: opts.BaseURL, PageSize: opts.PageSize, UserAgent: "unshelved/" + version + " (registry fetch)",
 		Rate: opts.Rate, MaxRetries: opts.Retries, ReadTimeout: opts.ReadTimeout, Restart: opts.Restart}
 	if opts.Retries == 0 {
 		fo.MaxRetries = -1
 	}
-	rep := fetchReport{Dir: dir, StateFiles: []string{}}
-	var files []string
-	parts := splitIDs(q)
-	complete := true
-	for i, part := range parts {
-		if len(parts) > 1 {
-			g.progressf("fetch: ids %d to %d of %d", i*maxIDsPerQuery+1, i*maxIDsPerQuery+len(part.IDs), len(q.IDs))
-		}
-		bar := newFetchProgress(g)
-		fo.Progress = bar.update
-		res, err := fetch.Run(ctx, part, dir, fo)
-		bar.finish()
-		rep.StateFiles = append(rep.StateFiles, res.StateFile)
-		rep.Pages += res.Pages
-		rep.NewPages += res.NewPages
-		rep.Studies += res.Studies
-		rep.Requests += res.Requests
-		rep.Retries += res.Retries
-		rep.Resumed = rep.Resumed || res.Resumed
-		complete = complete && res.AlreadyComplete
-		switch {
-		case res.Total == nil || (i > 0 && rep.Total == nil):
-			rep.Total = nil
-		case i == 0:
-			rep.Total = res.Total
-		default:
-			*rep.Total += *res.Total
-		}
-		if err != nil {
-			if rep.Pages > 0 && !errors.Is(err, context.Canceled) {
-				g.progressf("fetch: %s (%s) kept in %s; nothing ingested; run the same command again to resume", countOf(rep.Pages, "page", "pages"), countOf(rep.Studies, "study", "studies"), dir)
-			} else if rep.Pages > 0 {
-				g.progressf("fetch: interrupted; %s kept in %s; run the same command again to resume", countOf(rep.Pages, "page", "pages"), dir)
+	bar := newFetchProgress(g)
+	fo.Progress = bar.update
+	ingestBar := newProgress(g, "ingest")
+	return workspace.FetchOptions{Fetch: fo, NoIngest: opts.NoIngest, Logf: g.progressf,
+		Ingest: workspace.IngestOptions{Stdin: g.IO.In, Now: g.IO.now, Progress: func(ev ingest.ProgressEvent) {
+			bar.finish()
+			ingestBar.update(ev)
+		}},
+		Done: func(sum *workspace.IngestSummary) {
+			bar.finish()
+			ingestBar.finish()
+			if sum != nil {
+				listRejected(g, *sum)
 			}
-			return rep, err
-		}
-		if res.Resumed {
-			g.progressf("fetch: resumed after %s", countOf(res.Pages-res.NewPages, "earlier page", "earlier pages"))
-		}
-		files = append(files, res.Files...)
-	}
-	rep.Complete = complete
-	if complete {
-		g.progressf("fetch: this selection was fetched completely before (%d pages in %s); use --restart to fetch it again", rep.Pages, dir)
-	}
-	if opts.NoIngest || len(files) == 0 {
-		return rep, nil
-	}
-	defer ingestMemorySettings()()
-	db, err := g.createDB(cmd) // fetch ingests, so it may create the workspace as ingest does
-	if err != nil {
-		return rep, err
-	}
-	defer db.Close()
-	if db.ReadOnly() {
-		return rep, readOnlyError(db.Path(), false)
-	}
-	sum, err := loadRegistry(ctx, g, db, &ingestRegistryOptions{g: g, Paths: files, BatchSize: 2000})
-	rep.Ingest = &sum
-	return rep, err
+		}}
 }
 
 // fetchProgress shows the studies fetched out of the API's total on a
@@ -289,10 +215,11 @@ func (p *fetchProgress) update(ev fetch.Progress) {
 func (p *fetchProgress) finish() {
 	if p.bar != nil {
 		_ = p.bar.Finish()
+		p.bar = nil
 	}
 }
 
-func fetchGrid(r fetchReport) grid {
+func fetchGrid(r workspace.FetchReport) grid {
 	total := "not reported"
 	if r.Total != nil {
 		total = fmt.Sprint(*r.Total)

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 
+	"unshelved/compare/workspace"
 	"unshelved/ingest/fetch/fetchtest"
 	"unshelved/testdata/demo"
 )
@@ -63,7 +64,7 @@ func TestFetchThenMatchAuditReport(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("fetch: exit %d: %s", code, stderr)
 	}
-	var rep fetchReport
+	var rep workspace.FetchReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -80,7 +81,7 @@ func TestFetchThenMatchAuditReport(t *testing.T) {
 	}
 
 	input := filepath.Join(dir, "input")
-	if err := writeDemoFiles(input); err != nil {
+	if err := workspace.WriteDemoFiles(input); err != nil {
 		t.Fatal(err)
 	}
 	for _, step := range [][]string{
@@ -165,7 +166,7 @@ func TestFetchGiveUpThenResume(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("resume: exit %d: %s", code, stderr)
 	}
-	var rep fetchReport
+	var rep workspace.FetchReport
 	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -219,7 +220,7 @@ func TestMatchFetch(t *testing.T) {
 	dir := t.TempDir()
 	db := filepath.Join(dir, "w.db")
 	input := filepath.Join(dir, "input")
-	if err := writeDemoFiles(input); err != nil {
+	if err := workspace.WriteDemoFiles(input); err != nil {
 		t.Fatal(err)
 	}
 	if code, _, stderr := runCLI(t, "", "--db", db, "-q", "ingest", "reviews", filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")); code != exitOK {
@@ -251,7 +252,7 @@ func TestMatchFetch(t *testing.T) {
 }
 
 // A long --ids list is fetched as several selections of at most
-// maxIDsPerQuery ids, all ingested.
+// workspace.MaxIDsPerQuery ids, all ingested.
 func TestFetchManyIDs(t *testing.T) {
 	srv := demoServer(t)
 	dir := t.TempDir()
@@ -259,7 +260,7 @@ func TestFetchManyIDs(t *testing.T) {
 	for _, st := range srv.Studies {
 		ids = append(ids, st.ID)
 	}
-	for i := 0; len(ids) < 2*maxIDsPerQuery+50; i++ {
+	for i := 0; len(ids) < 2*workspace.MaxIDsPerQuery+50; i++ {
 		ids = append(ids, fmt.Sprintf("NCT98%06d", i)) // not served
 	}
 	file := writeFile(t, dir, "ids.txt", strings.Join(ids, "\n")+"\n")
@@ -268,7 +269,7 @@ func TestFetchManyIDs(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	var rep fetchReport
+	var rep workspace.FetchReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -277,7 +278,7 @@ func TestFetchManyIDs(t *testing.T) {
 		t.Errorf("%d requests, report %+v", len(reqs), rep)
 	}
 	for i, r := range reqs {
-		if n := len(strings.Split(r.Query["filter.ids"], ",")); n > maxIDsPerQuery {
+		if n := len(strings.Split(r.Query["filter.ids"], ",")); n > workspace.MaxIDsPerQuery {
 			t.Errorf("request %d: %d ids", i, n)
 		}
 	}

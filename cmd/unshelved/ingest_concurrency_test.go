@@ -14,6 +14,7 @@ import (
 	"sync"
 	"testing"
 
+	"unshelved/compare/workspace"
 	"unshelved/ingest/ingesttest"
 	"unshelved/store"
 )
@@ -270,13 +271,13 @@ func TestRedownloadRecognisesEntries(t *testing.T) {
 	second := writeFile(t, dir, "second.zip", string(zipBytes(t, entries)))
 
 	db := filepath.Join(dir, "w.db")
-	ingestJSON := func(args ...string) ingestSummary {
+	ingestJSON := func(args ...string) workspace.IngestSummary {
 		t.Helper()
 		code, out, stderr := runCLI(t, "", append([]string{"--db", db, "--quiet", "--format", "json", "ingest", "registry"}, args...)...)
 		if code != exitOK {
 			t.Fatalf("ingest %v: exit %d: %s", args, code, stderr)
 		}
-		var sum ingestSummary
+		var sum workspace.IngestSummary
 		if err := json.Unmarshal([]byte(out), &sum); err != nil {
 			t.Fatal(err)
 		}

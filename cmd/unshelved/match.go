@@ -5,7 +5,6 @@ import (
 	"context"
 	"fmt"
 	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -13,7 +12,6 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/workspace"
-	"unshelved/ingest"
 	"unshelved/ingest/fetch"
 	"unshelved/store"
 )
@@ -105,85 +103,39 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 		return err
 	}
 	defer db.Close()
+	ctx := cmd.Context()
 	if opts.Apply != "" {
 		comma, err := parseDelimiter(opts.Delimiter)
 		if err != nil {
 			return err
 		}
-		return applyLinksFile(cmd.Context(), g, db, opts.Apply, comma)
+		return applyLinksFile(ctx, g, db, opts.Apply, comma)
 	}
 	if opts.Fetch {
-		if err := fetchForEmptyReviews(cmd, g, db, opts); err != nil {
+		fo := &fetchOptions{g: g, Rate: fetch.DefaultRate, PageSize: fetch.MaxPageSize, BaseURL: opts.BaseURL,
+			Retries: fetch.DefaultMaxRetries, ReadTimeout: fetch.DefaultReadTimeout}
+		err := workspace.FetchForEmptyReviews(ctx, db, compare.MatchOptions{ReviewIDs: opts.Reviews, HighestDose: opts.HighestDose},
+			workspace.RegistryDir(g.dbPath(cmd)), fetchWorkflowOptions(g, fo))
+		if err != nil {
 			return err
 		}
 	}
-	return proposeLinks(cmd.Context(), g, db, opts)
-}
-
-// fetchForEmptyReviews fetches and ingests registry records for each
-// selected review that has no candidate trial in the workspace.
-func fetchForEmptyReviews(cmd *cobra.Command, g *globals, db *store.DB, opts *matchOptions) error {
-	ctx := cmd.Context()
-	dry, err := workspace.Match(ctx, db, compare.MatchOptions{ReviewIDs: opts.Reviews, HighestDose: opts.HighestDose})
-	if err != nil {
-		return err
-	}
-	dir := filepath.Join(filepath.Dir(g.dbPath(cmd)), "registry")
-	fo := &fetchOptions{g: g, Rate: fetch.DefaultRate, PageSize: fetch.MaxPageSize, BaseURL: opts.BaseURL,
-		Retries: fetch.DefaultMaxRetries, ReadTimeout: fetch.DefaultReadTimeout}
-	for _, rp := range dry.Reviews {
-		if rp.Flow.Examined > 0 {
-			continue
-		}
-		rv, err := db.Review(ctx, rp.ReviewID)
-		if err != nil {
-			return fmt.Errorf("load review %s: %w", rp.ReviewID, err)
-		}
-		q := fetch.Query{Condition: anyOf(rv.Conditions), Intervention: anyOf(rv.Interventions)}
-		if q.Condition == "" && q.Intervention == "" {
-			g.progressf("match: review %s has no candidate trial and names no condition or intervention to fetch", rv.ReviewID)
-			continue
-		}
-		g.progressf("match: review %s has no candidate trial in the workspace; fetching registry records for conditions %q and interventions %q into %s",
-			rv.ReviewID, q.Condition, q.Intervention, dir)
-		rep, err := fetchAndIngest(cmd, g, q, dir, fo)
-		if err != nil {
-			return fmt.Errorf("fetch for review %s: %w", rv.ReviewID, err)
-		}
-		g.progressf("match: fetched %d studies for review %s", rep.Studies, rv.ReviewID)
-	}
-	return nil
-}
-
-// anyOf writes terms as one search expression matching any of them:
-// "a" OR "b c", each quoted so that a phrase is searched as a phrase.
-func anyOf(terms []string) string {
-	var parts []string
-	for _, t := range terms {
-		if t = strings.TrimSpace(strings.ReplaceAll(t, `"`, "")); t != "" {
-			parts = append(parts, `"`+t+`"`)
-		}
-	}
-	return strings.Join(parts, " OR ")
+	return proposeLinks(ctx, g, db, opts)
 }
 
 // proposeLinks runs automatic matching, writes the links file and prints
 // the per-review summary.
 func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOptions) error {
-	rep, err := workspace.Match(ctx, db, compare.MatchOptions{
+	var buf bytes.Buffer
+	rep, err := workspace.ProposeLinks(ctx, db, compare.MatchOptions{
 		ReviewIDs:   opts.Reviews,
 		AcceptAbove: opts.AcceptAbove,
 		HighestDose: opts.HighestDose,
-		Save:        true,
 		Progress: func(id string, done, total int) {
 			g.progressf("matched %s (%d/%d)", id, done, total)
 		},
-	})
+	}, &buf)
 	if err != nil {
-		return err
-	}
-	var buf bytes.Buffer
-	if err := ingest.WriteLinks(&buf, proposalLinks(rep)); err != nil {
 		return err
 	}
 	if opts.Links == "-" {
@@ -195,33 +147,6 @@ func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOpti
 	}
 	g.progressf("searched %s; wrote %s", countOf(rep.TrialsIndexed, "registry trial", "registry trials"), opts.Links)
 	return render(g.IO.Out, g.Format, rep, matchGrid(rep))
-}
-
-// proposalLinks lists one link per proposed outcome, best first within
-// each trial and trials by best score; a trial without a proposed outcome
-// gets one link naming no outcome (ingest.NoOutcomeIndex). Reasons join
-// the trial's and the outcome's.
-func proposalLinks(rep workspace.MatchReport) []ingest.Link {
-	var out []ingest.Link
-	for _, rp := range rep.Reviews {
-		for _, tp := range rp.Trials {
-			if len(tp.Outcomes) == 0 {
-				score := tp.Score
-				out = append(out, ingest.Link{ReviewID: rp.ReviewID, TrialID: tp.TrialID, Class: tp.Class,
-					OutcomeIndex: ingest.NoOutcomeIndex, Score: &score, Reasons: strings.Join(tp.Reasons, "; ")})
-				continue
-			}
-			for _, op := range tp.Outcomes {
-				score := op.Score
-				reasons := append(append([]string(nil), tp.Reasons...), op.Reasons...)
-				out = append(out, ingest.Link{ReviewID: rp.ReviewID, TrialID: tp.TrialID, Class: tp.Class,
-					OutcomeIndex: op.OutcomeIndex, OutcomeTitle: op.Title, TimeFrame: op.TimeFrame,
-					TreatGroups: op.TreatGroups, CtrlGroups: op.CtrlGroups, Flip: op.Flip, UnitFrom: op.UnitFrom,
-					Score: &score, Reasons: strings.Join(reasons, "; "), Decision: op.Decision})
-			}
-		}
-	}
-	return out
 }
 
 // matchGrid is the per-review summary: candidates per class, proposed
@@ -248,26 +173,19 @@ func matchGrid(rep workspace.MatchReport) grid {
 // applyLinksFile loads a links CSV into the workspace, rejecting rows that
 // do not fit it.
 func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string, comma rune) error {
-	data, src, err := readWhole(g, path)
-	if err != nil {
-		return err
-	}
-	links, bad, err := ingest.ReadLinks(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
-	if err != nil {
-		return fmt.Errorf("read %s: %w", path, err)
-	}
-	for _, p := range bad {
+	res, err := workspace.ApplyLinksFile(ctx, db, path, comma, g.IO.In)
+	for _, p := range res.Rejected {
 		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)
 	}
-	saved, problems, err := workspace.ApplyLinks(ctx, db, links)
 	if err != nil {
 		return err
 	}
-	for _, p := range problems {
-		fmt.Fprintf(g.IO.ErrOut, "rejected: %s:%s: review %s trial %s outcome %d: %s\n", path, lineOf(p.Link.Source), p.Link.ReviewID, p.Link.TrialID, p.Link.OutcomeIndex, p.Detail)
+	for _, p := range res.Problems {
+		fmt.Fprintf(g.IO.ErrOut, "rejected: %s:%s: review %s trial %s outcome %d: %s\n", path,
+			strings.TrimPrefix(p.Link.Source.Position, "line "), p.Link.ReviewID, p.Link.TrialID, p.Link.OutcomeIndex, p.Detail)
 	}
-	g.progressf("loaded %s from %s", countOf(saved, "link", "links"), path)
-	if n := len(bad) + len(problems); n > 0 {
+	g.progressf("loaded %s from %s", countOf(res.Saved, "link", "links"), path)
+	if n := len(res.Rejected) + len(res.Problems); n > 0 {
 		return &rejectedError{n: n}
 	}
 	return nil

@@ -8,6 +8,7 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+	"unshelved/compare/workspace"
 )
 
 func TestNewCmdMatchUsage(t *testing.T) {
@@ -41,7 +42,7 @@ func demoWorkspace(t *testing.T) (db, input string) {
 	t.Helper()
 	dir := t.TempDir()
 	input = filepath.Join(dir, "input")
-	if err := writeDemoFiles(input); err != nil {
+	if err := workspace.WriteDemoFiles(input); err != nil {
 		t.Fatal(err)
 	}
 	db = filepath.Join(dir, "w.db")

@@ -13,6 +13,7 @@ import (
 	"unshelved/analysis"
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
+	"unshelved/compare/workspace"
 	"unshelved/ingest"
 )
 
@@ -97,7 +98,7 @@ func poolRun(cmd *cobra.Command, opts *poolOptions) error {
 	if err != nil {
 		return err
 	}
-	data, src, err := readWhole(g, opts.File)
+	data, src, err := workspace.ReadInput(opts.File, g.IO.In)
 	if err != nil {
 		return err
 	}

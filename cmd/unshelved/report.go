@@ -1,15 +1,12 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 
 	"github.com/spf13/cobra"
 
-	"unshelved/compare"
 	plotrender "unshelved/compare/render"
 	"unshelved/compare/workspace"
-	"unshelved/ingest"
 	"unshelved/store"
 )
 
@@ -71,13 +68,13 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 		return err
 	}
 	defer db.Close()
-	index, audits, failed, err := writeReport(cmd, db, opts)
+	res, err := writeReport(cmd, db, opts)
 	if err != nil {
 		return err
 	}
-	g.progressf("report: %s in %s", countOf(len(audits), "review page", "review pages"), opts.Out)
-	fmt.Fprintln(g.IO.Out, index)
-	if failed > 0 {
+	g.progressf("report: %s in %s", countOf(len(res.Audits), "review page", "review pages"), opts.Out)
+	fmt.Fprintln(g.IO.Out, res.Index)
+	if failed := len(res.Failed); failed > 0 {
 		// Pages left out (reasons above); with none written this is
 		// not a report at all.
 		return &rejectedError{n: failed, what: [2]string{"review left out of the report", "reviews left out of the report"}}
@@ -85,57 +82,21 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 	return nil
 }
 
-// writeReport audits the reviews with the report's audit options, records
-// the run, and writes the pages; it returns the overview page's path and
-// the number of reviews left out (their reasons printed, even under
-// --quiet). A workspace without reviews is an error.
-func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (string, []compare.ReviewAudit, int, error) {
+// writeReport writes the report with the audit flags' options and notes
+// on stderr, even under --quiet, the reviews without a registry search and
+// those left out.
+func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (workspace.ReportResult, error) {
 	g := opts.g
-	run, err := workspace.RunAuditOpts(cmd.Context(), db, opts.Audit.Reviews, opts.Audit.compareOptions(), version,
-		workspace.RunOptions{Workers: opts.Audit.Workers, NoStore: opts.Audit.NoStore})
-	if err != nil {
-		return "", nil, 0, err
-	}
-	for _, a := range run.Audits {
+	res, err := workspace.WriteReport(cmd.Context(), db, workspace.ReportOptions{
+		Dir: opts.Out, Reviews: opts.Audit.Reviews, Audit: opts.Audit.compareOptions(),
+		Run:     workspace.RunOptions{Workers: opts.Audit.Workers, NoStore: opts.Audit.NoStore},
+		Imputed: opts.Imputed, Figures: opts.Figures, Workspace: g.dbPath(cmd), Version: version, Now: g.IO.now,
+	})
+	for _, a := range res.Audits {
 		noteRegistrySearch(g, a)
 	}
-	for _, e := range run.Failed {
+	for _, e := range res.Failed {
 		g.reasonf("report: left out: %v", e)
 	}
-	if len(run.Audits) == 0 && len(run.Failed) == 0 {
-		return "", nil, 0, errors.New("no reviews in the workspace: load them with `unshelved ingest reviews` first")
-	}
-	reviews, err := reviewDetails(cmd, db, run.Audits)
-	if err != nil {
-		return "", nil, 0, err
-	}
-	aopts := opts.Audit.compareOptions()
-	prov, err := workspace.LoadProvenance(cmd.Context(), db, run.Audits,
-		compare.RunInfo{Workspace: g.dbPath(cmd), RunID: run.RunID, Version: version, Options: aopts}, true)
-	if err != nil {
-		return "", nil, 0, fmt.Errorf("provenance of the report pages: %w", err)
-	}
-	index, err := plotrender.WriteReport(opts.Out, run.Audits, plotrender.ReportOptions{
-		Reviews: reviews, Imputed: opts.Imputed, Level: opts.Audit.Level, Figures: opts.Figures,
-		Generated: g.IO.now().UTC().Format("2006-01-02") + ", unshelved " + version,
-		Audit:     aopts, Version: version, Provenance: prov,
-	})
-	return index, run.Audits, len(run.Failed), err
-}
-
-// reviewDetails loads each audited review's question (outcome, timepoint,
-// populations) for the report pages.
-func reviewDetails(cmd *cobra.Command, db *store.DB, audits []compare.ReviewAudit) (map[string]ingest.Review, error) {
-	out := make(map[string]ingest.Review, len(audits))
-	for _, a := range audits {
-		rv, err := db.Review(cmd.Context(), a.ReviewID)
-		if errors.Is(err, store.ErrNotFound) {
-			continue
-		}
-		if err != nil {
-			return nil, fmt.Errorf("load review %s: %w", a.ReviewID, err)
-		}
-		out[a.ReviewID] = rv
-	}
-	return out, nil
+	return res, err
 }

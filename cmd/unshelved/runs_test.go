@@ -15,6 +15,7 @@ import (
 	"syscall"
 	"testing"
 
+	"unshelved/compare/workspace"
 	"unshelved/store"
 )
 
@@ -320,7 +321,7 @@ func TestMissingWorkspace(t *testing.T) {
 		}
 	}
 	input := filepath.Join(dir, "in")
-	if err := writeDemoFiles(input); err != nil {
+	if err := workspace.WriteDemoFiles(input); err != nil {
 		t.Fatal(err)
 	}
 	if code, _, stderr := runCLI(t, "", "--db", missing, "-q", "ingest", "reviews", filepath.Join(input, "reviews.csv"), filepath.Join(input, "studies.csv")); code != exitOK {
@@ -417,7 +418,7 @@ func TestReadOnlyWorkspace(t *testing.T) {
 	if err := os.Chmod(outDir, 0o777); err != nil {
 		t.Fatal(err)
 	}
-	if err := writeDemoFiles(filepath.Join(outDir, "in")); err != nil {
+	if err := workspace.WriteDemoFiles(filepath.Join(outDir, "in")); err != nil {
 		t.Fatal(err)
 	}
 	cli := func(args ...string) (int, string, string) {

@@ -82,7 +82,7 @@ func (o *scanOptions) runOptions() (workspace.ScanRunOptions, error) {
 	if o.Links == "" {
 		return ro, nil
 	}
-	data, src, err := readWhole(g, o.Links)
+	data, src, err := workspace.ReadInput(o.Links, g.IO.In)
 	if err != nil {
 		return ro, err
 	}

@@ -31,7 +31,6 @@ var tooComplex = map[string]bool{
 	"analysis/bias.SelectionModel":        true,
 	"analysis/bias.selModel.minimize":     true,
 	"cmd/unshelved.explainGrid":           true,
-	"cmd/unshelved.loadRegistry":          true,
 	"compare.AuditReview":                 true,
 	"compare.RegistryEffectWith":          true,
 	"compare.compareStudyHalfSteps":       true,
