@@ -195,3 +195,31 @@ func RandomEffects(effects, seEffects []float64, s Settings) (RandomResult, erro
 	lo, hi := qProfileCI(effects, varY, c, rs)
 	return randomEffects(effects, varY, rs.method, c, rs, lo, hi, buf[k:]), nil
 }
+
+// RandomEstimate is the estimate of RandomEffects with the tau² estimator
+// s.Tau2, without the intervals, tests, weights and tau² CI:
+//
+//	w*_i = 1 / (se_i² + tau²),  mu = sum w*_i y_i / sum w*_i,  seMu = 1 / sqrt(sum w*_i)
+//
+// so that it is cheap enough to run many times (a subgroup at a time). The
+// numbers are those of RandomEffects' Tau2, Estimate and SE. converged is
+// false, and the numbers NaN, when an iterative tau² estimator did not
+// converge. Input errors are those of RandomEffects. Sources as for
+// RandomEffects (DerSimonian & Laird 1986).
+func RandomEstimate(effects, seEffects []float64, s Settings) (mu, seMu, tau2 float64, converged bool, err error) {
+	nan := math.NaN()
+	rs, err := s.resolve()
+	if err != nil {
+		return nan, nan, nan, false, err
+	}
+	varY := make([]float64, len(effects))
+	if err := checkStudies(effects, seEffects, s.Labels, varY); err != nil {
+		return nan, nan, nan, false, err
+	}
+	tau2, ok, _ := tau2By(effects, varY, rs.method, rs)
+	if !ok {
+		return nan, nan, nan, false, nil
+	}
+	mu, sumW, _ := fixedCore(effects, varY, tau2)
+	return mu, 1 / math.Sqrt(sumW), tau2, true, nil
+}

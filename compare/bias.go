@@ -4,8 +4,6 @@ import (
 	"math"
 	"strings"
 
-	"gonum.org/v1/gonum/stat/distuv"
-
 	"unshelved/analysis"
 	"unshelved/analysis/bias"
 )
@@ -232,12 +230,8 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	if s := b.Selection; s != nil {
 		sj := &SelectionJSON{Cutpoints: s.Cutpoints, Estimate: opt(s.Estimate), SE: opt(s.SE), Tau2: opt(s.Tau2),
 			Counts: s.Counts, LRT: opt(s.LRT), LRTDF: s.LRTDF, LRTP: opt(s.LRTP), Converged: s.Converged, Message: s.Message}
-		level := opts.Level
-		if level == 0 {
-			level = 0.95
-		}
-		z := distuv.UnitNormal.Quantile(1 - (1-level)/2)
-		sj.CILow, sj.CIHigh = opt(s.Estimate-z*s.SE), opt(s.Estimate+z*s.SE)
+		lo, hi := s.CI(opts.Level)
+		sj.CILow, sj.CIHigh = opt(lo), opt(hi)
 		for i := range s.Weights {
 			sj.Weights = append(sj.Weights, opt(s.Weights[i]))
 			if i < len(s.WeightsSE) {

@@ -2,6 +2,7 @@ package compare
 
 import (
 	"math"
+	"unshelved/analysis"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -43,7 +44,7 @@ type StudyRow struct {
 // (effect ± z·SE); zero means 0.95.
 func StudyRows(a ReviewAudit, level float64) []StudyRow {
 	if level == 0 {
-		level = 0.95
+		level = analysis.DefaultLevel
 	}
 	z := distuv.UnitNormal.Quantile(1 - (1-level)/2)
 	kp := min(a.KPublished, len(a.Studies))

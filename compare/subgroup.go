@@ -47,9 +47,8 @@ type Subgroup struct {
 
 func subgroupOf(pub, reg []StudyEffect, opts Options) Subgroup {
 	sg := Subgroup{PublishedK: len(pub), RegistryK: len(reg)}
-	var buf reBuffer
-	muP, seP, tauP, okP := buf.poolStudies(pub, opts.tau2())
-	muR, seR, tauR, okR := buf.poolStudies(reg, opts.tau2())
+	muP, seP, tauP, okP := poolSubgroup(pub, opts.tau2())
+	muR, seR, tauR, okR := poolSubgroup(reg, opts.tau2())
 	if okP {
 		sg.PublishedEstimate, sg.PublishedSE, sg.PublishedTau2 = opt(muP), opt(seP), opt(tauP)
 	}
@@ -74,42 +73,17 @@ func subgroupTest(muP, seP, muR, seR, level float64) (d, se, lo, hi, q, p float6
 	return d, se, d - z*se, d + z*se, q, p
 }
 
-// reBuffer holds the scratch slices of repeated random-effects fits, so
-// that they allocate only what analysis.Tau2 does.
-type reBuffer struct {
-	y, seY []float64
-}
-
-func (b *reBuffer) poolStudies(studies []StudyEffect, m analysis.Tau2Method) (mu, seMu, tau2 float64, ok bool) {
-	b.y, b.seY = b.y[:0], b.seY[:0]
-	for _, s := range studies {
-		b.y = append(b.y, s.Effect)
-		b.seY = append(b.seY, s.SE)
-	}
-	return poolRE(b.y, b.seY, m)
-}
-
-// poolRE is the random-effects inverse-variance estimate with the tau²
-// estimator m (analysis.Tau2) and its Wald SE:
-//
-//	w_i = 1/(se_i² + tau²),  mu = sum w_i y_i / sum w_i,  seMu = 1/sqrt(sum w_i)
-//
-// ok is false when the inputs are unusable or tau² did not converge. It
-// skips what analysis.Pool adds (intervals, Q-profile, leave-one-out), so it
-// is cheap enough to run many times.
-func poolRE(y, seY []float64, m analysis.Tau2Method) (mu, seMu, tau2 float64, ok bool) {
-	if len(y) == 0 {
+// poolSubgroup is one subgroup's random-effects estimate under the tau²
+// estimator m (analysis.RandomEstimate); ok is false when the studies
+// cannot be pooled or tau² did not converge.
+func poolSubgroup(studies []StudyEffect, m analysis.Tau2Method) (mu, seMu, tau2 float64, ok bool) {
+	if len(studies) == 0 {
 		return 0, 0, 0, false
 	}
-	tau2, conv, _, err := analysis.Tau2(y, seY, m, analysis.Settings{})
-	if err != nil || !conv {
-		return 0, 0, 0, false
+	y, seY := make([]float64, len(studies)), make([]float64, len(studies))
+	for i, s := range studies {
+		y[i], seY[i] = s.Effect, s.SE
 	}
-	var sw, swy float64
-	for i := range y {
-		w := 1 / (seY[i]*seY[i] + tau2)
-		sw += w
-		swy += w * y[i]
-	}
-	return swy / sw, 1 / math.Sqrt(sw), tau2, true
+	mu, seMu, tau2, ok, err := analysis.RandomEstimate(y, seY, analysis.Settings{Tau2: m})
+	return mu, seMu, tau2, ok && err == nil
 }

@@ -6,8 +6,6 @@ import (
 	"slices"
 	"strings"
 
-	"gonum.org/v1/gonum/stat/distuv"
-
 	"unshelved/analysis"
 	"unshelved/analysis/bias"
 )
@@ -44,7 +42,7 @@ func (o SummaryOptions) Resolved() SummaryOptions {
 		o.Threshold = DefaultTruthThreshold
 	}
 	if o.Level == 0 {
-		o.Level = 0.95
+		o.Level = analysis.DefaultLevel
 	}
 	if o.Tau2 == "" {
 		o.Tau2 = analysis.Tau2REML
@@ -131,7 +129,7 @@ type PooledDifference struct {
 }
 
 // Detection is one diagnostic's 2x2 table against the registry truth, with
-// Wilson score intervals (see Wilson) for sensitivity and specificity.
+// Wilson score intervals (see analysis.Wilson) for sensitivity and specificity.
 // MinK is the least number of published studies of the reviews in the
 // table (0: all reviews; 10: the tests' advised minimum, Sterne et al.
 // 2011, BMJ 343:d4002). Reviews whose truth is unknown (nothing added but
@@ -410,11 +408,11 @@ func detections(audits []ReviewAudit, o SummaryOptions) []Detection {
 				}
 			}
 			if n := det.TP + det.FN; n > 0 {
-				est, lo, hi := Wilson(det.TP, n, 0.95)
+				est, lo, hi := analysis.Wilson(det.TP, n, analysis.DefaultLevel)
 				det.Sensitivity, det.SensitivityCILow, det.SensitivityCIHigh = opt(est), opt(lo), opt(hi)
 			}
 			if n := det.TN + det.FP; n > 0 {
-				est, lo, hi := Wilson(det.TN, n, 0.95)
+				est, lo, hi := analysis.Wilson(det.TN, n, analysis.DefaultLevel)
 				det.Specificity, det.SpecificityCILow, det.SpecificityCIHigh = opt(est), opt(lo), opt(hi)
 			}
 			out = append(out, det)
@@ -469,34 +467,6 @@ func adjustedErrors(audits []ReviewAudit) []AdjustedError {
 		out = append(out, e)
 	}
 	return out
-}
-
-// Wilson is the Wilson score interval of a binomial proportion x/n at the
-// given level (Wilson 1927, J Am Stat Assoc 22:209; method 3 of Newcombe
-// 1998, Stat Med 17:857), without continuity correction:
-//
-//	p̂ = x/n,  z = z_{1-α/2}
-//	centre = (p̂ + z²/(2n)) / (1 + z²/n)
-//	half   = z sqrt(p̂(1-p̂)/n + z²/(4n²)) / (1 + z²/n)
-//
-// It returns p̂ and the limits, which stay within [0, 1] (x = 0 gives a
-// lower limit of 0, x = n an upper limit of 1). n must be positive.
-func Wilson(x, n int, level float64) (est, lo, hi float64) {
-	nf := float64(n)
-	p := float64(x) / nf
-	z := distuv.UnitNormal.Quantile(1 - (1-level)/2)
-	z2 := z * z
-	den := 1 + z2/nf
-	centre := (p + z2/(2*nf)) / den
-	half := z * math.Sqrt(p*(1-p)/nf+z2/(4*nf*nf)) / den
-	lo, hi = max(0, centre-half), min(1, centre+half)
-	if x == 0 {
-		lo = 0
-	}
-	if x == n {
-		hi = 1
-	}
-	return p, lo, hi
 }
 
 // ShiftPoints returns, for the audits with registry additions and an

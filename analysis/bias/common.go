@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"unshelved/analysis"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -47,7 +48,7 @@ func (e *StudyError) Unwrap() error { return e.Err }
 
 const (
 	// defaultLevel is the confidence level used when a Level is zero.
-	defaultLevel = 0.95
+	defaultLevel = analysis.DefaultLevel
 	// perfectFitRel is the ratio of weighted residual to weighted total sum
 	// of squares below which a regression is treated as an exact fit: a
 	// relative 1e-20 is far below the rounding error of real data (about

@@ -82,6 +82,18 @@ type SelectionResult struct {
 	Message    string
 }
 
+// CI is the Wald interval of the selection-adjusted estimate at level (0
+// means 0.95), Estimate ± z_{1-α/2} SE with α = 1 - level: the usual
+// normal-theory interval of a maximum-likelihood estimate (common practice,
+// no source). Both limits are NaN when SE is.
+func (r SelectionResult) CI(level float64) (lo, hi float64) {
+	if level == 0 {
+		level = defaultLevel
+	}
+	z := distuv.UnitNormal.Quantile(1 - (1-level)/2)
+	return r.Estimate - z*r.SE, r.Estimate + z*r.SE
+}
+
 // SelectionModel fits the step-function selection model of Vevea and
 // Hedges (1995, Psychometrika 60:419-435) with random effects. Before
 // selection y_i ~ N(mu, tau² + se_i²). A study is observed with a

@@ -104,7 +104,7 @@ per review per line.`,
 // interval at the 95% level, no bootstrap check of the shift's interval,
 // the fixed default seed, one worker per core.
 func defaultAuditOptions(g *globals) auditOptions {
-	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: 0.95, Bootstrap: 0, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
+	return auditOptions{g: g, Tau2: "reml", CI: compare.CIHKSJ, Level: analysis.DefaultLevel, Bootstrap: 0, Seed: compare.DefaultSeed, Workers: runtime.GOMAXPROCS(0),
 		Prefer: compare.PreferAnalysis}
 }
 

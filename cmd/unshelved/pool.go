@@ -81,7 +81,7 @@ draws the headline interval.`,
 	}
 	cmd.Flags().StringVar(&opts.Measure, "measure", "MD", "effect measure for arm data: MD or SMD (Hedges' g)")
 	cmd.Flags().StringVar(&opts.Tau2, "tau2", "reml", "tau² estimator of the main random-effects result: reml, dl or pm")
-	cmd.Flags().Float64Var(&opts.Level, "level", 0.95, "confidence level")
+	cmd.Flags().Float64Var(&opts.Level, "level", analysis.DefaultLevel, "confidence level")
 	cmd.Flags().StringVar(&opts.CI, "ci", compare.CIHKSJ, "random-effects interval and its p-value: hksj (scale floored at 1), hksj-untruncated or wald")
 	cmd.Flags().BoolVar(&opts.TruncateHKSJ, "truncate-hksj", false, "same as --ci hksj, now the default (kept for older scripts)")
 	cmd.Flags().StringArrayVar(&opts.Plots, "plot", nil, "write a plot: a file name containing funnel or forest, ending .svg, .png or .pdf (repeatable)")

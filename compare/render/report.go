@@ -483,7 +483,7 @@ func eggerText(b *compare.BiasReport) (string, string) {
 func buildPage(a compare.ReviewAudit, opts ReportOptions, index string) (pageData, error) {
 	level := opts.Level
 	if level == 0 {
-		level = 0.95
+		level = analysis.DefaultLevel
 	}
 	d := pageData{CSS: template.CSS(reportCSS), A: a, Level: fmtFixed(100*level, 0) + "%", Shift: ShiftSentence(a), Direction: shiftDirection(a),
 		Verdict: verdict(a, level), Changes: changes(a), WhatIf: WhatIfSentence(a), Bias: a.Bias,
