@@ -3,9 +3,10 @@
 # reviews (12 registered trials each, compare/internal/batchgen), and runs
 # side by side, ROUNDS times each: 'unshelved audit --format json' to a
 # file with the run stored (default options: the shift interval is
-# analytic, there is no bootstrap), and the plain statsmodels
-# DerSimonian-Laird + Egger loop of audit_statsmodels.py on the same
-# reviews. Prints each run and the
+# analytic and the bootstrap check is off), the same with
+# '--bootstrap BOOT' (default 1000; BOOT=0 leaves this out), and the plain
+# statsmodels DerSimonian-Laird + Egger loop of audit_statsmodels.py on
+# the same reviews. Prints each run and the
 # medians: wall time, CPU time, peak RSS, microseconds per review, the
 # speed ratio, and the workspace's growth per run per review.
 #
@@ -19,6 +20,9 @@ set -euo pipefail
 SIZES=("$@")
 [[ ${#SIZES[@]} -gt 0 ]] || SIZES=(2000 20000)
 ROUNDS=${ROUNDS:-3}
+BOOT=${BOOT:-1000}
+KINDS=(go py)
+[[ $BOOT -gt 0 ]] && KINDS=(go go-boot py)
 ROOT=$(cd "$(dirname "$0")/../.." && pwd)
 if [[ -z "${WORK:-}" ]]; then
 	WORK=$(mktemp -d)
@@ -70,16 +74,19 @@ for N in "${SIZES[@]}"; do
 	"$WORK/batchws" -db "$DB" -reviews "$N" -studies 12 -seed 1
 	echo "== $N reviews of 12 registered trials (workspace $(($(dbsize "$DB") / 1000000)) MB)"
 	declare -A W C R
-	for k in go py; do W[$k]=""; C[$k]=""; R[$k]=""; done
+	for k in "${KINDS[@]}"; do W[$k]=""; C[$k]=""; R[$k]=""; done
 	GROW=""
 	for round in $(seq "$ROUNDS"); do
-		for k in go py; do
+		for k in "${KINDS[@]}"; do
 			case $k in
 			go)
 				before=$(dbsize "$DB")
 				timed "$k" "$BIN" --db "$DB" --quiet --format json audit
 				after=$(dbsize "$DB")
 				GROW+=" $(awk -v a="$after" -v b="$before" -v n="$N" 'BEGIN {printf "%.0f", (a-b)/n}')"
+				;;
+			go-boot)
+				timed "$k" "$BIN" --db "$DB" --quiet --format json audit --bootstrap "$BOOT"
 				;;
 			py)
 				timed py "$PY" "$ROOT/testdata/bench/audit_statsmodels.py" "$DB" "$WORK/py-$N.json"
@@ -91,13 +98,14 @@ for N in "${SIZES[@]}"; do
 			printf "round %d %-7s wall %7.2f s  cpu %7.2f s  peak RSS %5s MB\n" "$round" "$k" "$T_WALL" "$T_CPU" "$T_RSS"
 		done
 	done
-	for k in go py; do
+	for k in "${KINDS[@]}"; do
 		w=$(median <<<"${W[$k]}")
 		printf "median %-7s wall %7.2f s  cpu %7.2f s  peak RSS %5s MB  %6.0f us/review (wall)\n" "$k" "$w" \
 			"$(median <<<"${C[$k]}")" "$(median <<<"${R[$k]}")" "$(awk -v w="$w" -v n="$N" 'BEGIN {print w/n*1e6}')"
 	done
 	wpy=$(median <<<"${W[py]}")
 	echo "speed vs the Python loop, per review (median wall): $(awk -v a="$wpy" -v b="$(median <<<"${W[go]}")" 'BEGIN {printf "%.2f", a/b}')x; CPU: $(awk -v a="$(median <<<"${C[py]}")" -v b="$(median <<<"${C[go]}")" 'BEGIN {printf "%.2f", a/b}')x"
+	[[ $BOOT -gt 0 ]] && echo "with --bootstrap $BOOT: $(awk -v a="$wpy" -v b="$(median <<<"${W[go-boot]}")" 'BEGIN {printf "%.2f", a/b}')x (wall); CPU: $(awk -v a="$(median <<<"${C[py]}")" -v b="$(median <<<"${C[go-boot]}")" 'BEGIN {printf "%.2f", a/b}')x"
 	echo "workspace growth per run per review (file and WAL): median $(median <<<"$GROW") bytes"
 	"$BIN" --db "$DB" --format csv runs | awk -F, -v n="$N" 'NR > 1 {s += $9; r++} END {printf "stored results per run per review: %.0f bytes\n", s / r / n}'
 	echo "load after: $(cut -d' ' -f1-3 /proc/loadavg)"
