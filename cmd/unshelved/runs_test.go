@@ -167,7 +167,7 @@ func TestRunsDiffTau2(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("runs diff: exit %d: %s", code, stderr)
 	}
-	var diffs []reviewDiff
+	var diffs []workspace.ReviewDiff
 	if err := json.Unmarshal([]byte(out), &diffs); err != nil {
 		t.Fatal(err)
 	}
