@@ -4,45 +4,18 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
 	"os"
 	"os/signal"
 	"strings"
-	"time"
 
 	"github.com/spf13/cobra"
-	"golang.org/x/term"
 
 	"unshelved/store"
 )
 
 // defaultDBPath is used when neither --db nor UNSHELVED_DB is given.
 const defaultDBPath = "unshelved.db"
-
-// IO holds the streams and environment a command may use. Tests build one
-// over buffers; nothing in this package touches os.Stdout directly.
-type IO struct {
-	In            io.Reader
-	Out           io.Writer
-	ErrOut        io.Writer
-	ErrIsTerminal bool // progress bars only when stderr is a terminal
-	OutIsTerminal bool // JSON is indented by default only on a terminal
-	Getenv        func(string) string
-	Now           func() time.Time
-}
-
-func defaultIO() *IO {
-	return &IO{
-		In:            os.Stdin,
-		Out:           os.Stdout,
-		ErrOut:        os.Stderr,
-		ErrIsTerminal: isTerminal(os.Stderr),
-		OutIsTerminal: isTerminal(os.Stdout),
-		Getenv:        os.Getenv,
-		Now:           time.Now,
-	}
-}
 
 // globals are the flags every command shares.
 type globals struct {
@@ -216,18 +189,4 @@ func minArgs(n int) cobra.PositionalArgs {
 		}
 		return nil
 	}
-}
-
-// isTerminal reports whether f is a terminal (not merely a character
-// device: /dev/null is one too).
-func isTerminal(f *os.File) bool {
-	return term.IsTerminal(int(f.Fd()))
-}
-
-// now is the injected clock, or the real one.
-func (io *IO) now() time.Time {
-	if io.Now != nil {
-		return io.Now()
-	}
-	return time.Now()
 }

@@ -3,10 +3,11 @@ package main
 import (
 	"fmt"
 	"strings"
-	"unshelved/compare/workspace"
-	"unshelved/store"
 
 	"github.com/spf13/cobra"
+
+	"unshelved/compare/workspace"
+	"unshelved/store"
 )
 
 func runsDeleteRun(cmd *cobra.Command, opts *runsOptions, ids []int64) error {

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
 	"unshelved/compare"
 	"unshelved/compare/workspace"
 	"unshelved/store"

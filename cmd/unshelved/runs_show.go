@@ -2,10 +2,11 @@ package main
 
 import (
 	"fmt"
-	"unshelved/compare/workspace"
-	"unshelved/store"
 
 	"github.com/spf13/cobra"
+
+	"unshelved/compare/workspace"
+	"unshelved/store"
 )
 
 // showRun re-prints stored run id; kind, when not empty, is the kind the
