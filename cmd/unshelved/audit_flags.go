@@ -8,7 +8,7 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/compare"
-	"unshelved/store"
+	"unshelved/compare/workspace"
 )
 
 // defaultAuditOptions are the audit defaults: REML tau² with the HKSJ
@@ -35,7 +35,7 @@ func addAuditFlags(cmd *cobra.Command, opts *auditOptions) {
 
 // openDB opens the workspace for a command that stores a run unless
 // --no-store was given.
-func (o *auditOptions) openDB(cmd *cobra.Command) (*store.DB, error) {
+func (o *auditOptions) openDB(cmd *cobra.Command) (*workspace.DB, error) {
 	if o.NoStore {
 		return o.g.openDB(cmd)
 	}

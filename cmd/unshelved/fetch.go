@@ -12,7 +12,6 @@ import (
 	"unshelved/compare/workspace"
 	"unshelved/ingest"
 	"unshelved/ingest/fetch"
-	"unshelved/store"
 )
 
 type fetchOptions struct {
@@ -143,7 +142,7 @@ func fetchRun(cmd *cobra.Command, opts *fetchOptions) error {
 // of every selection was fetched.
 func fetchAndIngest(cmd *cobra.Command, g *globals, q fetch.Query, dir string, opts *fetchOptions) (workspace.FetchReport, error) {
 	o := fetchWorkflowOptions(g, opts)
-	o.Open = func() (*store.DB, error) {
+	o.Open = func() (*workspace.DB, error) {
 		db, err := g.createDB(cmd) // fetch ingests, so it may create the workspace as ingest does
 		if err == nil && db.ReadOnly() {
 			db.Close()

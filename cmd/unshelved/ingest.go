@@ -10,7 +10,6 @@ import (
 
 	"unshelved/compare/workspace"
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 func newCmdIngest(g *globals) *cobra.Command {
@@ -91,7 +90,7 @@ func ingestRegistryRun(cmd *cobra.Command, opts *ingestRegistryOptions) error {
 // ingestRegistry runs the workspace's registry ingest with the command's
 // input, clock and progress bar, and lists the rejected records on stderr
 // (even under --quiet).
-func ingestRegistry(ctx context.Context, g *globals, db *store.DB, o workspace.IngestOptions) (workspace.IngestSummary, error) {
+func ingestRegistry(ctx context.Context, g *globals, db *workspace.DB, o workspace.IngestOptions) (workspace.IngestSummary, error) {
 	bar := newProgress(g, "ingest")
 	o.Stdin, o.Progress, o.Now = g.IO.In, bar.update, g.IO.now
 	sum, err := workspace.IngestRegistry(ctx, db, o)

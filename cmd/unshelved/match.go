@@ -13,7 +13,6 @@ import (
 	"unshelved/compare"
 	"unshelved/compare/workspace"
 	"unshelved/ingest/fetch"
-	"unshelved/store"
 )
 
 type matchOptions struct {
@@ -125,7 +124,7 @@ func matchRun(cmd *cobra.Command, opts *matchOptions) error {
 
 // proposeLinks runs automatic matching, writes the links file and prints
 // the per-review summary.
-func proposeLinks(ctx context.Context, g *globals, db *store.DB, opts *matchOptions) error {
+func proposeLinks(ctx context.Context, g *globals, db *workspace.DB, opts *matchOptions) error {
 	var buf bytes.Buffer
 	rep, err := workspace.ProposeLinks(ctx, db, compare.MatchOptions{
 		ReviewIDs:   opts.Reviews,
@@ -172,7 +171,7 @@ func matchGrid(rep workspace.MatchReport) grid {
 
 // applyLinksFile loads a links CSV into the workspace, rejecting rows that
 // do not fit it.
-func applyLinksFile(ctx context.Context, g *globals, db *store.DB, path string, comma rune) error {
+func applyLinksFile(ctx context.Context, g *globals, db *workspace.DB, path string, comma rune) error {
 	res, err := workspace.ApplyLinksFile(ctx, db, path, comma, g.IO.In)
 	for _, p := range res.Rejected {
 		fmt.Fprintf(g.IO.ErrOut, "rejected: %v\n", p)

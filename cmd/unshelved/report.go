@@ -7,7 +7,6 @@ import (
 
 	plotrender "unshelved/compare/render"
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 type reportOptions struct {
@@ -85,7 +84,7 @@ func reportRun(cmd *cobra.Command, opts *reportOptions) error {
 // writeReport writes the report with the audit flags' options and notes
 // on stderr, even under --quiet, the reviews without a registry search and
 // those left out.
-func writeReport(cmd *cobra.Command, db *store.DB, opts *reportOptions) (workspace.ReportResult, error) {
+func writeReport(cmd *cobra.Command, db *workspace.DB, opts *reportOptions) (workspace.ReportResult, error) {
 	g := opts.g
 	res, err := workspace.WriteReport(cmd.Context(), db, workspace.ReportOptions{
 		Dir: opts.Out, Reviews: opts.Audit.Reviews, Audit: opts.Audit.compareOptions(),

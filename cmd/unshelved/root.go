@@ -11,7 +11,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"unshelved/store"
+	"unshelved/compare/workspace"
 )
 
 // defaultDBPath is used when neither --db nor UNSHELVED_DB is given.
@@ -39,7 +39,7 @@ func (g *globals) dbPath(cmd *cobra.Command) string {
 // openDB opens the existing workspace database named by the global flags.
 // A missing file is an error: only ingest (and demo, in its own folder)
 // create a workspace, so a mistyped --db never reads as an empty one.
-func (g *globals) openDB(cmd *cobra.Command) (*store.DB, error) {
+func (g *globals) openDB(cmd *cobra.Command) (*workspace.DB, error) {
 	path := g.dbPath(cmd)
 	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("workspace %s does not exist: check --db (or UNSHELVED_DB), or create it with 'unshelved ingest'", path)
@@ -48,9 +48,9 @@ func (g *globals) openDB(cmd *cobra.Command) (*store.DB, error) {
 }
 
 // createDB opens the workspace database, creating it when missing.
-func (g *globals) createDB(cmd *cobra.Command) (*store.DB, error) {
+func (g *globals) createDB(cmd *cobra.Command) (*workspace.DB, error) {
 	path := g.dbPath(cmd)
-	db, err := store.Open(cmd.Context(), path)
+	db, err := workspace.OpenDB(cmd.Context(), path)
 	if err != nil {
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
@@ -76,7 +76,7 @@ var formats = []string{"table", "json", "jsonl", "csv"}
 // openDBToWrite opens the workspace for a command that writes to it. A
 // read-only workspace is an error naming the file; noStore, when the
 // command has a --no-store flag, is suggested.
-func (g *globals) openDBToWrite(cmd *cobra.Command, hasNoStore bool) (*store.DB, error) {
+func (g *globals) openDBToWrite(cmd *cobra.Command, hasNoStore bool) (*workspace.DB, error) {
 	db, err := g.openDB(cmd)
 	if err != nil {
 		return nil, err

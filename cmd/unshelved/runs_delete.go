@@ -7,7 +7,6 @@ import (
 	"github.com/spf13/cobra"
 
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 func runsDeleteRun(cmd *cobra.Command, opts *runsOptions, ids []int64) error {
@@ -20,7 +19,7 @@ func runsDeleteRun(cmd *cobra.Command, opts *runsOptions, ids []int64) error {
 	return deleteRuns(cmd, g, db, ids)
 }
 
-func deleteRuns(cmd *cobra.Command, g *globals, db *store.DB, ids []int64) error {
+func deleteRuns(cmd *cobra.Command, g *globals, db *workspace.DB, ids []int64) error {
 	if len(ids) == 0 {
 		g.progressf("runs: nothing to delete")
 		return nil

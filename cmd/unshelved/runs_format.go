@@ -10,7 +10,6 @@ import (
 
 	"unshelved/compare"
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 // runJSON is one line of the runs list.
@@ -47,7 +46,7 @@ func byteSize(n int64) string {
 
 // showSummaryText prints a stored summary's JSON text in the chosen
 // format.
-func showSummaryText(g *globals, run store.Run, js []byte) error {
+func showSummaryText(g *globals, run workspace.Run, js []byte) error {
 	switch g.Format {
 	case "json":
 		var buf bytes.Buffer

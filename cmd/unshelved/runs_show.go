@@ -6,7 +6,6 @@ import (
 	"github.com/spf13/cobra"
 
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 // showRun re-prints stored run id; kind, when not empty, is the kind the
@@ -22,7 +21,7 @@ func showRun(cmd *cobra.Command, g *globals, id int64, kind string, indent bool)
 	if err != nil {
 		return err
 	}
-	if run.Status != store.RunComplete {
+	if run.Status != workspace.RunComplete {
 		g.progressf("run %d is %s: it holds only the results stored before it stopped", id, run.Status)
 	}
 	switch run.Kind {

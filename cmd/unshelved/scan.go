@@ -1,15 +1,11 @@
 package main
 
 import (
-	"bytes"
-	"fmt"
-
 	"github.com/spf13/cobra"
 
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
 	"unshelved/compare/workspace"
-	"unshelved/ingest"
 )
 
 type scanOptions struct {
@@ -82,13 +78,9 @@ func (o *scanOptions) runOptions() (workspace.ScanRunOptions, error) {
 	if o.Links == "" {
 		return ro, nil
 	}
-	data, src, err := workspace.ReadInput(o.Links, g.IO.In)
+	links, bad, err := workspace.ReadLinksFile(o.Links, ',', g.IO.In)
 	if err != nil {
 		return ro, err
-	}
-	links, bad, err := ingest.ReadLinks(bytes.NewReader(data), src)
-	if err != nil {
-		return ro, fmt.Errorf("read %s: %w", o.Links, err)
 	}
 	for _, p := range bad {
 		g.reasonf("rejected: %v", p)

@@ -9,8 +9,8 @@ import (
 	"io"
 
 	"unshelved/compare"
+	"unshelved/compare/workspace"
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // scanWriter streams scan results: JSON array elements and CSV rows as
@@ -151,7 +151,7 @@ func (s *scanWriter) finish() error {
 }
 
 // showScanRun re-prints a stored scan run in question order.
-func showScanRun(ctx context.Context, g *globals, db *store.DB, run store.Run) error {
+func showScanRun(ctx context.Context, g *globals, db *workspace.DB, run workspace.Run) error {
 	var o struct {
 		Audit struct {
 			Level float64 `json:"level"`

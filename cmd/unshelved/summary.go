@@ -6,7 +6,6 @@ import (
 	"unshelved/analysis"
 	"unshelved/compare"
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 type summaryOptions struct {
@@ -94,7 +93,7 @@ type storedSummary struct {
 
 func summaryRun(cmd *cobra.Command, opts *summaryOptions) error {
 	g := opts.audit.g
-	var db *store.DB
+	var db *workspace.DB
 	var err error
 	if opts.Run != 0 {
 		db, err = g.openDB(cmd)

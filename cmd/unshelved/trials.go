@@ -8,7 +8,6 @@ import (
 	"unshelved/compare"
 	plotrender "unshelved/compare/render"
 	"unshelved/compare/workspace"
-	"unshelved/store"
 )
 
 type trialsOptions struct {
@@ -99,7 +98,7 @@ func trialsRun(cmd *cobra.Command, opts *trialsOptions) error {
 	if opts.AsOf != "" {
 		asOf, _ = compare.ParseRegistryDate(opts.AsOf)
 	}
-	rep, err := workspace.FunderQuery(cmd.Context(), db, store.TrialFilter{Sponsor: opts.Sponsor, SponsorClass: opts.SponsorClass,
+	rep, err := workspace.FunderQuery(cmd.Context(), db, workspace.TrialFilter{Sponsor: opts.Sponsor, SponsorClass: opts.SponsorClass,
 		Condition: opts.Condition, CompletedFrom: opts.CompletedFrom, CompletedTo: opts.CompletedTo}, asOf)
 	if err != nil {
 		return err

@@ -60,18 +60,29 @@ type AppliedLinks struct {
 	Problems []LinkProblem        // rows that do not fit the workspace
 }
 
+// ReadLinksFile reads a links file ("-" is stdin) separated by comma:
+// the links, and the rows the format refuses (each naming its line and
+// field).
+func ReadLinksFile(path string, comma rune, stdin io.Reader) ([]ingest.Link, []*ingest.ParseError, error) {
+	data, src, err := ReadInput(path, stdin)
+	if err != nil {
+		return nil, nil, err
+	}
+	links, bad, err := ingest.ReadLinks(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
+	if err != nil {
+		return nil, nil, fmt.Errorf("read %s: %w", path, err)
+	}
+	return links, bad, nil
+}
+
 // ApplyLinksFile reads a links file ("-" is stdin), separated by comma, and
 // saves the rows that fit the workspace (ApplyLinks); the others are
 // returned, each naming its line.
 func ApplyLinksFile(ctx context.Context, db *store.DB, path string, comma rune, stdin io.Reader) (AppliedLinks, error) {
 	var res AppliedLinks
-	data, src, err := ReadInput(path, stdin)
+	links, bad, err := ReadLinksFile(path, comma, stdin)
 	if err != nil {
 		return res, err
-	}
-	links, bad, err := ingest.ReadLinks(ingest.WithDelimiter(bytes.NewReader(data), comma), src)
-	if err != nil {
-		return res, fmt.Errorf("read %s: %w", path, err)
 	}
 	res.Rejected = bad
 	res.Saved, res.Problems, err = ApplyLinks(ctx, db, links)
