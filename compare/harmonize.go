@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"unshelved/analysis"
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -228,18 +229,18 @@ func RegistryEffectWith(rv ingest.Review, t ingest.Trial, l ingest.Link, opts Ha
 		designFlags = append(designFlags, fmt.Sprintf("%s: %s; used only because non-randomized evidence was allowed (--allow-nonrandomized)", design, designWhy))
 	}
 
-	var conv *unitConversion
+	var conv *terms.UnitConversion
 	var unitFlags []string
 	if l.UnitFrom != "" || (o.Unit != "" && rv.Unit != "") {
 		from := l.UnitFrom
 		if from == "" {
 			from = o.Unit
 		}
-		c, err := findConversion(from, rv.Unit, rv.Outcome)
+		c, err := terms.FindConversion(from, rv.Unit, rv.Outcome)
 		if err != nil && l.UnitFrom != "" {
 			return se, reject(ReasonUnit, "%s outcome %d: %v", t.TrialID, idx, err)
 		}
-		if err != nil && (physicalUnit(o.Unit) || physicalUnit(rv.Unit)) {
+		if err != nil && (terms.PhysicalUnit(o.Unit) || terms.PhysicalUnit(rv.Unit)) {
 			// Registries write units freely ("score on a scale" for
 			// "points"), so only a difference involving a physical unit
 			// is flagged, and not refused.
@@ -394,11 +395,11 @@ func selectRow(rv ingest.Review, o *ingest.Outcome) (int, int, *analysis.Derivat
 	if rv.TimepointWeeks == nil {
 		return 0, 0, nil, fmt.Errorf("posted in %d rows (%s) and the review gives no timepoint to choose one", len(o.Classes), strings.Join(titles, ", "))
 	}
-	target := *rv.TimepointWeeks * daysPerWeek
-	window := timeWindow(target)
+	target := *rv.TimepointWeeks * terms.DaysPerWeek
+	window := terms.TimeWindow(target)
 	best, bestDist, tie := -1, math.Inf(1), false
 	for i, c := range o.Classes {
-		tf := ParseTimeFrame(c.Title)
+		tf := terms.ParseTimeFrame(c.Title)
 		if !tf.Usable() || tf.UpTo || len(tf.Days) != 1 || len(c.Categories) != 1 {
 			continue
 		}
@@ -412,11 +413,11 @@ func selectRow(rv ingest.Review, o *ingest.Outcome) (int, int, *analysis.Derivat
 		}
 	}
 	if best < 0 || tie {
-		return 0, 0, nil, fmt.Errorf("posted in %d rows (%s); none is a single time at the review's timepoint of %s weeks", len(o.Classes), strings.Join(titles, ", "), fmtWeeks(target))
+		return 0, 0, nil, fmt.Errorf("posted in %d rows (%s); none is a single time at the review's timepoint of %s weeks", len(o.Classes), strings.Join(titles, ", "), terms.FormatWeeks(target))
 	}
 	d := &analysis.Derivation{
 		Method:  "row_by_timepoint",
-		Formula: fmt.Sprintf("row %q of %d chosen: the posted time closest to the review's timepoint (%s weeks, window ±%s weeks)", o.Classes[best].Title, len(o.Classes), fmtWeeks(target), fmtWeeks(window)),
+		Formula: fmt.Sprintf("row %q of %d chosen: the posted time closest to the review's timepoint (%s weeks, window ±%s weeks)", o.Classes[best].Title, len(o.Classes), terms.FormatWeeks(target), terms.FormatWeeks(window)),
 		Inputs:  []analysis.NamedValue{{Name: "rows", Value: float64(len(o.Classes))}, {Name: "timepoint_days", Value: target}, {Name: "window_days", Value: window}},
 		Output:  []analysis.NamedValue{{Name: "row", Value: float64(best)}, {Name: "distance_days", Value: bestDist}},
 	}

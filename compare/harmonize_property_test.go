@@ -11,6 +11,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -136,18 +137,18 @@ func TestDirectionRulesProperty(t *testing.T) {
 // only in case or spaces around "/" gives the same key, over every spelling
 // in the table and its key.
 func TestNormUnitProperty(t *testing.T) {
-	for spelling, key := range unitSpellings {
+	for spelling, key := range terms.UnitSpellings {
 		for _, u := range []string{spelling, key} {
-			k := normUnit(u)
-			if normUnit(k) != k {
-				t.Errorf("normUnit not idempotent on %q: %q then %q", u, k, normUnit(k))
+			k := terms.NormUnit(u)
+			if terms.NormUnit(k) != k {
+				t.Errorf("normUnit not idempotent on %q: %q then %q", u, k, terms.NormUnit(k))
 			}
-			if normUnit(" "+upperFirst(u)+" ") != k {
+			if terms.NormUnit(" "+upperFirst(u)+" ") != k {
 				t.Errorf("%q: case or padding changes the key", u)
 			}
 		}
-		if normUnit(spelling) != key && normUnit(spelling) != normUnit(key) {
-			t.Errorf("%q -> %q, table says %q", spelling, normUnit(spelling), key)
+		if terms.NormUnit(spelling) != key && terms.NormUnit(spelling) != terms.NormUnit(key) {
+			t.Errorf("%q -> %q, table says %q", spelling, terms.NormUnit(spelling), key)
 		}
 	}
 }

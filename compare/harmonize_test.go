@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -204,7 +205,7 @@ func TestUnitSpellings(t *testing.T) {
 	// HbA1c: IFCC (mmol/mol) = 10.929 (NGSP % - 2.15), Hoelzel et al. 2004;
 	// 7% is 53.0 mmol/mol (10.929 * 4.85 = 53.00565).
 	for _, from := range []string{"%", "percent", "percentage of haemoglobin", "Percentage of hemoglobin", "% of total hemoglobin"} {
-		c, err := findConversion(from, "mmol/mol", "HbA1c")
+		c, err := terms.FindConversion(from, "mmol/mol", "HbA1c")
 		if err != nil || c == nil {
 			t.Errorf("%q: %v", from, err)
 			continue
@@ -213,7 +214,7 @@ func TestUnitSpellings(t *testing.T) {
 			t.Errorf("%q: 7%% = %v mmol/mol, want 53.00565", from, got)
 		}
 	}
-	if c, err := findConversion("mg/dL", "mmol/L", "C-peptide"); err == nil || c != nil {
+	if c, err := terms.FindConversion("mg/dL", "mmol/L", "C-peptide"); err == nil || c != nil {
 		t.Errorf("C-peptide mg/dL converted with a table factor: %+v", c)
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -122,12 +123,12 @@ func readingsFor(rv ingest.Review, t ingest.Trial, l ingest.Link, allTreat []str
 		// that row's time.
 		chosen := chosenRow(rv, o)
 		for ci, c := range o.Classes {
-			tf := ParseTimeFrame(c.Title)
+			tf := terms.ParseTimeFrame(c.Title)
 			if len(o.Classes) < 2 || ci == chosen || !tf.Usable() || tf.UpTo || len(tf.Days) != 1 {
 				continue
 			}
 			at := rv
-			weeks := tf.Days[0] / daysPerWeek
+			weeks := tf.Days[0] / terms.DaysPerWeek
 			at.TimepointWeeks = &weeks
 			out = append(out, readingsAt(at, t, o, v, groups, c.Title)...)
 		}
@@ -194,7 +195,7 @@ func registryHalfStep(rv ingest.Review, o *ingest.Outcome, l ingest.Link, fromAn
 	}
 	hs := 0.5 * math.Pow(10, -float64(dec))
 	if l.UnitFrom != "" {
-		if c, err := findConversion(l.UnitFrom, rv.Unit, rv.Outcome); err == nil && c != nil {
+		if c, err := terms.FindConversion(l.UnitFrom, rv.Unit, rv.Outcome); err == nil && c != nil {
 			hs *= math.Abs(c.Scale)
 		}
 	}

@@ -7,6 +7,7 @@ import (
 	"sort"
 	"strings"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -156,25 +157,25 @@ type ReviewProposals struct {
 // reviewTerms are a review's lists prepared for matching.
 type reviewTerms struct {
 	rv            ingest.Review
-	conditions    []phrase
-	interventions []phrase
+	conditions    []terms.Phrase
+	interventions []terms.Phrase
 	comparators   []comparatorKind
-	outcome       []string // stems of the outcome without generic words
-	synonyms      []phrase // condition phrases with words beyond the outcome's
-	reversed      bool     // the review's own outcome is a reduction or improvement
+	outcome       []string       // stems of the outcome without generic words
+	synonyms      []terms.Phrase // condition phrases with words beyond the outcome's
+	reversed      bool           // the review's own outcome is a reduction or improvement
 	included      map[string]string
 	unlinked      []ingest.ReviewStudy
 }
 
 func prepareReview(rv ingest.Review, studies []ingest.ReviewStudy) *reviewTerms {
 	rt := &reviewTerms{rv: rv, included: map[string]string{}}
-	rt.conditions = newPhrases(rv.Conditions)
-	rt.interventions = newPhrases(rv.Interventions)
-	for _, c := range splitTerms(rv.Comparator) {
+	rt.conditions = terms.NewPhrases(rv.Conditions)
+	rt.interventions = terms.NewPhrases(rv.Interventions)
+	for _, c := range terms.SplitTerms(rv.Comparator) {
 		rt.comparators = append(rt.comparators, comparatorKindFor(c))
 	}
 	seen := map[string]bool{}
-	for _, s := range stems(rv.Outcome, true) {
+	for _, s := range terms.StemsOf(rv.Outcome, true) {
 		if !seen[s] {
 			seen[s] = true
 			rt.outcome = append(rt.outcome, s)
@@ -445,7 +446,7 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 	}
 
 	// Time.
-	ts, why := timeScore(ParseTimeFrame(o.TimeFrame), rt.rv.TimepointWeeks)
+	ts, why := terms.TimeScore(terms.ParseTimeFrame(o.TimeFrame), rt.rv.TimepointWeeks)
 	parts.Time = ts
 	reasons = append(reasons, why)
 	if ts == 0 {
@@ -454,7 +455,7 @@ func scoreOutcome(rt *reviewTerms, t ingest.Trial, o *ingest.Outcome, fit float6
 
 	// Unit.
 	us, unitFrom, why := unitScore(rt.rv, o.Unit)
-	if us > 0 && normUnit(rt.rv.Unit) == "%" && relativeChange(o.Title) && !relativeChange(rt.rv.Outcome) {
+	if us > 0 && terms.NormUnit(rt.rv.Unit) == "%" && relativeChange(o.Title) && !relativeChange(rt.rv.Outcome) {
 		us, unitFrom = 0, ""
 		why = fmt.Sprintf("unit %q is a relative change here (%q), not the review's %q: a percent change from baseline is not a difference in percentage points", o.Unit, o.Title, rt.rv.Unit)
 	}
@@ -538,19 +539,19 @@ func outcomeText(rt *reviewTerms, o *ingest.Outcome) (float64, []string) {
 	if len(rt.outcome) == 0 {
 		return 0.5, nil
 	}
-	title := newTermSet(o.Title)
-	desc := newTermSet(o.Description)
+	title := terms.NewTermSet(o.Title)
+	desc := terms.NewTermSet(o.Description)
 	found := map[string]bool{}
-	cover := func(ts termSet) float64 {
+	cover := func(ts terms.TermSet) float64 {
 		hits := 0
 		for _, s := range rt.outcome {
-			if ts.has(s) {
+			if ts.Has(s) {
 				hits++
 				found[s] = true
 			}
 		}
 		for _, p := range rt.synonyms {
-			if ts.hasAll(p.Stems) {
+			if ts.HasAll(p.Stems) {
 				hits++
 				found[p.Text] = true
 				break
@@ -560,9 +561,9 @@ func outcomeText(rt *reviewTerms, o *ingest.Outcome) (float64, []string) {
 	}
 	ct := cover(title)
 	if strings.TrimSpace(o.Description) == "" {
-		return ct, sortedKeys(found)
+		return ct, terms.SortedKeys(found)
 	}
-	return 0.6*ct + 0.4*cover(desc), sortedKeys(found)
+	return 0.6*ct + 0.4*cover(desc), terms.SortedKeys(found)
 }
 
 // scaleUnit reports whether a registry unit is a rating-scale unit
@@ -580,10 +581,10 @@ func scaleUnit(u string) bool {
 // shareWords reports whether two unit texts share a content word (stemmed).
 func shareWords(a, b string) bool {
 	bs := map[string]bool{}
-	for _, w := range stems(b, false) {
+	for _, w := range terms.StemsOf(b, false) {
 		bs[w] = true
 	}
-	for _, w := range stems(a, false) {
+	for _, w := range terms.StemsOf(a, false) {
 		if bs[w] {
 			return true
 		}
@@ -594,7 +595,7 @@ func shareWords(a, b string) bool {
 // relativeChange reports whether an outcome text describes a relative
 // (percent) change, as in "Percent Change From Baseline in HbA1c".
 func relativeChange(text string) bool {
-	w := analyteWords(text)
+	w := terms.AnalyteWords(text)
 	for _, p := range []string{" percent change ", " percentage change ", " percent changes ", " relative change ", " per cent change "} {
 		if strings.Contains(w, p) {
 			return true
@@ -618,17 +619,17 @@ func unitScore(rv ingest.Review, unit string) (score float64, unitFrom, why stri
 	if unit == "" || rv.Unit == "" {
 		return 0.7, "", "unit not stated"
 	}
-	if normUnit(unit) == normUnit(rv.Unit) || (scaleUnit(unit) && scaleUnit(rv.Unit)) {
+	if terms.NormUnit(unit) == terms.NormUnit(rv.Unit) || (scaleUnit(unit) && scaleUnit(rv.Unit)) {
 		return 1, "", fmt.Sprintf("unit %q fits %q", unit, rv.Unit)
 	}
 	if scaleUnit(unit) && strings.Contains(strings.ToLower(rv.Unit), "point") {
 		return 1, "", fmt.Sprintf("unit %q fits %q", unit, rv.Unit)
 	}
-	c, err := findConversion(unit, rv.Unit, rv.Outcome)
+	c, err := terms.FindConversion(unit, rv.Unit, rv.Outcome)
 	if err == nil && c != nil {
 		return 0.9, unit, fmt.Sprintf("unit %q converts to %q (%s)", unit, rv.Unit, c.Source)
 	}
-	if !physicalUnit(unit) && !physicalUnit(rv.Unit) {
+	if !terms.PhysicalUnit(unit) && !terms.PhysicalUnit(rv.Unit) {
 		// Counts and scores are worded freely ("number of lesions" for
 		// "lesions"): not a failure, but shared words count for more.
 		if shareWords(unit, rv.Unit) {
@@ -636,7 +637,7 @@ func unitScore(rv ingest.Review, unit string) (score float64, unitFrom, why stri
 		}
 		return 0.6, "", fmt.Sprintf("unit %q and %q are worded differently (neither is a physical unit): check they are the same scale", unit, rv.Unit)
 	}
-	why = fmt.Sprintf("unit %q cannot be converted to %q (units compared by meaning: %q vs %q)", unit, rv.Unit, normUnit(unit), normUnit(rv.Unit))
+	why = fmt.Sprintf("unit %q cannot be converted to %q (units compared by meaning: %q vs %q)", unit, rv.Unit, terms.NormUnit(unit), terms.NormUnit(rv.Unit))
 	if err != nil {
 		why += ": " + err.Error()
 	}
@@ -777,13 +778,13 @@ func dateAfter(a, b string) bool {
 }
 
 // matchAny returns the phrases found, each entirely, within one of texts.
-func matchAny(ps []phrase, texts []string) []string {
+func matchAny(ps []terms.Phrase, texts []string) []string {
 	found := map[string]bool{}
 	for _, tx := range texts {
 		if tx == "" {
 			continue
 		}
-		for _, m := range matchPhrases(newTermSet(tx), ps) {
+		for _, m := range terms.MatchPhrases(terms.NewTermSet(tx), ps) {
 			found[m] = true
 		}
 	}
@@ -796,7 +797,7 @@ func matchAny(ps []phrase, texts []string) []string {
 	return out
 }
 
-func phraseTexts(ps []phrase) string {
+func phraseTexts(ps []terms.Phrase) string {
 	s := make([]string, len(ps))
 	for i, p := range ps {
 		s[i] = p.Text

@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"unshelved/compare/internal/corpus"
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -55,7 +56,7 @@ func (w *corpusWorld) candidates(rv ingest.Review, studies []ingest.ReviewStudy)
 		}
 	}
 	out := make([]ingest.Trial, 0, len(ids))
-	for _, id := range sortedKeys(ids) {
+	for _, id := range terms.SortedKeys(ids) {
 		if t, ok := w.byID[id]; ok {
 			out = append(out, t)
 		} else if i, ok := w.bgByID[id]; ok {

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"unicode"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -14,7 +15,7 @@ import (
 // that name it and the registry arm types that state it.
 type comparatorKind struct {
 	Name     string
-	Phrases  []phrase
+	Phrases  []terms.Phrase
 	ArmTypes []string
 }
 
@@ -25,21 +26,21 @@ func comparatorKindFor(term string) comparatorKind {
 	low := strings.ToLower(term)
 	switch {
 	case strings.Contains(low, "placebo"):
-		return comparatorKind{Name: "placebo", Phrases: newPhrases([]string{"placebo", "dummy", "vehicle", "sugar pill"}),
+		return comparatorKind{Name: "placebo", Phrases: terms.NewPhrases([]string{"placebo", "dummy", "vehicle", "sugar pill"}),
 			ArmTypes: []string{"PLACEBO_COMPARATOR"}}
 	case strings.Contains(low, "sham"):
-		return comparatorKind{Name: "sham", Phrases: newPhrases([]string{"sham", "simulated"}), ArmTypes: []string{"SHAM_COMPARATOR"}}
+		return comparatorKind{Name: "sham", Phrases: terms.NewPhrases([]string{"sham", "simulated"}), ArmTypes: []string{"SHAM_COMPARATOR"}}
 	case strings.Contains(low, "usual") || strings.Contains(low, "standard care") || strings.Contains(low, "standard of care") || strings.Contains(low, "routine"):
-		return comparatorKind{Name: "usual care", Phrases: newPhrases([]string{"usual care", "standard care", "standard of care",
+		return comparatorKind{Name: "usual care", Phrases: terms.NewPhrases([]string{"usual care", "standard care", "standard of care",
 			"treatment as usual", "routine care", "usual treatment", "care as usual", "usual practice"})}
 	case strings.Contains(low, "wait"):
-		return comparatorKind{Name: "waiting list", Phrases: newPhrases([]string{"waiting list", "wait list", "waitlist",
+		return comparatorKind{Name: "waiting list", Phrases: terms.NewPhrases([]string{"waiting list", "wait list", "waitlist",
 			"delayed treatment", "delayed intervention", "delayed start"})}
 	case strings.Contains(low, "no intervention") || strings.Contains(low, "no treatment") || strings.Contains(low, "untreated"):
-		return comparatorKind{Name: "no intervention", Phrases: newPhrases([]string{"no intervention", "no treatment", "untreated", "control"}),
+		return comparatorKind{Name: "no intervention", Phrases: terms.NewPhrases([]string{"no intervention", "no treatment", "untreated", "control"}),
 			ArmTypes: []string{"NO_INTERVENTION"}}
 	}
-	return comparatorKind{Name: strings.TrimSpace(term), Phrases: newPhrases([]string{term})}
+	return comparatorKind{Name: strings.TrimSpace(term), Phrases: terms.NewPhrases([]string{term})}
 }
 
 // matchesComparator reports whether text names one of the comparator kinds.
@@ -47,9 +48,9 @@ func matchesComparator(ks []comparatorKind, text string) (string, bool) {
 	if text == "" {
 		return "", false
 	}
-	ts := newTermSet(text)
+	ts := terms.NewTermSet(text)
 	for _, k := range ks {
-		if len(matchPhrases(ts, k.Phrases)) > 0 {
+		if len(terms.MatchPhrases(ts, k.Phrases)) > 0 {
 			return k.Name, true
 		}
 	}
@@ -144,14 +145,14 @@ func groupRole(rt *reviewTerms, t ingest.Trial, g ingest.Group) (string, string)
 		return roleNone, "sequence or total group"
 	}
 	exp, ctrl := 0, 0
-	if len(matchPhrases(newTermSet(g.Title), rt.interventions)) > 0 {
+	if len(terms.MatchPhrases(terms.NewTermSet(g.Title), rt.interventions)) > 0 {
 		exp += 2
 	}
 	if _, ok := matchesComparator(rt.comparators, g.Title); ok {
 		ctrl += 2
 	}
 	if exp == 0 && ctrl == 0 {
-		if len(matchPhrases(newTermSet(g.Description), rt.interventions)) > 0 {
+		if len(terms.MatchPhrases(terms.NewTermSet(g.Description), rt.interventions)) > 0 {
 			exp++
 		}
 		if _, ok := matchesComparator(rt.comparators, g.Description); ok {
@@ -168,7 +169,7 @@ func groupRole(rt *reviewTerms, t ingest.Trial, g ingest.Group) (string, string)
 	// the title, the longest such label winning.
 	if a := repeatedArm(t.Arms, g.Title); a != nil {
 		names := strings.Join(a.InterventionNames, "; ")
-		if len(matchPhrases(newTermSet(names), rt.interventions)) > 0 {
+		if len(terms.MatchPhrases(terms.NewTermSet(names), rt.interventions)) > 0 {
 			return roleTreat, fmt.Sprintf("arm %q interventions", a.Label)
 		}
 		if _, ok := matchesComparator(rt.comparators, names); ok {
@@ -190,19 +191,19 @@ func groupRole(rt *reviewTerms, t ingest.Trial, g ingest.Group) (string, string)
 // a result group's title, the longest label first; nil when none does.
 func repeatedArm(arms []ingest.Arm, title string) *ingest.Arm {
 	tw := map[string]bool{}
-	for _, w := range words(title) {
-		tw[stem(w)] = true
+	for _, w := range terms.Words(title) {
+		tw[terms.Stem(w)] = true
 	}
 	var best *ingest.Arm
 	bestLen := 0
 	for i := range arms {
-		lw := words(arms[i].Label)
+		lw := terms.Words(arms[i].Label)
 		if len(lw) == 0 || len(lw) <= bestLen {
 			continue
 		}
 		all := true
 		for _, w := range lw {
-			if !tw[stem(w)] {
+			if !tw[terms.Stem(w)] {
 				all = false
 				break
 			}
@@ -334,19 +335,19 @@ func doseUnit(u string) bool {
 // value. The reason names the words found.
 func reversedMeasure(title, description, better string) (bool, string) {
 	lowerBetter := strings.EqualFold(better, "lower")
-	ts := newTermSet(title)
+	ts := terms.NewTermSet(title)
 	for _, w := range []string{"reduct", "decreas", "declin", "drop", "fall"} {
-		if ts.has(w) {
+		if ts.Has(w) {
 			return true, fmt.Sprintf("%q is a reduction: positive values mean less", title)
 		}
 	}
 	for _, w := range []string{"improv", "relief", "benefit"} {
-		if ts.has(w) && lowerBetter {
+		if ts.Has(w) && lowerBetter {
 			return true, fmt.Sprintf("%q is an improvement where the review's lower values are better", title)
 		}
 	}
 	for _, w := range []string{"worsen", "deterior"} {
-		if ts.has(w) && !lowerBetter {
+		if ts.Has(w) && !lowerBetter {
 			return true, fmt.Sprintf("%q is a worsening where the review's higher values are better", title)
 		}
 	}

@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"strings"
 
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -28,11 +29,11 @@ func NewTrialIndex(summaries []ingest.TrialSummary) *TrialIndex {
 	ix := &TrialIndex{ids: make([]string, len(summaries)), cond: map[string][]int32{}, intv: map[string][]int32{}}
 	add := func(m map[string][]int32, seen map[string]bool, pos int32, texts ...string) {
 		for _, tx := range texts {
-			for _, w := range words(tx) {
-				if stopWords[w] {
+			for _, w := range terms.Words(tx) {
+				if terms.StopWords[w] {
 					continue
 				}
-				s := stem(w)
+				s := terms.Stem(w)
 				if seen[s] {
 					continue
 				}
@@ -81,11 +82,11 @@ func (b *TrialIndexBuilder) Add(trialID string, side int, text string) {
 		b.pos[trialID] = p
 		b.ix.ids = append(b.ix.ids, trialID)
 	}
-	for _, w := range words(text) {
-		if stopWords[w] {
+	for _, w := range terms.Words(text) {
+		if terms.StopWords[w] {
 			continue
 		}
-		s := stem(w)
+		s := terms.Stem(w)
 		if side&ingest.IndexCondition != 0 {
 			b.ix.cond[s] = appendPos(b.ix.cond[s], p)
 		}
@@ -125,8 +126,8 @@ func (ix *TrialIndex) Len() int { return len(ix.ids) }
 // have all their stems in the trial's condition and intervention sides. A
 // review without conditions (or interventions) does not restrict on them.
 func (ix *TrialIndex) Candidates(rv ingest.Review) []string {
-	cond := ix.side(ix.cond, newPhrases(rv.Conditions))
-	intv := ix.side(ix.intv, newPhrases(rv.Interventions))
+	cond := ix.side(ix.cond, terms.NewPhrases(rv.Conditions))
+	intv := ix.side(ix.intv, terms.NewPhrases(rv.Interventions))
 	var hits []int32
 	switch {
 	case cond == nil && intv == nil:
@@ -148,7 +149,7 @@ func (ix *TrialIndex) Candidates(rv ingest.Review) []string {
 
 // side returns the union over phrases of the trials holding every stem of
 // the phrase; nil when there are no phrases.
-func (ix *TrialIndex) side(m map[string][]int32, ps []phrase) []int32 {
+func (ix *TrialIndex) side(m map[string][]int32, ps []terms.Phrase) []int32 {
 	if len(ps) == 0 {
 		return nil
 	}

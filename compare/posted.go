@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"unshelved/analysis"
+	"unshelved/compare/terms"
 	"unshelved/ingest"
 )
 
@@ -98,7 +99,7 @@ func meanDifferenceParam(pt string) bool {
 // ("Change from baseline at Week 12"), in days, or -1.
 func analysisRowDays(a ingest.Analysis) float64 {
 	for _, text := range []string{a.GroupDescription, a.StatisticalComment, a.EstimateComment, a.OtherDescription} {
-		if tf := ParseTimeFrame(text); tf.Usable() && !tf.UpTo && len(tf.Days) == 1 {
+		if tf := terms.ParseTimeFrame(text); tf.Usable() && !tf.UpTo && len(tf.Days) == 1 {
 			return tf.Days[0]
 		}
 	}
@@ -111,7 +112,7 @@ func analysisRowDays(a ingest.Analysis) float64 {
 func findPostedAnalysis(o *ingest.Outcome, class int, tg, cg string) int {
 	rowDays := -1.0
 	if len(o.Classes) > 1 {
-		tf := ParseTimeFrame(o.Classes[class].Title)
+		tf := terms.ParseTimeFrame(o.Classes[class].Title)
 		if !tf.Usable() || len(tf.Days) != 1 {
 			return -1
 		}
@@ -138,7 +139,7 @@ func findPostedAnalysis(o *ingest.Outcome, class int, tg, cg string) int {
 // CI at its posted level (t on n1 + n2 - 2 df when either group is under
 // 60), the unit converted and the sign flipped as for the arms. It returns
 // nil when the record posts no such analysis.
-func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, class, cat int, l ingest.Link, conv *unitConversion) *postedReading {
+func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, class, cat int, l ingest.Link, conv *terms.UnitConversion) *postedReading {
 	if len(l.TreatGroups) != 1 || len(l.CtrlGroups) != 1 {
 		return nil
 	}

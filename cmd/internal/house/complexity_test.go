@@ -19,9 +19,9 @@ const maxComplexity = 30
 // field by field is one long, flat switch that reads best in one piece.
 // Key: "folder.Func" or "folder.Type.Method"; value: why it stays whole.
 var parsers = map[string]string{
-	"compare.ParseTimeFrame": "reads registry time-frame free text: one case per written form, in the order the forms are tried",
-	"ingest.ReadNeutralCSV":  "reads the neutral CSV record by record: one check per column, each with its own error",
-	"ingest.jdec.protocol":   "decodes the registry JSON protocol section: one case per key of the schema",
+	"compare/terms.ParseTimeFrame": "reads registry time-frame free text: one case per written form, in the order the forms are tried",
+	"ingest.ReadNeutralCSV":        "reads the neutral CSV record by record: one check per column, each with its own error",
+	"ingest.jdec.protocol":         "decodes the registry JSON protocol section: one case per key of the schema",
 }
 
 // tooComplex are today's other functions over maxComplexity: to remove in

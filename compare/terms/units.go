@@ -1,13 +1,13 @@
-package compare
+package terms
 
 import (
 	"fmt"
 	"strings"
 )
 
-// unitConversion converts a value from one unit to another as
+// UnitConversion converts a value from one unit to another as
 // to = Scale*from + Offset. SDs scale by |Scale| only.
-type unitConversion struct {
+type UnitConversion struct {
 	From, To string
 	Analyte  string // "" = any outcome; otherwise a key of analyteSynonyms the review's outcome must name
 	Scale    float64
@@ -17,7 +17,7 @@ type unitConversion struct {
 
 // unitTable lists the conversions unshelved applies. Each factor names its
 // source; molar masses are the usual clinical-chemistry factors.
-var unitTable = []unitConversion{
+var unitTable = []UnitConversion{
 	// Glucose: molar mass 180.16 g/mol, so 1 mmol/L = 18.016 mg/dL.
 	{From: "mg/dl", To: "mmol/l", Analyte: "glucose", Scale: 1 / 18.016, Source: "glucose molar mass 180.16 g/mol (1 mmol/L = 18.016 mg/dL)"},
 	{From: "mmol/l", To: "mg/dl", Analyte: "glucose", Scale: 18.016, Source: "glucose molar mass 180.16 g/mol (1 mmol/L = 18.016 mg/dL)"},
@@ -35,12 +35,12 @@ var unitTable = []unitConversion{
 	{From: "kg", To: "lb", Analyte: "weight", Scale: 1 / 0.45359237, Source: "international pound, 1 lb = 0.45359237 kg (exact)"},
 }
 
-// unitSpellings maps spellings of one unit, after the mechanical steps of
+// UnitSpellings maps spellings of one unit, after the mechanical steps of
 // normUnit (lower case, no spaces, "per" as "/", "^2" and "²" as "2"), to
 // one key. Scale-score units all map to "points": a rating-scale score has
 // no physical unit, and records write it as "points", "score", "units on a
 // scale" or "scores on a scale" for the same thing.
-var unitSpellings = map[string]string{
+var UnitSpellings = map[string]string{
 	// percent
 	"percent": "%", "percentage": "%", "pct": "%", "%hba1c": "%", "percentofhemoglobin": "%", "percentofhaemoglobin": "%",
 	"percentageofhemoglobin": "%", "percentageofhaemoglobin": "%", "%ofhemoglobin": "%", "%ofhaemoglobin": "%",
@@ -68,13 +68,13 @@ var unitSpellings = map[string]string{
 	"pointsonascale": "points", "pointonascale": "points", "scaleunits": "points", "scalescore": "points", "unitsonthescale": "points",
 }
 
-// normUnit reduces a unit spelling to a comparison key: molar symbols
+// NormUnit reduces a unit spelling to a comparison key: molar symbols
 // first, case-sensitively (molarUnits: "mM" is mmol/L); then lower case; no
 // spaces; "per" and "/" unified; "^2", "²" and "2" alike; then the
 // unitSpellings table ("mm Hg" and "mmHg" are both "mmhg", "mg/dL" is
 // "mg/dl", "Kg/m^2" is "kg/m2", "units on a scale" is "points"). A range
 // in brackets after a scale unit ("points (0-100)") is dropped.
-func normUnit(u string) string {
+func NormUnit(u string) string {
 	if k, ok := molarUnits[strings.TrimSpace(u)]; ok {
 		return k
 	}
@@ -84,7 +84,7 @@ func normUnit(u string) string {
 	}
 	u = strings.ReplaceAll(u, " per ", "/")
 	u = strings.NewReplacer(" ", "", "\t", "", "^2", "2", "²", "2", "**2", "2", "µ", "u", "μ", "u").Replace(u)
-	if k, ok := unitSpellings[u]; ok {
+	if k, ok := UnitSpellings[u]; ok {
 		return k
 	}
 	return u
@@ -121,10 +121,10 @@ var analyteSynonyms = map[string][]string{
 	"weight":       {"weight", "body weight", "bodyweight"},
 }
 
-// analyteWords normalises an outcome text for analyte matching: lower
+// AnalyteWords normalises an outcome text for analyte matching: lower
 // case, every character other than a letter or digit a space, single
 // spaces, padded with a space at each end.
-func analyteWords(text string) string {
+func AnalyteWords(text string) string {
 	var b strings.Builder
 	b.WriteByte(' ')
 	space := true
@@ -148,7 +148,7 @@ func analyteWords(text string) string {
 // namesAnalyte reports whether outcomeText names the analyte (a key of
 // analyteSynonyms) through one of its synonyms, as whole words.
 func namesAnalyte(outcomeText, analyte string) bool {
-	text := analyteWords(outcomeText)
+	text := AnalyteWords(outcomeText)
 	for _, syn := range analyteSynonyms[analyte] {
 		if strings.Contains(text, " "+syn+" ") {
 			return true
@@ -157,13 +157,13 @@ func namesAnalyte(outcomeText, analyte string) bool {
 	return false
 }
 
-// findConversion returns the conversion from unit from to unit to for an
+// FindConversion returns the conversion from unit from to unit to for an
 // outcome described by outcomeText. An identical unit (after normUnit)
 // needs none (nil, nil). A conversion tied to an analyte applies only when
 // outcomeText names it (namesAnalyte). No conversion gives an error that
 // says why, for the match reasons and the audit.
-func findConversion(from, to, outcomeText string) (*unitConversion, error) {
-	f, t := normUnit(from), normUnit(to)
+func FindConversion(from, to, outcomeText string) (*UnitConversion, error) {
+	f, t := NormUnit(from), NormUnit(to)
 	if f == t {
 		return nil, nil
 	}
@@ -195,5 +195,5 @@ var physicalUnits = map[string]bool{
 	"ml/min/1.73m2": true, "db": true, "dbsl": true, "dbhl": true, "dba": true, "hz": true, "khz": true, "seconds": true, "minutes": true, "hours": true, "days": true, "s": true, "min": true, "h": true,
 }
 
-// physicalUnit reports whether u is a unit of measurement we recognise.
-func physicalUnit(u string) bool { return physicalUnits[normUnit(u)] }
+// PhysicalUnit reports whether u is a unit of measurement we recognise.
+func PhysicalUnit(u string) bool { return physicalUnits[NormUnit(u)] }

@@ -1,4 +1,4 @@
-package compare
+package terms
 
 import (
 	"testing"
@@ -46,8 +46,8 @@ func TestUnitSpellingPairs(t *testing.T) {
 		{"nM", "nmol/L", true},
 		{"nM", "nm", false},
 	} {
-		if got := normUnit(tc.a) == normUnit(tc.b); got != tc.same {
-			t.Errorf("%q (%q) vs %q (%q): same %v, want %v", tc.a, normUnit(tc.a), tc.b, normUnit(tc.b), got, tc.same)
+		if got := NormUnit(tc.a) == NormUnit(tc.b); got != tc.same {
+			t.Errorf("%q (%q) vs %q (%q): same %v, want %v", tc.a, NormUnit(tc.a), tc.b, NormUnit(tc.b), got, tc.same)
 		}
 	}
 }
@@ -84,7 +84,7 @@ func TestAnalyteSynonyms(t *testing.T) {
 		{"Fasting plasma glucose", "%", "mmol/mol", 0},
 		{"Targeted therapy response", "mg/dL", "mmol/L", 0}, // "tg" only inside a word
 	} {
-		c, err := findConversion(tc.from, tc.to, tc.outcome)
+		c, err := FindConversion(tc.from, tc.to, tc.outcome)
 		if tc.scale == 0 {
 			if c != nil || err == nil {
 				t.Errorf("%q %s->%s: converted with %+v, want an explained failure", tc.outcome, tc.from, tc.to, c)
@@ -104,13 +104,13 @@ func TestAnalyteSynonyms(t *testing.T) {
 // TestMillimolarIsAConcentration: a registry unit "mM" fits a review in
 // mmol/L without conversion and never fits one in millimetres.
 func TestMillimolarIsAConcentration(t *testing.T) {
-	if c, err := findConversion("mM", "mmol/L", "fasting plasma glucose"); c != nil || err != nil {
+	if c, err := FindConversion("mM", "mmol/L", "fasting plasma glucose"); c != nil || err != nil {
 		t.Errorf("mM to mmol/L: %v, %v; want the same unit", c, err)
 	}
-	if _, err := findConversion("mM", "mm", "lesion diameter"); err == nil {
+	if _, err := FindConversion("mM", "mm", "lesion diameter"); err == nil {
 		t.Errorf("mM to mm: no error")
 	}
-	if !physicalUnit("mM") {
+	if !PhysicalUnit("mM") {
 		t.Errorf("mM not recognised as a unit of measurement")
 	}
 }

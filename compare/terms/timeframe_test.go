@@ -1,4 +1,4 @@
-package compare
+package terms
 
 import (
 	"testing"
@@ -117,7 +117,7 @@ func TestTimeScore(t *testing.T) {
 		{"no review timepoint", "Week 4", nil, 1},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			got, why := timeScore(ParseTimeFrame(tc.frame), tc.target)
+			got, why := TimeScore(ParseTimeFrame(tc.frame), tc.target)
 			if !scalar.EqualWithinAbsOrRel(got, tc.want, 1e-12, 1e-12) {
 				t.Errorf("timeScore(%q) = %v (%s), want %v", tc.frame, got, why, tc.want)
 			}

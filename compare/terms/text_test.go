@@ -1,4 +1,4 @@
-package compare
+package terms
 
 import (
 	"reflect"
@@ -24,8 +24,8 @@ func TestStem(t *testing.T) {
 		{"mood", "moody", false},
 	} {
 		t.Run(tc.a+"/"+tc.b, func(t *testing.T) {
-			if got := stem(tc.a) == stem(tc.b); got != tc.same {
-				t.Errorf("stem(%q) = %q, stem(%q) = %q; same = %v, want %v", tc.a, stem(tc.a), tc.b, stem(tc.b), got, tc.same)
+			if got := Stem(tc.a) == Stem(tc.b); got != tc.same {
+				t.Errorf("stem(%q) = %q, stem(%q) = %q; same = %v, want %v", tc.a, Stem(tc.a), tc.b, Stem(tc.b), got, tc.same)
 			}
 		})
 	}
@@ -43,7 +43,7 @@ func TestStems(t *testing.T) {
 		{"Depressive symptom severity (any validated self-report scale)", true, []string{"depress", "symptom", "sever"}},
 	} {
 		t.Run(tc.in, func(t *testing.T) {
-			if got := stems(tc.in, tc.generic); !reflect.DeepEqual(got, tc.want) {
+			if got := StemsOf(tc.in, tc.generic); !reflect.DeepEqual(got, tc.want) {
 				t.Errorf("stems(%q) = %v, want %v", tc.in, got, tc.want)
 			}
 		})
@@ -51,7 +51,7 @@ func TestStems(t *testing.T) {
 }
 
 func TestMatchPhrases(t *testing.T) {
-	ps := newPhrases([]string{"type 2 diabetes", "T2DM", "non-insulin-dependent diabetes"})
+	ps := NewPhrases([]string{"type 2 diabetes", "T2DM", "non-insulin-dependent diabetes"})
 	for _, tc := range []struct {
 		text string
 		want []string
@@ -63,7 +63,7 @@ func TestMatchPhrases(t *testing.T) {
 		{"Diabetes Mellitus, Non-Insulin-Dependent", []string{"non-insulin-dependent diabetes"}},
 	} {
 		t.Run(tc.text, func(t *testing.T) {
-			if got := matchPhrases(newTermSet(tc.text), ps); !reflect.DeepEqual(got, tc.want) {
+			if got := MatchPhrases(NewTermSet(tc.text), ps); !reflect.DeepEqual(got, tc.want) {
 				t.Errorf("matchPhrases(%q) = %v, want %v", tc.text, got, tc.want)
 			}
 		})

@@ -1,4 +1,4 @@
-package compare
+package terms
 
 import (
 	"fmt"
@@ -13,7 +13,7 @@ import (
 // year; registries do not say which calendar a "Month 3" visit follows
 // (common practice, no source).
 const (
-	daysPerWeek  = 7.0
+	DaysPerWeek  = 7.0
 	daysPerMonth = 365.25 / 12
 	daysPerYear  = 365.25
 )
@@ -52,7 +52,7 @@ var unitDays = map[string]float64{
 	"minute": 1.0 / 1440, "minutes": 1.0 / 1440, "min": 1.0 / 1440, "mins": 1.0 / 1440,
 	"hour": 1.0 / 24, "hours": 1.0 / 24, "hr": 1.0 / 24, "hrs": 1.0 / 24, "h": 1.0 / 24,
 	"day": 1, "days": 1, "d": 1,
-	"week": daysPerWeek, "weeks": daysPerWeek, "wk": daysPerWeek, "wks": daysPerWeek, "w": daysPerWeek,
+	"week": DaysPerWeek, "weeks": DaysPerWeek, "wk": DaysPerWeek, "wks": DaysPerWeek, "w": DaysPerWeek,
 	"month": daysPerMonth, "months": daysPerMonth, "mo": daysPerMonth, "mos": daysPerMonth, "mon": daysPerMonth, "mth": daysPerMonth, "mths": daysPerMonth, "m": daysPerMonth,
 	"year": daysPerYear, "years": daysPerYear, "yr": daysPerYear, "yrs": daysPerYear, "y": daysPerYear,
 }
@@ -327,24 +327,24 @@ const (
 	timeWindowDays = 14.0
 )
 
-// timeWindow returns the half-width in days of the window around target days.
-func timeWindow(targetDays float64) float64 {
+// TimeWindow returns the half-width in days of the window around target days.
+func TimeWindow(targetDays float64) float64 {
 	return math.Max(timeWindowRel*targetDays, timeWindowDays)
 }
 
-// timeScore scores a time frame against the review's timepoint in weeks:
+// TimeScore scores a time frame against the review's timepoint in weeks:
 // 1 at the timepoint, falling linearly to 0.5 at the window's edge, 0
 // outside it. An upper bound that reaches the timepoint scores 0.8 of that.
 // An unusable time frame scores 0.3; no review timepoint scores 1.
-func timeScore(tf TimeFrame, targetWeeks *float64) (float64, string) {
+func TimeScore(tf TimeFrame, targetWeeks *float64) (float64, string) {
 	if targetWeeks == nil {
 		return 1, "review gives no timepoint"
 	}
-	target := *targetWeeks * daysPerWeek
+	target := *targetWeeks * DaysPerWeek
 	if !tf.Usable() {
 		return 0.3, fmt.Sprintf("time frame %q unusable: %s", tf.Text, tf.Unusable)
 	}
-	w := timeWindow(target)
+	w := TimeWindow(target)
 	best, bestDist := 0.0, math.Inf(1)
 	for _, d := range tf.Days {
 		if dist := math.Abs(d - target); dist < bestDist {
@@ -354,16 +354,16 @@ func timeScore(tf TimeFrame, targetWeeks *float64) (float64, string) {
 	if tf.UpTo {
 		end := tf.Days[len(tf.Days)-1]
 		if math.Abs(end-target) <= w {
-			return 0.8 * (1 - 0.5*math.Abs(end-target)/w), fmt.Sprintf("time frame up to week %s, review week %s", fmtWeeks(end), fmtWeeks(target))
+			return 0.8 * (1 - 0.5*math.Abs(end-target)/w), fmt.Sprintf("time frame up to week %s, review week %s", FormatWeeks(end), FormatWeeks(target))
 		}
-		return 0, fmt.Sprintf("time frame up to week %s is outside review week %s ± %s", fmtWeeks(end), fmtWeeks(target), fmtWeeks(w))
+		return 0, fmt.Sprintf("time frame up to week %s is outside review week %s ± %s", FormatWeeks(end), FormatWeeks(target), FormatWeeks(w))
 	}
 	if bestDist > w {
-		return 0, fmt.Sprintf("time frame week %s is outside review week %s ± %s", fmtWeeks(best), fmtWeeks(target), fmtWeeks(w))
+		return 0, fmt.Sprintf("time frame week %s is outside review week %s ± %s", FormatWeeks(best), FormatWeeks(target), FormatWeeks(w))
 	}
-	return 1 - 0.5*bestDist/w, fmt.Sprintf("time frame week %s, review week %s", fmtWeeks(best), fmtWeeks(target))
+	return 1 - 0.5*bestDist/w, fmt.Sprintf("time frame week %s, review week %s", FormatWeeks(best), FormatWeeks(target))
 }
 
-func fmtWeeks(days float64) string {
-	return strconv.FormatFloat(math.Round(days/daysPerWeek*10)/10, 'f', -1, 64)
+func FormatWeeks(days float64) string {
+	return strconv.FormatFloat(math.Round(days/DaysPerWeek*10)/10, 'f', -1, 64)
 }

@@ -1,4 +1,4 @@
-package compare
+package terms
 
 import (
 	"sort"
@@ -11,8 +11,8 @@ import (
 // every word of that phrase". They are deliberately simple: registry text
 // is short, and reasons must stay readable by people.
 
-// stopWords are dropped everywhere: they carry no topic.
-var stopWords = map[string]bool{
+// StopWords are dropped everywhere: they carry no topic.
+var StopWords = map[string]bool{
 	"a": true, "an": true, "the": true, "of": true, "in": true, "on": true, "at": true, "to": true,
 	"from": true, "for": true, "with": true, "and": true, "or": true, "by": true, "vs": true,
 	"versus": true, "per": true, "as": true, "is": true, "are": true, "be": true, "was": true,
@@ -35,20 +35,20 @@ var genericOutcomeWords = map[string]bool{
 	"visit": true, "time": true, "point": true, "points": true, "using": true, "questionnaire": true, "numeric": true, "numerical": true, "visual": true, "analogue": true, "analog": true,
 }
 
-// words splits text into lower-case runs of letters and digits. Markdown
-// escapes and punctuation separate words; "VLZ-204" gives "vlz", "204".
-func words(s string) []string {
+// Words splits text into lower-case runs of letters and digits. Markdown
+// escapes and punctuation separate Words; "VLZ-204" gives "vlz", "204".
+func Words(s string) []string {
 	return strings.FieldsFunc(strings.ToLower(s), func(r rune) bool {
 		return !unicode.IsLetter(r) && !unicode.IsDigit(r)
 	})
 }
 
-// stem strips common English suffixes so that "depression", "depressive"
+// Stem strips common English suffixes so that "depression", "depressive"
 // and "depressed" meet at "depress", and "diabetes" and "diabetic" at
 // "diabet". Words of four letters or fewer, and numbers, are kept as they
 // are. It is a crude stemmer on purpose: it must only make the same word
 // family collide, not produce dictionary forms.
-func stem(w string) string {
+func Stem(w string) string {
 	if len(w) <= 4 || !unicode.IsLetter(rune(w[0])) {
 		return w
 	}
@@ -71,99 +71,99 @@ func stem(w string) string {
 	return w
 }
 
-// stems returns the stems of the words of s, without stop words; with
+// StemsOf returns the StemsOf of the words of s, without stop words; with
 // generic set, words that only say how something was measured are dropped
 // too, and so are numbers.
-func stems(s string, generic bool) []string {
-	ws := words(s)
+func StemsOf(s string, generic bool) []string {
+	ws := Words(s)
 	out := make([]string, 0, len(ws))
 	for _, w := range ws {
-		if stopWords[w] {
+		if StopWords[w] {
 			continue
 		}
 		if generic && (genericOutcomeWords[w] || unicode.IsDigit(rune(w[0]))) {
 			continue
 		}
-		out = append(out, stem(w))
+		out = append(out, Stem(w))
 	}
 	return out
 }
 
-// termSet is a set of stems.
-type termSet map[string]struct{}
+// TermSet is a set of stems.
+type TermSet map[string]struct{}
 
-// newTermSet collects the stems of texts (stop words dropped, numbers kept).
-func newTermSet(texts ...string) termSet {
-	ts := termSet{}
+// NewTermSet collects the stems of texts (stop words dropped, numbers kept).
+func NewTermSet(texts ...string) TermSet {
+	ts := TermSet{}
 	for _, t := range texts {
-		ts.add(t)
+		ts.Add(t)
 	}
 	return ts
 }
 
-func (ts termSet) add(text string) {
-	for _, s := range stems(text, false) {
+func (ts TermSet) Add(text string) {
+	for _, s := range StemsOf(text, false) {
 		ts[s] = struct{}{}
 	}
 }
 
-func (ts termSet) has(s string) bool {
+func (ts TermSet) Has(s string) bool {
 	_, ok := ts[s]
 	return ok
 }
 
-// hasAll reports whether every stem of the phrase is in the set. An empty
+// HasAll reports whether every stem of the phrase is in the set. An empty
 // phrase matches nothing.
-func (ts termSet) hasAll(phrase []string) bool {
+func (ts TermSet) HasAll(phrase []string) bool {
 	if len(phrase) == 0 {
 		return false
 	}
 	for _, p := range phrase {
-		if !ts.has(p) {
+		if !ts.Has(p) {
 			return false
 		}
 	}
 	return true
 }
 
-// phrase is a review term (a condition, an intervention or a comparator)
+// Phrase is a review term (a condition, an intervention or a comparator)
 // with its stems.
-type phrase struct {
+type Phrase struct {
 	Text  string
 	Stems []string
 }
 
-func newPhrases(texts []string) []phrase {
-	out := make([]phrase, 0, len(texts))
+func NewPhrases(texts []string) []Phrase {
+	out := make([]Phrase, 0, len(texts))
 	for _, t := range texts {
 		t = strings.TrimSpace(t)
 		if t == "" {
 			continue
 		}
-		s := stems(t, false)
+		s := StemsOf(t, false)
 		if len(s) == 0 {
 			continue
 		}
-		out = append(out, phrase{Text: t, Stems: s})
+		out = append(out, Phrase{Text: t, Stems: s})
 	}
 	return out
 }
 
-// matchPhrases returns the texts of the phrases whose stems are all in ts,
+// MatchPhrases returns the texts of the phrases whose stems are all in ts,
 // in the phrases' order.
-func matchPhrases(ts termSet, ps []phrase) []string {
+func MatchPhrases(ts TermSet, ps []Phrase) []string {
 	var out []string
 	for _, p := range ps {
-		if ts.hasAll(p.Stems) {
+		if ts.HasAll(p.Stems) {
 			out = append(out, p.Text)
 		}
 	}
 	return out
 }
 
-// splitTerms splits a review list field on ';' (review files keep lists
+// SplitTerms splits a review list field on ';' (review files keep lists
 // in one cell).
-func splitTerms(s string) []string {
+func SplitTerms(s string) []string {
 	var out []string
 	for _, p := range strings.Split(s, ";") {
 		if p = strings.TrimSpace(p); p != "" {
@@ -173,8 +173,8 @@ func splitTerms(s string) []string {
 	return out
 }
 
-// sortedKeys returns the keys of a set in order, for reasons.
-func sortedKeys(m map[string]bool) []string {
+// SortedKeys returns the keys of a set in order, for reasons.
+func SortedKeys(m map[string]bool) []string {
 	out := make([]string, 0, len(m))
 	for k := range m {
 		out = append(out, k)
