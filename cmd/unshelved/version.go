@@ -47,14 +47,20 @@ func versionString(read func() (*debug.BuildInfo, bool)) string {
 	return fmt.Sprintf("%s (%s; %s)", releaseVersion, c, runtime.Version())
 }
 
+// versionOptions are the options of version: the global flags.
+type versionOptions struct{ g *globals }
+
 func newCmdVersion(g *globals) *cobra.Command {
+	opts := &versionOptions{g: g}
 	return &cobra.Command{
 		Use:   "version",
 		Short: "Print the version, the commit it was built from and the Go version",
 		Args:  exactArgs(0),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			_, err := fmt.Fprintln(g.IO.Out, "unshelved "+version)
-			return err
-		},
+		RunE:  func(cmd *cobra.Command, args []string) error { return versionRun(opts) },
 	}
+}
+
+func versionRun(opts *versionOptions) error {
+	_, err := fmt.Fprintln(opts.g.IO.Out, "unshelved "+version)
+	return err
 }
