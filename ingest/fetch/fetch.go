@@ -604,7 +604,8 @@ func saveState(path string, st State) error {
 	if err != nil {
 		return fmt.Errorf("write state file: %w", err)
 	}
-	if _, err := tmp.Write(append(data, '\n')); err == nil {
+	// A failed write or sync must stop the rename: the old state stays.
+	if _, err = tmp.Write(append(data, '\n')); err == nil {
 		err = tmp.Sync()
 	}
 	if cerr := tmp.Close(); err == nil {
