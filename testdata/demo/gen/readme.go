@@ -80,7 +80,6 @@ published set the small studies show the largest benefits (small-study asymmetry
 
 `)
 	for _, r := range sc.Reviews {
-		w("**%s**: ", r.ID)
 		var parts []string
 		for _, p := range sc.Pubs {
 			if p.Review != r.ID {
@@ -99,7 +98,7 @@ published set the small studies show the largest benefits (small-study asymmetry
 			}
 			parts = append(parts, fmt.Sprintf("%s (%s; %s; %s %s, SE %s)", p.Label, id, n, r.Measure, num(e, dec(r)), num(se, dec(r))))
 		}
-		w("%s.\n\n", strings.Join(parts, "; "))
+		w("%s\n\n", wrapWords("**"+r.ID+"**: "+strings.Join(parts, "; ")+".", 120))
 	}
 	w(`## Registry records and what each exercises
 
@@ -193,5 +192,27 @@ Conventions used for these numbers:
 - mg/dL to mmol/L for glucose: divide means and SDs by 18.016.
 - Medians with an interquartile range are not converted (NCT99000206 is rejected for that reason).
 `)
+	return b.String()
+}
+
+// wrapWords breaks text into lines of at most width bytes at spaces (a
+// longer word stays whole), so that no line of the README is too long to
+// read in a diff.
+func wrapWords(text string, width int) string {
+	var b strings.Builder
+	lineLen := 0
+	for i, word := range strings.Fields(text) {
+		switch {
+		case i == 0:
+		case lineLen+1+len(word) > width:
+			b.WriteByte('\n')
+			lineLen = 0
+		default:
+			b.WriteByte(' ')
+			lineLen++
+		}
+		b.WriteString(word)
+		lineLen += len(word)
+	}
 	return b.String()
 }
