@@ -146,7 +146,6 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 // are left out. Trials keep their first-seen order.
 func bestLinkPerTrial(links []ingest.Link) []ingest.Link {
 	best := map[string]int{}
-	var order []string
 	var out []ingest.Link
 	better := func(a, b ingest.Link) bool {
 		aa, ba := Accepted(a.Decision), Accepted(b.Decision)
@@ -172,7 +171,6 @@ func bestLinkPerTrial(links []ingest.Link) []ingest.Link {
 		i, seen := best[l.TrialID]
 		if !seen {
 			best[l.TrialID] = len(out)
-			order = append(order, l.TrialID)
 			out = append(out, l)
 			continue
 		}

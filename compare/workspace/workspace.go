@@ -4,35 +4,15 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"runtime"
 	"strings"
 
-	"unshelved/compare"
 	"unshelved/ingest"
 	"unshelved/store"
 )
 
-// Audit audits the named reviews (all reviews when ids is empty) in the
-// workspace, in review id order, on all cores. The inputs are those of
-// LoadAuditInputs (accepted links, and the records behind included and
-// no-results links for the discrepancy and missing-evidence figures). A
-// review that cannot be audited is an error naming it; use RunAudit to
-// keep going past such reviews and to record the run.
-func Audit(ctx context.Context, db *store.DB, ids []string, opts compare.Options) ([]compare.ReviewAudit, error) {
-	inputs, err := LoadAuditInputs(ctx, db, ids)
-	if err != nil {
-		return nil, err
-	}
-	out, failed, err := AuditAll(ctx, inputs, opts, runtime.GOMAXPROCS(0))
-	if err != nil {
-		return nil, err
-	}
-	if len(failed) > 0 {
-		return nil, errors.Join(failed...)
-	}
-	return out, nil
-}
-
+// selectReviews reads the named reviews in the order given, or every
+// review of the workspace when ids is empty (an error when there is none).
+// An id that is not in the workspace is an error naming it.
 func selectReviews(ctx context.Context, db *store.DB, ids []string) ([]ingest.Review, error) {
 	if len(ids) == 0 {
 		reviews, err := db.Reviews(ctx)
@@ -56,34 +36,6 @@ func selectReviews(ctx context.Context, db *store.DB, ids []string) ([]ingest.Re
 		reviews = append(reviews, rv)
 	}
 	return reviews, nil
-}
-
-func loadInput(ctx context.Context, db *store.DB, rv ingest.Review) (compare.AuditInput, error) {
-	in := compare.AuditInput{Review: rv, Trials: map[string]ingest.Trial{}}
-	var err error
-	if in.Studies, err = db.ReviewStudies(ctx, rv.ReviewID); err != nil {
-		return in, fmt.Errorf("load studies of %s: %w", rv.ReviewID, err)
-	}
-	if in.Links, err = db.Links(ctx, rv.ReviewID); err != nil {
-		return in, fmt.Errorf("load links of %s: %w", rv.ReviewID, err)
-	}
-	for _, l := range in.Links {
-		if !compare.Accepted(l.Decision) {
-			continue
-		}
-		if _, ok := in.Trials[l.TrialID]; ok {
-			continue
-		}
-		t, err := db.Trial(ctx, l.TrialID)
-		if errors.Is(err, store.ErrNotFound) {
-			continue // reported by AuditReview as missing
-		}
-		if err != nil {
-			return in, fmt.Errorf("load trial %s: %w", l.TrialID, err)
-		}
-		in.Trials[l.TrialID] = t
-	}
-	return in, nil
 }
 
 // LinkProblem is a link row that does not fit the workspace.
