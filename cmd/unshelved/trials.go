@@ -5,7 +5,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"unshelved/compare"
+	"unshelved/compare/funders"
 	plotrender "unshelved/compare/render"
 	"unshelved/compare/workspace"
 )
@@ -51,12 +51,12 @@ their completion date, and the output says so. Dates given to the month
 				if d.v == "" {
 					continue
 				}
-				if _, ok := compare.ParseRegistryDate(d.v); !ok {
+				if _, ok := funders.ParseRegistryDate(d.v); !ok {
 					return flagErrorf("invalid %s %q: want yyyy-MM-dd, yyyy-MM or yyyy", d.flag, d.v)
 				}
 			}
-			if opts.By != "" && opts.By != compare.BySponsor && opts.By != compare.BySponsorClass {
-				return flagErrorf("invalid --by %q: valid values are %s, %s", opts.By, compare.BySponsor, compare.BySponsorClass)
+			if opts.By != "" && opts.By != funders.BySponsor && opts.By != funders.BySponsorClass {
+				return flagErrorf("invalid --by %q: valid values are %s, %s", opts.By, funders.BySponsor, funders.BySponsorClass)
 			}
 			if opts.Plot != "" {
 				switch ext := strings.ToLower(plotExt(opts.Plot)); ext {
@@ -96,7 +96,7 @@ func trialsRun(cmd *cobra.Command, opts *trialsOptions) error {
 	defer db.Close()
 	asOf := g.IO.now()
 	if opts.AsOf != "" {
-		asOf, _ = compare.ParseRegistryDate(opts.AsOf)
+		asOf, _ = funders.ParseRegistryDate(opts.AsOf)
 	}
 	rep, err := workspace.FunderQuery(cmd.Context(), db, workspace.TrialFilter{Sponsor: opts.Sponsor, SponsorClass: opts.SponsorClass,
 		Condition: opts.Condition, CompletedFrom: opts.CompletedFrom, CompletedTo: opts.CompletedTo}, asOf)
@@ -109,16 +109,16 @@ func trialsRun(cmd *cobra.Command, opts *trialsOptions) error {
 	if opts.Plot != "" {
 		by := opts.By
 		if by == "" {
-			by = compare.BySponsorClass
+			by = funders.BySponsorClass
 		}
-		fig := plotrender.PostingPlot{AsOf: rep.AsOf, Curves: compare.PostingCurves(rep, by, 0)}
+		fig := plotrender.PostingPlot{AsOf: rep.AsOf, Curves: funders.PostingCurves(rep, by, 0)}
 		if err := plotrender.WritePlot(opts.Plot, fig); err != nil {
 			return err
 		}
 		g.progressf("trials: wrote %s (%d lines, one per %s)", opts.Plot, len(fig.Curves), strings.ReplaceAll(by, "-", " "))
 	}
 	if opts.By != "" {
-		sr := compare.BySponsorTable(rep, opts.By)
+		sr := funders.BySponsorTable(rep, opts.By)
 		return render(g.IO.Out, g.Format, sr, sponsorGrid(sr, rep))
 	}
 	return render(g.IO.Out, g.Format, rep, trialsGrid(rep))

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"strings"
 
-	"unshelved/compare"
+	"unshelved/compare/funders"
 )
 
 var trialsColumns = []string{"trial_id", "title", "sponsor", "sponsor_class", "status", "primary_completion", "results_first_posted",
@@ -26,7 +26,7 @@ func optInt(p *int) string {
 	return fmt.Sprint(*p)
 }
 
-func trialsGrid(rep compare.FunderReport) grid {
+func trialsGrid(rep funders.FunderReport) grid {
 	g := grid{Columns: trialsColumns,
 		Header: []string{"trial", "sponsor", "status", "type / phase", "completion", "results posted", "months", "within 12 mo", "rule", "overdue (mo)", "publication", "enrolment"}}
 	for _, t := range rep.Trials {
@@ -80,9 +80,9 @@ func trialsGrid(rep compare.FunderReport) grid {
 var sponsorColumns = []string{"sponsor", "trials", "completed", "due", "posted_on_time", "posted_late", "overdue", "posted_on_time_share",
 	"overdue_share", "median_months_to_posting", "posted", "publication_linked", "publication_share"}
 
-func sponsorGrid(sr compare.SponsorReport, rep compare.FunderReport) grid {
+func sponsorGrid(sr funders.SponsorReport, rep funders.FunderReport) grid {
 	name := "sponsor"
-	if sr.By == compare.BySponsorClass {
+	if sr.By == funders.BySponsorClass {
 		name = "sponsor class"
 	}
 	g := grid{Columns: sponsorColumns,

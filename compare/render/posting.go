@@ -2,17 +2,16 @@ package render
 
 import (
 	"fmt"
-
-	"unshelved/compare"
+	"unshelved/compare/funders"
 )
 
 // PostingPlot is the funders' figure: for each sponsor or sponsor class,
 // the cumulative share of its due trials with results posted against
-// whole months since primary completion (compare.PostingCurves).
+// whole months since primary completion (funders.PostingCurves).
 type PostingPlot struct {
 	Title  string
 	AsOf   string // the as-of date, shown in the note
-	Curves []compare.PostingCurve
+	Curves []funders.PostingCurve
 }
 
 // postingMaxLines is the most lines drawn; the note names how many more
@@ -31,7 +30,7 @@ var postingLooks = []struct {
 
 const postingLegendRow = 18.0
 
-func (pp PostingPlot) lines() (drawn []compare.PostingCurve, left int) {
+func (pp PostingPlot) lines() (drawn []funders.PostingCurve, left int) {
 	cs := pp.Curves
 	if len(cs) <= postingMaxLines {
 		return cs, 0

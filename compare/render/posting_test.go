@@ -8,14 +8,13 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"unshelved/compare"
+	"unshelved/compare/funders"
 )
 
 func TestPostingPlot(t *testing.T) {
-	// Curves as compare.PostingCurves gives them: shares are Posted/Due.
-	mk := func(label string, due int, posted []int) compare.PostingCurve {
-		c := compare.PostingCurve{Label: label, Due: due, Posted: posted}
+	// Curves as funders.PostingCurves gives them: shares are Posted/Due.
+	mk := func(label string, due int, posted []int) funders.PostingCurve {
+		c := funders.PostingCurve{Label: label, Due: due, Posted: posted}
 		for _, k := range posted {
 			c.Share = append(c.Share, float64(k)/float64(due))
 		}
@@ -32,7 +31,7 @@ func TestPostingPlot(t *testing.T) {
 		}
 		return out
 	}
-	pp := PostingPlot{AsOf: "2026-12-01", Curves: []compare.PostingCurve{
+	pp := PostingPlot{AsOf: "2026-12-01", Curves: []funders.PostingCurve{
 		mk("INDUSTRY", 3, steps(25, map[int]int{12: 2})),
 		mk("OTHER", 1, steps(25, map[int]int{14: 1})),
 	}}
@@ -94,9 +93,9 @@ func TestPostingPlot(t *testing.T) {
 }
 
 func TestPostingPlotKeepsLargestGroups(t *testing.T) {
-	var cs []compare.PostingCurve
+	var cs []funders.PostingCurve
 	for i := 0; i < postingMaxLines+2; i++ {
-		cs = append(cs, compare.PostingCurve{Label: "S" + strconv.Itoa(i), Due: i + 1, Posted: []int{0}, Share: []float64{0}})
+		cs = append(cs, funders.PostingCurve{Label: "S" + strconv.Itoa(i), Due: i + 1, Posted: []int{0}, Share: []float64{0}})
 	}
 	drawn, left := PostingPlot{Curves: cs}.lines()
 	if left != 2 || len(drawn) != postingMaxLines || drawn[0].Label != "S2" {

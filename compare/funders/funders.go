@@ -1,4 +1,4 @@
-package compare
+package funders
 
 import (
 	"fmt"
@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"unshelved/analysis"
 	"unshelved/ingest"
 )
 
@@ -295,7 +296,7 @@ func share(k, n int) *float64 {
 	if n == 0 {
 		return nil
 	}
-	return opt(float64(k) / float64(n))
+	return analysis.FiniteOrNil(float64(k) / float64(n))
 }
 
 // Groupings of the per-sponsor table.
@@ -401,7 +402,7 @@ func BySponsorTable(rep FunderReport, by string) SponsorReport {
 		r.PublicationShare = share(r.PublicationLinked, r.Completed)
 		if m := months[k]; len(m) > 0 {
 			r.Posted = len(m)
-			r.MedianMonthsToPosting = opt(median(m))
+			r.MedianMonthsToPosting = analysis.FiniteOrNil(median(m))
 		}
 		out.Rows = append(out.Rows, *r)
 	}

@@ -1,4 +1,4 @@
-package compare
+package funders
 
 import (
 	"fmt"
@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"unshelved/analysis"
 	"unshelved/ingest"
 )
 
@@ -198,21 +199,21 @@ func TestBySponsorTable(t *testing.T) {
 	want := []SponsorRow{
 		// T1-T5: all completed; due T1, T2, T3; posted T1 12, T2 12, T5 24 months; T1 linked.
 		{Sponsor: "Acme Pharma", Trials: 5, Completed: 5, Due: 3, PostedOnTime: 1, PostedLate: 1, Overdue: 1, Posted: 3, PublicationLinked: 1,
-			OnTimeShare: opt(1.0 / 3), OverdueShare: opt(1.0 / 3), MedianMonthsToPosting: opt(12), PublicationShare: opt(1.0 / 5)},
+			OnTimeShare: analysis.FiniteOrNil(1.0 / 3), OverdueShare: analysis.FiniteOrNil(1.0 / 3), MedianMonthsToPosting: analysis.FiniteOrNil(12), PublicationShare: analysis.FiniteOrNil(1.0 / 5)},
 		// T6-T9: completed T6, T7, T8; due T6 (late), T7 (overdue); posted T6 14 months; T7 linked.
 		{Sponsor: "Uni Hospital", Trials: 4, Completed: 3, Due: 2, PostedOnTime: 0, PostedLate: 1, Overdue: 1, Posted: 1, PublicationLinked: 1,
-			OnTimeShare: opt(0), OverdueShare: opt(0.5), MedianMonthsToPosting: opt(14), PublicationShare: opt(1.0 / 3)},
+			OnTimeShare: analysis.FiniteOrNil(0), OverdueShare: analysis.FiniteOrNil(0.5), MedianMonthsToPosting: analysis.FiniteOrNil(14), PublicationShare: analysis.FiniteOrNil(1.0 / 3)},
 	}
 	checkRows(t, got.Rows, want)
 
 	got = BySponsorTable(rep, BySponsorClass)
 	want = []SponsorRow{
 		{Sponsor: "(not stated)", Trials: 1, Completed: 1, Due: 1, Overdue: 1, PublicationLinked: 1,
-			OnTimeShare: opt(0), OverdueShare: opt(1), PublicationShare: opt(1)},
+			OnTimeShare: analysis.FiniteOrNil(0), OverdueShare: analysis.FiniteOrNil(1), PublicationShare: analysis.FiniteOrNil(1)},
 		{Sponsor: "INDUSTRY", Trials: 5, Completed: 5, Due: 3, PostedOnTime: 1, PostedLate: 1, Overdue: 1, Posted: 3, PublicationLinked: 1,
-			OnTimeShare: opt(1.0 / 3), OverdueShare: opt(1.0 / 3), MedianMonthsToPosting: opt(12), PublicationShare: opt(1.0 / 5)},
+			OnTimeShare: analysis.FiniteOrNil(1.0 / 3), OverdueShare: analysis.FiniteOrNil(1.0 / 3), MedianMonthsToPosting: analysis.FiniteOrNil(12), PublicationShare: analysis.FiniteOrNil(1.0 / 5)},
 		{Sponsor: "OTHER", Trials: 3, Completed: 2, Due: 1, PostedLate: 1, Posted: 1,
-			OnTimeShare: opt(0), OverdueShare: opt(0), MedianMonthsToPosting: opt(14), PublicationShare: opt(0)},
+			OnTimeShare: analysis.FiniteOrNil(0), OverdueShare: analysis.FiniteOrNil(0), MedianMonthsToPosting: analysis.FiniteOrNil(14), PublicationShare: analysis.FiniteOrNil(0)},
 	}
 	checkRows(t, got.Rows, want)
 
@@ -300,4 +301,11 @@ func val[T any](p *T) any {
 		return nil
 	}
 	return *p
+}
+
+func deref(x *float64) any {
+	if x == nil {
+		return nil
+	}
+	return *x
 }
