@@ -40,6 +40,10 @@ type NotLoadedError struct {
 	Problems []error
 }
 
+// Unwrap returns the problems, so that errors.As finds the
+// *ingest.ParseError of a rejected row.
+func (e *NotLoadedError) Unwrap() []error { return e.Problems }
+
 func (e *NotLoadedError) Error() string {
 	msg := "nothing was loaded from " + strings.Join(e.Failed, ", ")
 	if len(e.Clean) > 0 {

@@ -137,6 +137,10 @@ func TestLoadReviewsAllOrNothing(t *testing.T) {
 	if !errors.As(err, &nl) || len(nl.Problems) == 0 || len(nl.Clean) != 1 || nl.Clean[0] != reviewsCSV {
 		t.Fatalf("err = %v, want a *NotLoadedError naming %s as clean", err, reviewsCSV)
 	}
+	var pe *ingest.ParseError
+	if !errors.As(err, &pe) || pe.File != badStudies || pe.Line != 3 || pe.Field == "" {
+		t.Errorf("the refused load's first problem is %#v, want %s line 3 naming its field", pe, badStudies)
+	}
 	studies, err := db.ReviewStudies(ctx, strings.Split(lines[1], ",")[0])
 	if err != nil || len(studies) == 0 {
 		t.Errorf("the earlier studies are gone after a refused load: %d, %v", len(studies), err)
