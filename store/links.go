@@ -31,16 +31,8 @@ func (db *DB) SaveLinks(ctx context.Context, links []ingest.Link) error {
 	if err := db.writable(); err != nil {
 		return err
 	}
-	for _, l := range links {
-		if err := checkFloatPtr("score", l.Score); err != nil {
-			return fmt.Errorf("save links: %s/%s/%d: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
-		}
-		switch l.Decision {
-		case "", "accept", "reject", "accept-duplicate":
-		default:
-			return fmt.Errorf("save links: %s/%s/%d: decision %q is not accept, reject, accept-duplicate or empty",
-				l.ReviewID, l.TrialID, l.OutcomeIndex, l.Decision)
-		}
+	if err := checkLinks(links); err != nil {
+		return err
 	}
 	tx, err := db.write.BeginTx(ctx, nil)
 	if err != nil {
@@ -135,19 +127,45 @@ func (db *DB) SaveLinks(ctx context.Context, links []ingest.Link) error {
 		if _, err := clearGroups.ExecContext(ctx, key...); err != nil {
 			return fmt.Errorf("save link %s/%s/%d: clear groups: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
 		}
-		for _, side := range []struct {
-			role string
-			ids  []string
-		}{{"treat", l.TreatGroups}, {"ctrl", l.CtrlGroups}} {
-			for i, g := range side.ids {
-				if _, err := insertGroup.ExecContext(ctx, l.ReviewID, l.TrialID, l.OutcomeIndex, side.role, i, g); err != nil {
-					return fmt.Errorf("save link %s/%s/%d: group: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
-				}
-			}
+		if err := insertLinkGroups(ctx, insertGroup, l); err != nil {
+			return err
 		}
 	}
 	if err := tx.Commit(); err != nil {
 		return fmt.Errorf("save links: commit: %w", err)
+	}
+	return nil
+}
+
+// checkLinks refuses, before anything is written, a link whose score is not
+// a number or whose decision is not one the links file allows.
+func checkLinks(links []ingest.Link) error {
+	for _, l := range links {
+		if err := checkFloatPtr("score", l.Score); err != nil {
+			return fmt.Errorf("save links: %s/%s/%d: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
+		}
+		switch l.Decision {
+		case "", "accept", "reject", "accept-duplicate":
+		default:
+			return fmt.Errorf("save links: %s/%s/%d: decision %q is not accept, reject, accept-duplicate or empty",
+				l.ReviewID, l.TrialID, l.OutcomeIndex, l.Decision)
+		}
+	}
+	return nil
+}
+
+// insertLinkGroups stores the link's treatment and control group ids in
+// order.
+func insertLinkGroups(ctx context.Context, insertGroup *sql.Stmt, l ingest.Link) error {
+	for _, side := range []struct {
+		role string
+		ids  []string
+	}{{"treat", l.TreatGroups}, {"ctrl", l.CtrlGroups}} {
+		for i, g := range side.ids {
+			if _, err := insertGroup.ExecContext(ctx, l.ReviewID, l.TrialID, l.OutcomeIndex, side.role, i, g); err != nil {
+				return fmt.Errorf("save link %s/%s/%d: group: %w", l.ReviewID, l.TrialID, l.OutcomeIndex, err)
+			}
+		}
 	}
 	return nil
 }

@@ -36,7 +36,6 @@ var tooComplex = map[string]bool{
 	"compare.compareStudyHalfSteps":       true,
 	"compare/internal/corpus.buildTrial":  true,
 	"ingest/fetch/fetchtest.Server.serve": true,
-	"store.DB.SaveLinks":                  true,
 	"store.loadTrials":                    true,
 	"testdata/demo/gen.check":             true,
 	"testdata/demo/gen.checkRecord":       true,
