@@ -1,7 +1,6 @@
 package compare
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -10,7 +9,6 @@ import (
 
 	"unshelved/analysis"
 	"unshelved/ingest"
-	"unshelved/store"
 )
 
 // Random-effects confidence interval methods of Options.CI. The p-value
@@ -811,23 +809,6 @@ func (e *ReviewError) Error() string {
 	return "review " + e.ReviewID + ": " + msg
 }
 func (e *ReviewError) Unwrap() error { return e.Err }
-
-// finishRun records the final status of a run and returns err (or the
-// error of recording it). It uses a fresh context so that a cancelled run
-// is still recorded as cancelled.
-func finishRun(db *store.DB, runID int64, ctx context.Context, err error) error {
-	status := store.RunComplete
-	switch {
-	case err != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) || ctx.Err() != nil):
-		status = store.RunCancelled
-	case err != nil:
-		status = store.RunFailed
-	}
-	if ferr := db.FinishRun(context.WithoutCancel(ctx), runID, status); ferr != nil && err == nil {
-		return ferr
-	}
-	return err
-}
 
 // optionsRecord is Options as stored with a run.
 type optionsRecord struct {

@@ -401,17 +401,6 @@ func funnelLegend(in FunnelInput, f funnelFrame) []legendEntry {
 	return out
 }
 
-func trimZeros(x float64) string {
-	s := fmtFixed(x, 4)
-	for len(s) > 1 && s[len(s)-1] == '0' {
-		s = s[:len(s)-1]
-	}
-	if s[len(s)-1] == '.' {
-		s = s[:len(s)-1]
-	}
-	return s
-}
-
 // drawLegend sets the entries in two columns from (x, y) across width.
 func drawLegend(p painter, entries []legendEntry, x, y, width float64) {
 	p.begin("legend")

@@ -55,7 +55,6 @@ var compareUsesIngest = map[string]string{
 // so the list only shrinks; never add to it.
 var wrongArrows = map[string]bool{
 	"unshelved/compare -> unshelved/ingest":        true,
-	"unshelved/compare -> unshelved/store":         true,
 	"unshelved/compare/render -> unshelved/ingest": true,
 }
 
