@@ -210,13 +210,13 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 		rep.EggerSampleSize = eggerJSON(*b.EggerSampleSize, "n_based")
 	}
 	if b.Begg.Ties != "" || !math.IsNaN(b.Begg.P) && b.Begg.P != 0 {
-		rep.Begg = &BeggJSON{Tau: opt(b.Begg.Tau), Z: opt(b.Begg.Z), P: opt(b.Begg.P), Ties: b.Begg.Ties}
+		rep.Begg = &BeggJSON{Tau: analysis.FiniteOrNil(b.Begg.Tau), Z: analysis.FiniteOrNil(b.Begg.Z), P: analysis.FiniteOrNil(b.Begg.P), Ties: b.Begg.Ties}
 	}
 	if b.TrimFill.Estimator != "" {
 		t := b.TrimFill
 		tf := &TrimFillJSON{K0: t.K0, Side: t.Side, Estimator: t.Estimator,
-			FixedEstimate: opt(t.FixedEstimate), FixedCILow: opt(t.FixedCILow), FixedCIHigh: opt(t.FixedCIHigh),
-			RandomEstimate: opt(t.RandomEstimate), CILow: opt(t.RandomCILow), CIHigh: opt(t.RandomCIHigh),
+			FixedEstimate: analysis.FiniteOrNil(t.FixedEstimate), FixedCILow: analysis.FiniteOrNil(t.FixedCILow), FixedCIHigh: analysis.FiniteOrNil(t.FixedCIHigh),
+			RandomEstimate: analysis.FiniteOrNil(t.RandomEstimate), CILow: analysis.FiniteOrNil(t.RandomCILow), CIHigh: analysis.FiniteOrNil(t.RandomCIHigh),
 			Tau2Method: t.Tau2Method, Filled: []FilledJSON{}}
 		for _, f := range t.Filled {
 			tf.Filled = append(tf.Filled, FilledJSON{Effect: f.Effect, SE: f.SE})
@@ -225,23 +225,23 @@ func BiasFor(studies []StudyEffect, measure string, opts BiasOptions) BiasReport
 	}
 	if b.PETPEESE.Chosen != "" {
 		rep.PET, rep.PEESE = interceptJSON(b.PET), interceptJSON(b.PEESE)
-		rep.PETPEESE = &PETPEESEJSON{Chosen: b.PETPEESE.Chosen, Estimate: opt(b.PETPEESE.Estimate), CILow: opt(b.PETPEESE.CILow), CIHigh: opt(b.PETPEESE.CIHigh)}
+		rep.PETPEESE = &PETPEESEJSON{Chosen: b.PETPEESE.Chosen, Estimate: analysis.FiniteOrNil(b.PETPEESE.Estimate), CILow: analysis.FiniteOrNil(b.PETPEESE.CILow), CIHigh: analysis.FiniteOrNil(b.PETPEESE.CIHigh)}
 	}
 	if s := b.Selection; s != nil {
-		sj := &SelectionJSON{Cutpoints: s.Cutpoints, Estimate: opt(s.Estimate), SE: opt(s.SE), Tau2: opt(s.Tau2),
-			Counts: s.Counts, LRT: opt(s.LRT), LRTDF: s.LRTDF, LRTP: opt(s.LRTP), Converged: s.Converged, Message: s.Message}
+		sj := &SelectionJSON{Cutpoints: s.Cutpoints, Estimate: analysis.FiniteOrNil(s.Estimate), SE: analysis.FiniteOrNil(s.SE), Tau2: analysis.FiniteOrNil(s.Tau2),
+			Counts: s.Counts, LRT: analysis.FiniteOrNil(s.LRT), LRTDF: s.LRTDF, LRTP: analysis.FiniteOrNil(s.LRTP), Converged: s.Converged, Message: s.Message}
 		lo, hi := s.CI(opts.Level)
-		sj.CILow, sj.CIHigh = opt(lo), opt(hi)
+		sj.CILow, sj.CIHigh = analysis.FiniteOrNil(lo), analysis.FiniteOrNil(hi)
 		for i := range s.Weights {
-			sj.Weights = append(sj.Weights, opt(s.Weights[i]))
+			sj.Weights = append(sj.Weights, analysis.FiniteOrNil(s.Weights[i]))
 			if i < len(s.WeightsSE) {
-				sj.WeightsSE = append(sj.WeightsSE, opt(s.WeightsSE[i]))
+				sj.WeightsSE = append(sj.WeightsSE, analysis.FiniteOrNil(s.WeightsSE[i]))
 			}
 		}
 		rep.Selection = sj
 	}
 	f := b.Funnel
-	fj := &FunnelJSON{FixedEstimate: opt(f.FixedEstimate), MaxSE: opt(f.MaxSE), Points: []FunnelPointJSON{}, Contours: []ContourJSON{}, EggerLine: []EggerLineJSON{}}
+	fj := &FunnelJSON{FixedEstimate: analysis.FiniteOrNil(f.FixedEstimate), MaxSE: analysis.FiniteOrNil(f.MaxSE), Points: []FunnelPointJSON{}, Contours: []ContourJSON{}, EggerLine: []EggerLineJSON{}}
 	for i, p := range f.Points {
 		fj.Points = append(fj.Points, FunnelPointJSON{Study: studies[i].Study, Effect: p.Effect, SE: p.SE, Registry: p.Registry})
 	}
@@ -275,13 +275,13 @@ func reviewBias(a ReviewAudit, opts Options) BiasReport {
 }
 
 func eggerJSON(r bias.Regression, x string) *EggerJSON {
-	return &EggerJSON{Bias: opt(r.Bias), BiasSE: opt(r.BiasSE), T: opt(r.T), DF: r.DF, P: opt(r.P),
-		EffectAtSE0: opt(r.EffectAtSE0), EffectAtSE0SE: opt(r.EffectAtSE0SE), EffectAtSE0CILow: opt(r.EffectAtSE0CILow), EffectAtSE0CIHigh: opt(r.EffectAtSE0CIHigh),
-		Dispersion: opt(r.Dispersion), X: x}
+	return &EggerJSON{Bias: analysis.FiniteOrNil(r.Bias), BiasSE: analysis.FiniteOrNil(r.BiasSE), T: analysis.FiniteOrNil(r.T), DF: r.DF, P: analysis.FiniteOrNil(r.P),
+		EffectAtSE0: analysis.FiniteOrNil(r.EffectAtSE0), EffectAtSE0SE: analysis.FiniteOrNil(r.EffectAtSE0SE), EffectAtSE0CILow: analysis.FiniteOrNil(r.EffectAtSE0CILow), EffectAtSE0CIHigh: analysis.FiniteOrNil(r.EffectAtSE0CIHigh),
+		Dispersion: analysis.FiniteOrNil(r.Dispersion), X: x}
 }
 
 func interceptJSON(i bias.Intercept) *InterceptJSON {
-	return &InterceptJSON{Estimate: opt(i.Estimate), SE: opt(i.SE), CILow: opt(i.CILow), CIHigh: opt(i.CIHigh), P: opt(i.P)}
+	return &InterceptJSON{Estimate: analysis.FiniteOrNil(i.Estimate), SE: analysis.FiniteOrNil(i.SE), CILow: analysis.FiniteOrNil(i.CILow), CIHigh: analysis.FiniteOrNil(i.CIHigh), P: analysis.FiniteOrNil(i.P)}
 }
 
 func nonNil(s []string) []string {

@@ -101,7 +101,7 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 		}
 		if ps != nil {
 			d.Study, d.PublishedStudyIn = ps.Study, true
-			d.PublishedEffect = opt(ps.Effect)
+			d.PublishedEffect = analysis.FiniteOrNil(ps.Effect)
 		}
 		if err != nil {
 			var re *RejectError
@@ -113,10 +113,10 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 			out = append(out, d)
 			continue
 		}
-		d.RegistryEffect = opt(e.Effect)
+		d.RegistryEffect = analysis.FiniteOrNil(e.Effect)
 		if ps != nil {
 			diff := e.Effect - ps.Effect
-			d.Difference = opt(diff)
+			d.Difference = analysis.FiniteOrNil(diff)
 			sd := 1.0
 			if !strings.EqualFold(rv.Measure, "SMD") {
 				sd = ps.PooledSD
@@ -125,10 +125,10 @@ func discrepanciesOf(rv ingest.Review, pub []StudyEffect, links []ingest.Link,
 				}
 			}
 			if sd > 0 {
-				d.DifferenceSD = opt(diff / sd)
+				d.DifferenceSD = analysis.FiniteOrNil(diff / sd)
 			}
 			if ps.Effect != 0 {
-				d.RelativePct = opt(100 * diff / math.Abs(ps.Effect))
+				d.RelativePct = analysis.FiniteOrNil(100 * diff / math.Abs(ps.Effect))
 			}
 			d.Flagged = d.DifferenceSD != nil && math.Abs(*d.DifferenceSD) > tol.SDUnits
 			if d.DifferenceSD == nil {
@@ -372,7 +372,7 @@ func ExplainLinkWith(rv ingest.Review, t ingest.Trial, l ingest.Link, hopts Harm
 		}
 		return ex
 	}
-	ex.Effect, ex.SE, ex.ConvertedFrom = opt(e.Effect), opt(e.SE), e.ConvertedFrom
+	ex.Effect, ex.SE, ex.ConvertedFrom = analysis.FiniteOrNil(e.Effect), analysis.FiniteOrNil(e.SE), e.ConvertedFrom
 	if e.Derivations != nil {
 		ex.Derivations = e.Derivations
 	}
@@ -426,7 +426,7 @@ func ExplainTrialInReview(rv ingest.Review, t ingest.Trial, links []ingest.Link,
 		}
 		e, err := RegistryEffectWith(rv, t, l, hopts)
 		if err == nil {
-			c.Effect, c.SE = opt(e.Effect), opt(e.SE)
+			c.Effect, c.SE = analysis.FiniteOrNil(e.Effect), analysis.FiniteOrNil(e.SE)
 		}
 		switch {
 		case strings.EqualFold(l.Decision, "reject"):

@@ -5,6 +5,7 @@ import (
 	"sort"
 	"strings"
 
+	"unshelved/analysis"
 	"unshelved/ingest"
 )
 
@@ -116,7 +117,7 @@ func missingOf(rv ingest.Review, a ReviewAudit, links []ingest.Link, trials map[
 	}
 	m.Randomized += m.Enrollment
 	if m.K > 0 && m.Randomized > 0 {
-		m.Share = opt(float64(m.Enrollment) / float64(m.Randomized))
+		m.Share = analysis.FiniteOrNil(float64(m.Enrollment) / float64(m.Randomized))
 	}
 	if m.K > 0 {
 		m.WhatIf = whatIf(rv, a, m.Trials, opts)
@@ -129,7 +130,7 @@ func whatIf(rv ingest.Review, a ReviewAudit, missing []MissingTrial, opts Option
 	if !strings.EqualFold(rv.Measure, "SMD") {
 		sd = reviewPooledSD(a.Studies, a.KPublished)
 	}
-	w := &WhatIf{SD: opt(sd)}
+	w := &WhatIf{SD: analysis.FiniteOrNil(sd)}
 	if !(sd > 0) {
 		return w
 	}

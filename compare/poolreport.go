@@ -179,15 +179,15 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 	for i, e := range effs {
 		rep.Studies = append(rep.Studies, PoolStudyRow{
 			Study: e.Study, Effect: e.Effect, SE: e.SE, CILow: e.Effect - z*e.SE, CIHigh: e.Effect + z*e.SE,
-			WeightFixed: opt(res.Fixed.Weights[i]), WeightRandom: opt(res.Random.Weights[i]),
+			WeightFixed: analysis.FiniteOrNil(res.Fixed.Weights[i]), WeightRandom: analysis.FiniteOrNil(res.Random.Weights[i]),
 			ConvertedFrom: e.ConvertedFrom, TreatN: e.TreatN, CtrlN: e.CtrlN,
 		})
 	}
 	f := res.Fixed
-	rep.Fixed = PoolFixed{Estimate: opt(f.Estimate), SE: opt(f.SE), CILow: opt(f.CILow), CIHigh: opt(f.CIHigh), Z: opt(f.Z), P: opt(f.P)}
+	rep.Fixed = PoolFixed{Estimate: analysis.FiniteOrNil(f.Estimate), SE: analysis.FiniteOrNil(f.SE), CILow: analysis.FiniteOrNil(f.CILow), CIHigh: analysis.FiniteOrNil(f.CIHigh), Z: analysis.FiniteOrNil(f.Z), P: analysis.FiniteOrNil(f.P)}
 	r := res.Random
-	rep.Heterogeneity = PoolHeterogeneity{Q: opt(res.Het.Q), DF: res.Het.DF, QP: opt(res.Het.QP), I2: opt(res.Het.I2), H2: opt(res.Het.H2),
-		Tau2: opt(r.Tau2), Tau2CILow: opt(r.Tau2CILow), Tau2CIHigh: opt(r.Tau2CIHigh), Tau2Method: string(r.Method)}
+	rep.Heterogeneity = PoolHeterogeneity{Q: analysis.FiniteOrNil(res.Het.Q), DF: res.Het.DF, QP: analysis.FiniteOrNil(res.Het.QP), I2: analysis.FiniteOrNil(res.Het.I2), H2: analysis.FiniteOrNil(res.Het.H2),
+		Tau2: analysis.FiniteOrNil(r.Tau2), Tau2CILow: analysis.FiniteOrNil(r.Tau2CILow), Tau2CIHigh: analysis.FiniteOrNil(r.Tau2CIHigh), Tau2Method: string(r.Method)}
 	few := ci != CIWald && res.K < MinStudiesHKSJ
 	method := ci
 	if few {
@@ -196,20 +196,20 @@ func PoolStudies(studies []ingest.ReviewStudy, opts PoolOptions) (PoolReport, er
 			res.K, plural(res.K, "study", "studies"), MinStudiesHKSJ))
 	}
 	iv := randomInterval(r, res.K, method)
-	rep.Random = PoolRandom{Estimate: opt(r.Estimate), SE: opt(iv.SE), CILow: opt(iv.Low), CIHigh: opt(iv.High), P: opt(iv.P),
+	rep.Random = PoolRandom{Estimate: analysis.FiniteOrNil(r.Estimate), SE: analysis.FiniteOrNil(iv.SE), CILow: analysis.FiniteOrNil(iv.Low), CIHigh: analysis.FiniteOrNil(iv.High), P: analysis.FiniteOrNil(iv.P),
 		CIMethod: iv.Method, FewStudies: few,
-		WaldSE: opt(r.SE), WaldCILow: opt(r.CILow), WaldCIHigh: opt(r.CIHigh), WaldP: opt(r.P),
-		HKSJSE: opt(r.HKSJSE), HKSJCILow: opt(r.HKSJLow), HKSJCIHigh: opt(r.HKSJHigh), HKSJP: opt(r.HKSJP), HKSJScale: opt(r.HKSJScale),
-		PILow: opt(r.PILow), PIHigh: opt(r.PIHigh), Converged: r.Converged}
+		WaldSE: analysis.FiniteOrNil(r.SE), WaldCILow: analysis.FiniteOrNil(r.CILow), WaldCIHigh: analysis.FiniteOrNil(r.CIHigh), WaldP: analysis.FiniteOrNil(r.P),
+		HKSJSE: analysis.FiniteOrNil(r.HKSJSE), HKSJCILow: analysis.FiniteOrNil(r.HKSJLow), HKSJCIHigh: analysis.FiniteOrNil(r.HKSJHigh), HKSJP: analysis.FiniteOrNil(r.HKSJP), HKSJScale: analysis.FiniteOrNil(r.HKSJScale),
+		PILow: analysis.FiniteOrNil(r.PILow), PIHigh: analysis.FiniteOrNil(r.PIHigh), Converged: r.Converged}
 	rep.RandomByMethod = map[string]PoolMethodRow{}
 	for _, m := range []analysis.Tau2Method{analysis.Tau2DL, analysis.Tau2PM, analysis.Tau2REML} {
 		x, _ := res.ByTau2(m)
-		rep.RandomByMethod[string(m)] = PoolMethodRow{Tau2: opt(x.Tau2), Estimate: opt(x.Estimate), SE: opt(x.SE),
-			CILow: opt(x.CILow), CIHigh: opt(x.CIHigh), Converged: x.Converged}
+		rep.RandomByMethod[string(m)] = PoolMethodRow{Tau2: analysis.FiniteOrNil(x.Tau2), Estimate: analysis.FiniteOrNil(x.Estimate), SE: analysis.FiniteOrNil(x.SE),
+			CILow: analysis.FiniteOrNil(x.CILow), CIHigh: analysis.FiniteOrNil(x.CIHigh), Converged: x.Converged}
 	}
 	for _, l := range res.LeaveOneOut {
-		rep.LeaveOneOut = append(rep.LeaveOneOut, PoolLeaveOneOut{Omitted: labels[l.Omitted], Estimate: opt(l.Estimate), SE: opt(l.SE),
-			CILow: opt(l.CILow), CIHigh: opt(l.CIHigh), Tau2: opt(l.Tau2), I2: opt(l.I2)})
+		rep.LeaveOneOut = append(rep.LeaveOneOut, PoolLeaveOneOut{Omitted: labels[l.Omitted], Estimate: analysis.FiniteOrNil(l.Estimate), SE: analysis.FiniteOrNil(l.SE),
+			CILow: analysis.FiniteOrNil(l.CILow), CIHigh: analysis.FiniteOrNil(l.CIHigh), Tau2: analysis.FiniteOrNil(l.Tau2), I2: analysis.FiniteOrNil(l.I2)})
 	}
 	if res.MostInfluential >= 0 {
 		rep.MostInfluential = &labels[res.MostInfluential]

@@ -151,14 +151,14 @@ func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, cla
 	a := o.Analyses[ai]
 	r := &postedReading{cmp: PostedComparison{AnalysisIndex: ai, ParamType: a.ParamType, Method: a.Method, Estimate: a.ParamValue.Value}}
 	if a.CILower.OK && a.CIUpper.OK {
-		r.cmp.CILower, r.cmp.CIUpper = opt(a.CILower.Value), opt(a.CIUpper.Value)
+		r.cmp.CILower, r.cmp.CIUpper = analysis.FiniteOrNil(a.CILower.Value), analysis.FiniteOrNil(a.CIUpper.Value)
 	}
 	if a.CIPct.OK {
-		r.cmp.CILevelPct = opt(a.CIPct.Value)
+		r.cmp.CILevelPct = analysis.FiniteOrNil(a.CIPct.Value)
 	}
 	seKnown := strings.EqualFold(a.DispersionType, "STANDARD_ERROR_OF_MEAN") && a.DispersionValue.OK && a.DispersionValue.Value > 0
 	if seKnown {
-		r.cmp.SEPosted = opt(a.DispersionValue.Value)
+		r.cmp.SEPosted = analysis.FiniteOrNil(a.DispersionValue.Value)
 	}
 	r.paired = pairedText(a)
 	r.treatN, _ = groupN(o, class, tg)
@@ -238,7 +238,7 @@ func readPostedAnalysis(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, cla
 		est = -est
 	}
 	r.effect, r.seEffect = est, seEst
-	r.cmp.Effect, r.cmp.SE = opt(est), opt(seEst)
+	r.cmp.Effect, r.cmp.SE = analysis.FiniteOrNil(est), analysis.FiniteOrNil(seEst)
 	return r
 }
 
@@ -320,9 +320,9 @@ func chooseReading(rv ingest.Review, t ingest.Trial, o *ingest.Outcome, l ingest
 	}
 	cmp := posted.cmp
 	if armsOK {
-		cmp.ArmsEffect, cmp.ArmsSE = opt(armsSE.Effect), opt(armsSE.SE)
+		cmp.ArmsEffect, cmp.ArmsSE = analysis.FiniteOrNil(armsSE.Effect), analysis.FiniteOrNil(armsSE.SE)
 		if posted.refused == "" && posted.seEffect > 0 {
-			cmp.SERatio = opt(armsSE.SE / posted.seEffect)
+			cmp.SERatio = analysis.FiniteOrNil(armsSE.SE / posted.seEffect)
 		}
 	}
 	adjusted, adjWhy := armsAdjusted(o)

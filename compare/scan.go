@@ -8,6 +8,7 @@ import (
 	"sort"
 	"strings"
 
+	"unshelved/analysis"
 	"unshelved/ingest"
 )
 
@@ -359,10 +360,10 @@ func finishScan(res ScanResult, in AuditInput, chosen map[string]ingest.Link, op
 			TreatGroups: l.TreatGroups, CtrlGroups: l.CtrlGroups, Effect: s.Effect, SE: s.SE, N: n, Chosen: l.Reasons})
 	}
 	if nAll > 0 {
-		res.UnlinkedShare = opt(float64(nUnlinked) / float64(nAll))
+		res.UnlinkedShare = analysis.FiniteOrNil(float64(nUnlinked) / float64(nAll))
 	}
 	if len(a.Studies) > 0 {
-		res.LinkedByPMIDRate = opt(float64(withPMID) / float64(len(a.Studies)))
+		res.LinkedByPMIDRate = analysis.FiniteOrNil(float64(withPMID) / float64(len(a.Studies)))
 	}
 	sort.SliceStable(res.Trials, func(i, j int) bool { return res.Trials[i].TrialID < res.Trials[j].TrialID })
 	return res, nil

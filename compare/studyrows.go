@@ -94,7 +94,7 @@ func reWeights(studies []StudyEffect, tau2 *float64) []*float64 {
 		sum += w[i]
 	}
 	for i := range w {
-		out[i] = opt(100 * w[i] / sum)
+		out[i] = analysis.FiniteOrNil(100 * w[i] / sum)
 	}
 	return out
 }

@@ -50,16 +50,16 @@ func subgroupOf(pub, reg []StudyEffect, opts Options) Subgroup {
 	muP, seP, tauP, okP := poolSubgroup(pub, opts.tau2())
 	muR, seR, tauR, okR := poolSubgroup(reg, opts.tau2())
 	if okP {
-		sg.PublishedEstimate, sg.PublishedSE, sg.PublishedTau2 = opt(muP), opt(seP), opt(tauP)
+		sg.PublishedEstimate, sg.PublishedSE, sg.PublishedTau2 = analysis.FiniteOrNil(muP), analysis.FiniteOrNil(seP), analysis.FiniteOrNil(tauP)
 	}
 	if okR {
-		sg.RegistryEstimate, sg.RegistrySE, sg.RegistryTau2 = opt(muR), opt(seR), opt(tauR)
+		sg.RegistryEstimate, sg.RegistrySE, sg.RegistryTau2 = analysis.FiniteOrNil(muR), analysis.FiniteOrNil(seR), analysis.FiniteOrNil(tauR)
 	}
 	if !okP || !okR {
 		return sg
 	}
 	d, se, lo, hi, q, p := subgroupTest(muP, seP, muR, seR, opts.level())
-	sg.Difference, sg.SE, sg.CILow, sg.CIHigh, sg.QBetween, sg.P = opt(d), opt(se), opt(lo), opt(hi), opt(q), opt(p)
+	sg.Difference, sg.SE, sg.CILow, sg.CIHigh, sg.QBetween, sg.P = analysis.FiniteOrNil(d), analysis.FiniteOrNil(se), analysis.FiniteOrNil(lo), analysis.FiniteOrNil(hi), analysis.FiniteOrNil(q), analysis.FiniteOrNil(p)
 	return sg
 }
 

@@ -238,7 +238,7 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 		if d == 0 {
 			return nil
 		}
-		return opt(float64(n) / float64(d))
+		return analysis.FiniteOrNil(float64(n) / float64(d))
 	}
 	s.ConclusionChangedShare, s.SignificanceChangedShare = share(concl, known), share(sig, len(audits))
 	s.DirectionChangedShare, s.MIDCrossedShare = share(dir, len(audits)), share(mid, len(audits))
@@ -251,8 +251,8 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 			sum += x
 		}
 		d := &s.OverstatementSD
-		d.Median, d.Q1, d.Q3 = opt(quantile7(over, 0.5)), opt(quantile7(over, 0.25)), opt(quantile7(over, 0.75))
-		d.Mean = opt(sum / float64(len(over)))
+		d.Median, d.Q1, d.Q3 = analysis.FiniteOrNil(quantile7(over, 0.5)), analysis.FiniteOrNil(quantile7(over, 0.25)), analysis.FiniteOrNil(quantile7(over, 0.75))
+		d.Mean = analysis.FiniteOrNil(sum / float64(len(over)))
 		d.SharePositive = share(positive, len(over))
 	}
 
@@ -266,8 +266,8 @@ func Summarize(audits []ReviewAudit, opts SummaryOptions) Summary {
 			r := res.Random
 			p := &s.PooledOverstatementSD
 			iv := randomInterval(r, len(diffs), o.CI)
-			p.Estimate, p.SE, p.CILow, p.CIHigh, p.CIMethod = opt(r.Estimate), opt(iv.SE), opt(iv.Low), opt(iv.High), iv.Method
-			p.Tau2, p.I2, p.Q, p.QP, p.PILow, p.PIHigh = opt(r.Tau2), opt(res.Het.I2), opt(res.Het.Q), opt(res.Het.QP), opt(r.PILow), opt(r.PIHigh)
+			p.Estimate, p.SE, p.CILow, p.CIHigh, p.CIMethod = analysis.FiniteOrNil(r.Estimate), analysis.FiniteOrNil(iv.SE), analysis.FiniteOrNil(iv.Low), analysis.FiniteOrNil(iv.High), iv.Method
+			p.Tau2, p.I2, p.Q, p.QP, p.PILow, p.PIHigh = analysis.FiniteOrNil(r.Tau2), analysis.FiniteOrNil(res.Het.I2), analysis.FiniteOrNil(res.Het.Q), analysis.FiniteOrNil(res.Het.QP), analysis.FiniteOrNil(r.PILow), analysis.FiniteOrNil(r.PIHigh)
 			s.Warnings = append(s.Warnings, prefixed("pooled overstatement across reviews: ", reviewsNotStudies(res.Warnings))...)
 		}
 	}
@@ -409,11 +409,11 @@ func detections(audits []ReviewAudit, o SummaryOptions) []Detection {
 			}
 			if n := det.TP + det.FN; n > 0 {
 				est, lo, hi := analysis.Wilson(det.TP, n, analysis.DefaultLevel)
-				det.Sensitivity, det.SensitivityCILow, det.SensitivityCIHigh = opt(est), opt(lo), opt(hi)
+				det.Sensitivity, det.SensitivityCILow, det.SensitivityCIHigh = analysis.FiniteOrNil(est), analysis.FiniteOrNil(lo), analysis.FiniteOrNil(hi)
 			}
 			if n := det.TN + det.FP; n > 0 {
 				est, lo, hi := analysis.Wilson(det.TN, n, analysis.DefaultLevel)
-				det.Specificity, det.SpecificityCILow, det.SpecificityCIHigh = opt(est), opt(lo), opt(hi)
+				det.Specificity, det.SpecificityCILow, det.SpecificityCIHigh = analysis.FiniteOrNil(est), analysis.FiniteOrNil(lo), analysis.FiniteOrNil(hi)
 			}
 			out = append(out, det)
 		}
@@ -462,7 +462,7 @@ func adjustedErrors(audits []ReviewAudit) []AdjustedError {
 			e.N++
 		}
 		if e.N > 0 {
-			e.MeanError, e.RMSE = opt(sum/float64(e.N)), opt(math.Sqrt(sum2/float64(e.N)))
+			e.MeanError, e.RMSE = analysis.FiniteOrNil(sum/float64(e.N)), analysis.FiniteOrNil(math.Sqrt(sum2/float64(e.N)))
 		}
 		out = append(out, e)
 	}
